@@ -1,0 +1,55 @@
+# tamis: the two commands a newcomer needs are `make run` and `make test`.
+# Both install what they need (Debian packages, Python packages in .venv, npm
+# packages in node_modules) from the package registries, and nothing else.
+
+PYTHON ?= python3
+VENV   := .venv
+PY     := $(VENV)/bin/python
+PORT   ?= 8765
+HOST   ?= 127.0.0.1
+export PIP_DISABLE_PIP_VERSION_CHECK := 1
+
+.PHONY: setup system build run test test-core test-pyodide test-e2e bench screenshots clean
+
+## setup: Debian packages, the Python virtual environment and npm packages
+setup: system $(VENV)/.stamp node_modules/.stamp
+
+system:
+	@bash scripts/system-deps.sh
+
+$(VENV)/.stamp: pyproject.toml
+	$(PYTHON) -m venv $(VENV)
+	$(PY) -m pip install -q --upgrade pip
+	$(PY) -m pip install -q -e '.[test]'
+	@touch $@
+
+node_modules/.stamp: package.json package-lock.json
+	npm ci --no-audit --no-fund --loglevel=error
+	@touch $@
+
+## build: lay out webapp/ as the whole static site (Pyodide, wheels, manifest)
+build: setup
+	$(PY) scripts/build_webapp.py
+
+## run: build, then serve the app on http://$(HOST):$(PORT)/
+run: build
+	$(PY) scripts/serve.py --host $(HOST) --port $(PORT)
+
+## test: everything: core on CPython, golden files in Pyodide, the app in chromium
+test: build test-core test-pyodide test-e2e
+
+test-core: setup
+	$(PY) -m pytest -q tests
+
+test-pyodide: build
+	node tests/pyodide/replay_golden.mjs
+
+test-e2e: build
+	$(PY) -m pytest -q -p no:cacheprovider e2e
+
+## bench: performance figures (printed, never asserted)
+bench: build
+	$(PY) bench/run_all.py
+
+clean:
+	rm -rf $(VENV) node_modules webapp/vendor build dist pycore/*.egg-info

@@ -1,0 +1,135 @@
+"""The JSON boundary: ``handle(request_json: str) -> str``.
+
+This is the only entry point the web worker, the command line and the golden
+tests use. A request and a response are JSON *strings*; see
+``docs/json-contract.md`` for the schema.
+
+Request::
+
+    {"schema": 1, "op": "gradation", "id": 7, ...}
+
+Response::
+
+    {"schema": 1, "id": 7, "ok": true, "core_version": "0.1.0",
+     "result": {...}, "findings": [...]}
+
+or, for bad input::
+
+    {"schema": 1, "id": 7, "ok": false,
+     "error": {"code": "negative_mass", "message": "...", "field": "test.sieves[2].retained_g"}}
+
+The output never holds NaN or Infinity (``allow_nan=False``); an undefined
+quantity is ``null`` with a finding that says why.
+"""
+
+from __future__ import annotations
+
+import importlib
+import json
+import math
+
+from . import __version__
+from .errors import InputError
+from .findings import Finding
+
+SCHEMA = 1
+
+#: op name -> "module:function". Each function takes the request dict and
+#: returns ``(result_dict, findings_list)``; modules are imported on first use.
+OPS: dict[str, str] = {
+    "version": "tamis.api:op_version",
+    "gradation": "tamis.evaluation:op_gradation",
+    "evaluate": "tamis.evaluation:op_evaluate",
+    "zones": "tamis.zones:op_zones",
+    "design_band": "tamis.zones:op_design_band",
+    "sieve_presets": "tamis.sieves:op_presets",
+    "band_presets": "tamis.bands:op_presets",
+    "records_export_csv": "tamis.records:op_export_csv",
+    "records_import_csv": "tamis.records:op_import_csv",
+    "records_merge": "tamis.records:op_merge",
+}
+
+
+def op_version(request: dict):
+    return {"core_version": __version__, "schema": SCHEMA, "ops": sorted(OPS)}, []
+
+
+def _resolve(op: str):
+    target = OPS[op]
+    mod_name, func_name = target.split(":")
+    return getattr(importlib.import_module(mod_name), func_name)
+
+
+def _reject_constant(name: str):
+    raise InputError("not_finite", f"{name} is not a valid JSON number; use a finite number.", "")
+
+
+def _dumps(obj) -> str:
+    return json.dumps(obj, allow_nan=False, ensure_ascii=True, separators=(",", ":"))
+
+
+def _error(req_id, err: InputError) -> str:
+    return _dumps({"schema": SCHEMA, "id": req_id, "ok": False, "error": err.to_dict()})
+
+
+def _scrub(obj):
+    """Replace any non-finite float by None (a last guard; ops should not make them)."""
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else None
+    if isinstance(obj, dict):
+        return {k: _scrub(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_scrub(v) for v in obj]
+    return obj
+
+
+def handle_dict(request) -> dict:
+    """Handle an already-parsed request; returns the response as a dict."""
+    return json.loads(handle(request if isinstance(request, str) else _dumps(request)))
+
+
+def handle(request_json: str) -> str:
+    """Answer one JSON request string with one JSON response string.
+
+    Never raises for bad input: malformed JSON, an unknown op, missing or
+    non-numeric fields, NaN, negative masses... all come back as
+    ``{"ok": false, "error": {"code", "message", "field"}}``.
+    """
+    req_id = None
+    try:
+        if not isinstance(request_json, str):
+            raise InputError("not_a_string", "The request must be a JSON string.", "")
+        try:
+            req = json.loads(request_json, parse_constant=_reject_constant)
+        except InputError:
+            raise
+        except (ValueError, RecursionError) as exc:
+            raise InputError("bad_json", f"The request is not valid JSON: {exc}.", "") from None
+        if not isinstance(req, dict):
+            raise InputError("not_an_object", "The request must be a JSON object.", "")
+        req_id = req.get("id")
+        if isinstance(req_id, (dict, list)):
+            req_id = None
+            raise InputError("bad_id", "id must be a string, a number or null.", "id")
+        schema = req.get("schema", SCHEMA)
+        if schema != SCHEMA or isinstance(schema, bool):
+            raise InputError("unsupported_schema", f"schema must be {SCHEMA}; got {schema!r}.", "schema")
+        op = req.get("op")
+        if not isinstance(op, str) or op not in OPS:
+            raise InputError("unknown_op", f"op must be one of {', '.join(sorted(OPS))}; got {op!r}.", "op")
+        result, findings = _resolve(op)(req)
+        out = {
+            "schema": SCHEMA,
+            "id": req_id,
+            "ok": True,
+            "core_version": __version__,
+            "result": result,
+            "findings": [f.to_dict() if isinstance(f, Finding) else f for f in findings],
+        }
+        return _dumps(_scrub(out))
+    except InputError as err:
+        return _error(req_id, err)
+    except Exception as exc:  # a defect in the core: say so, never a traceback
+        return _error(req_id, InputError("internal_error",
+                                         f"tamis could not compute this request ({type(exc).__name__}: {exc}). "
+                                         "Please report it with the input.", ""))

@@ -1,0 +1,107 @@
+"""Command line: ``python -m tamis COMMAND ...``.
+
+JSON commands (``gradation``, ``evaluate``, ``zones``, ``design_band``) read a
+request from a file or standard input, pass it through :func:`tamis.api.handle`
+(the same function the web app calls) and print the JSON response, or a table
+with ``--table``. They exit with status 2 when the input is invalid.
+
+Office commands (``merge``, ``report``, ``check``) work on the CSV exchange
+files (:mod:`tamis.office`); ``demo`` prints a tour of the demo project.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import json
+import sys
+
+from . import SCREENING_NOTICE, __version__
+from . import api
+
+JSON_COMMANDS = {
+    "gradation": "masses or percent passing of one test -> gradation and lab QA checks",
+    "evaluate": "a sample (and optionally its base soil and band) -> checks and verdict",
+    "zones": "a zone sequence, finest (core) to coarsest (shell) -> one verdict per interface",
+    "design_band": "base soils -> the band a filter must fall in, step by step",
+}
+
+#: command -> ("module", "help"); each module has ``add_arguments(parser)`` and ``run(args) -> int``.
+OTHER_COMMANDS = {
+    "merge": ("tamis.office", "merge CSV exchange files from several devices into one"),
+    "report": ("tamis.office", "recompute every verdict in a CSV file and print a summary"),
+    "check": ("tamis.office", "validate a CSV exchange file without writing anything"),
+    "demo": ("tamis.demo", "a short tour of the demo project"),
+}
+
+
+def _read(path: str) -> str:
+    if path == "-":
+        return sys.stdin.read()
+    with open(path, encoding="utf-8") as fh:
+        return fh.read()
+
+
+def build_request(command: str, text: str) -> str:
+    """Turn file content into a request for ``command``.
+
+    The file may hold a whole request (with ``"op"``), or only its fields
+    (``{"test": ...}``, ``{"sample": ..., "base": ...}``); for ``gradation`` a bare
+    test object (with ``sieves`` or ``passing``) is accepted too.
+    """
+    try:
+        obj = json.loads(text)
+    except ValueError:
+        return text  # let the API report the JSON error the same way it does for the app
+    if not isinstance(obj, dict):
+        return text
+    if "op" in obj:
+        return text  # a whole request: passed on as it is
+    if command == "gradation" and "test" not in obj and ("sieves" in obj or "passing" in obj):
+        obj = {"test": obj}
+    return json.dumps({"schema": api.SCHEMA, "op": command, "id": None, **obj})
+
+
+def _run_json(command: str, args) -> int:
+    response = api.handle(build_request(command, _read(args.file)))
+    if args.table:
+        from .tables import render
+        print(render(command, json.loads(response)))
+    else:
+        print(response if args.compact else json.dumps(json.loads(response), indent=2))
+    resp = json.loads(response)
+    if not resp.get("ok"):
+        err = resp.get("error", {})
+        print(f"error: {err.get('field') or 'request'}: {err.get('message')}", file=sys.stderr)
+        return 2
+    return 0
+
+
+def make_parser() -> argparse.ArgumentParser:
+    p = argparse.ArgumentParser(prog="python -m tamis",
+                                description="tamis: sieve tests and filter checks. " + SCREENING_NOTICE)
+    p.add_argument("--version", action="version", version=f"tamis {__version__}")
+    sub = p.add_subparsers(dest="command", required=True)
+    for name, help_text in JSON_COMMANDS.items():
+        sp = sub.add_parser(name, help=help_text, description=help_text)
+        sp.add_argument("file", help="JSON file, or - for standard input")
+        sp.add_argument("--table", action="store_true", help="print a table for people instead of JSON")
+        sp.add_argument("--compact", action="store_true", help="print the JSON on one line")
+    for name, (mod, help_text) in OTHER_COMMANDS.items():
+        sp = sub.add_parser(name, help=help_text, description=help_text)
+        try:
+            importlib.import_module(mod).add_arguments(name, sp)
+        except ModuleNotFoundError:
+            sp.set_defaults(_missing=mod)
+    return p
+
+
+def main(argv=None) -> int:
+    args = make_parser().parse_args(argv)
+    if args.command in JSON_COMMANDS:
+        return _run_json(args.command, args)
+    if getattr(args, "_missing", None):
+        print(f"error: {args.command} is not available in this build", file=sys.stderr)
+        return 2
+    mod = importlib.import_module(OTHER_COMMANDS[args.command][0])
+    return mod.run(args.command, args)

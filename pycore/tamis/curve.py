@@ -1,0 +1,303 @@
+"""A gradation curve: percent passing against particle size.
+
+The curve is a list of measured points (sieve opening [mm], percent passing
+[%]). Between points it is read by log-linear interpolation: linear in
+percent, logarithmic in size, which is the straight line between two points on
+the usual semi-log gradation chart. Outside the measured points nothing is
+extrapolated: a D-value that the points do not bracket is ``None``.
+
+References
+----------
+- D-value interpolation on the semi-log plot: common practice (see
+  ``docs/methods.md``); the formula is
+  ``D_x = d_s * (d_l / d_s) ** ((x - P_s) / (P_l - P_s))``.
+- Cu = D60/D10 and Cc = D30**2 / (D10 * D60): ASTM D2487 (coefficient of
+  uniformity and of curvature).
+- Gravel / sand / fines limits 75 mm, 4.75 mm, 0.075 mm: ASTM D2487 (USCS).
+- Fineness modulus: ASTM C125 (definition of terms), the sum of cumulative
+  percentages retained on 150 um, 300 um, 600 um, 1.18, 2.36, 4.75, 9.5, 19.0,
+  37.5, 75 and 150 mm, divided by 100.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from .errors import InputError, join
+
+#: Relative tolerance for treating two openings as the same sieve.
+SAME_SIEVE_RTOL = 1e-6
+
+#: D-values reported by default [%].
+STANDARD_D_PCTS = (5, 10, 15, 20, 30, 50, 60, 85, 90, 95)
+
+#: Size limits of the USCS fractions [mm] (ASTM D2487).
+COBBLE_MM = 75.0
+GRAVEL_SAND_MM = 4.75
+SAND_FINES_MM = 0.075
+
+#: ASTM C125 sieves for the fineness modulus [mm].
+FM_SIEVES_MM = (150.0, 75.0, 37.5, 19.0, 9.5, 4.75, 2.36, 1.18, 0.6, 0.3, 0.15)
+
+
+def same_size(a_mm: float, b_mm: float) -> bool:
+    """True when two openings [mm] denote the same sieve."""
+    return abs(a_mm - b_mm) <= SAME_SIEVE_RTOL * max(a_mm, b_mm)
+
+
+@dataclass(frozen=True)
+class Curve:
+    """Measured points of a gradation, coarsest first.
+
+    Attributes
+    ----------
+    points : tuple of (opening_mm, passing_pct)
+        Sieve opening [mm], strictly decreasing; percent passing [%],
+        non-increasing along the tuple (it never rises as sizes fall).
+    """
+
+    points: tuple[tuple[float, float], ...]
+
+    @property
+    def coarsest_mm(self) -> float:
+        return self.points[0][0]
+
+    @property
+    def finest_mm(self) -> float:
+        return self.points[-1][0]
+
+    def to_points(self) -> list[dict]:
+        return [{"opening_mm": d, "passing_pct": p} for d, p in self.points]
+
+
+def make_curve(points, path: str = "passing") -> Curve:
+    """Build a :class:`Curve` from ``(opening_mm, passing_pct)`` pairs in any order.
+
+    Parameters
+    ----------
+    points : iterable of (float, float)
+        Opening [mm] > 0 and percent passing [%] in 0..100, in entry order.
+    path : str
+        Field path of the list, used in error messages (``passing[2].opening_mm``).
+
+    Raises
+    ------
+    InputError
+        Fewer than two points, a non-positive opening, a percentage outside
+        0..100, two points at the same opening, or a percentage that rises as
+        sizes fall.
+    """
+    pts = [(float(d), float(p), i) for i, (d, p) in enumerate(points)]
+    if len(pts) < 2:
+        raise InputError("too_few_points", f"{path} needs at least two sieves to make a curve.", path)
+    for d, p, i in pts:
+        if not (math.isfinite(d) and d > 0):
+            raise InputError("bad_opening", f"{join(join(path, i), 'opening_mm')} must be a positive size in mm.",
+                             join(join(path, i), "opening_mm"))
+        if not (math.isfinite(p) and 0.0 <= p <= 100.0):
+            raise InputError("passing_out_of_range",
+                             f"{join(join(path, i), 'passing_pct')} must lie between 0 and 100 %, got {p:g}.",
+                             join(join(path, i), "passing_pct"))
+    pts.sort(key=lambda t: -t[0])
+    for (d1, p1, i1), (d2, p2, i2) in zip(pts, pts[1:]):
+        if same_size(d1, d2):
+            raise InputError("duplicate_opening",
+                             f"{join(join(path, i2), 'opening_mm')} repeats the opening {d2:g} mm "
+                             f"of {join(path, i1)}.", join(join(path, i2), "opening_mm"))
+        if p2 > p1:
+            raise InputError("passing_rises",
+                             f"{join(join(path, i2), 'passing_pct')} = {p2:g} % at {d2:g} mm is more than "
+                             f"{p1:g} % at the coarser {d1:g} mm; percent passing cannot rise as sizes fall.",
+                             join(join(path, i2), "passing_pct"))
+    return Curve(tuple((d, p) for d, p, _ in pts))
+
+
+def _log_interp_size(x: float, d_l: float, p_l: float, d_s: float, p_s: float) -> float:
+    """Size at ``x`` % between (d_s, p_s) below and (d_l, p_l) above, log-linear."""
+    t = (x - p_s) / (p_l - p_s)
+    return math.exp(math.log(d_s) + t * (math.log(d_l) - math.log(d_s)))
+
+
+def size_at(curve: Curve, pct: float) -> float | None:
+    """Particle size [mm] at ``pct`` percent passing (D-value), or ``None``.
+
+    Scans from coarse to fine and uses the first pair of adjacent points that
+    brackets ``pct``, skipping flat segments. So D100 is the finest sieve that
+    still passes 100 %. Returns ``None`` when ``pct`` lies above the coarsest
+    or below the finest measured percentage: never extrapolated.
+
+    Parameters
+    ----------
+    curve : Curve
+    pct : float
+        Percent passing [%], 0..100.
+
+    Returns
+    -------
+    float or None
+        Size [mm].
+
+    Examples
+    --------
+    >>> c = make_curve([(2.0, 80.0), (0.2, 20.0)])
+    >>> round(size_at(c, 50.0), 6)   # geometric mean of 2.0 and 0.2
+    0.632456
+    """
+    pts = curve.points
+    for (d_l, p_l), (d_s, p_s) in zip(pts, pts[1:]):
+        if p_l == p_s:
+            continue
+        if p_s <= pct <= p_l:
+            return _log_interp_size(pct, d_l, p_l, d_s, p_s)
+    if len(pts) and all(p == pts[0][1] for _, p in pts) and pts[0][1] == pct:
+        return pts[-1][0]
+    return None
+
+
+def passing_at(curve: Curve, size_mm: float) -> float | None:
+    """Percent passing [%] at ``size_mm`` [mm], log-linear between points.
+
+    Above the coarsest sieve the answer is 100 % only if that sieve already
+    passes 100 %; below the finest it is 0 % only if that sieve passes 0 %.
+    Otherwise the size lies outside the measured range and the answer is
+    ``None``.
+    """
+    if size_mm <= 0 or not math.isfinite(size_mm):
+        return None
+    pts = curve.points
+    d0, p0 = pts[0]
+    if size_mm > d0 or same_size(size_mm, d0):
+        if same_size(size_mm, d0):
+            return p0
+        return 100.0 if p0 >= 100.0 else None
+    dn, pn = pts[-1]
+    if size_mm < dn or same_size(size_mm, dn):
+        if same_size(size_mm, dn):
+            return pn
+        return 0.0 if pn <= 0.0 else None
+    for (d_l, p_l), (d_s, p_s) in zip(pts, pts[1:]):
+        if same_size(size_mm, d_s):
+            return p_s
+        if d_s < size_mm < d_l:
+            t = (math.log(size_mm) - math.log(d_s)) / (math.log(d_l) - math.log(d_s))
+            return p_s + t * (p_l - p_s)
+    return None  # pragma: no cover - unreachable with a valid curve
+
+
+def d_values(curve: Curve, pcts=STANDARD_D_PCTS) -> dict[str, float | None]:
+    """``{"D10": size_mm or None, ...}`` for each percentage in ``pcts``."""
+    return {f"D{p:g}": size_at(curve, float(p)) for p in pcts}
+
+
+def coefficient_of_uniformity(d60_mm: float | None, d10_mm: float | None) -> float | None:
+    """Cu = D60 / D10 [-] (ASTM D2487); ``None`` when either is unknown."""
+    if d60_mm is None or d10_mm is None or d10_mm <= 0:
+        return None
+    return d60_mm / d10_mm
+
+
+def coefficient_of_curvature(d30_mm: float | None, d10_mm: float | None,
+                             d60_mm: float | None) -> float | None:
+    """Cc = D30**2 / (D10 * D60) [-] (ASTM D2487); ``None`` when any is unknown."""
+    if d30_mm is None or d10_mm is None or d60_mm is None or d10_mm <= 0 or d60_mm <= 0:
+        return None
+    return d30_mm * d30_mm / (d10_mm * d60_mm)
+
+
+@dataclass(frozen=True)
+class Fractions:
+    """Mass fractions of the whole sample [%] (ASTM D2487 size limits).
+
+    Each is ``None`` when the curve does not reach the size limit it needs.
+    """
+
+    cobbles_pct: float | None
+    gravel_pct: float | None
+    sand_pct: float | None
+    fines_pct: float | None
+
+
+def fractions(curve: Curve) -> Fractions:
+    """Cobbles (> 75 mm), gravel (75-4.75 mm), sand (4.75-0.075 mm) and fines
+    (< 0.075 mm) as percent of the whole sample [%]."""
+    p75 = passing_at(curve, COBBLE_MM)
+    p475 = passing_at(curve, GRAVEL_SAND_MM)
+    p0075 = passing_at(curve, SAND_FINES_MM)
+    cobbles = None if p75 is None else 100.0 - p75
+    gravel = None if (p75 is None or p475 is None) else p75 - p475
+    sand = None if (p475 is None or p0075 is None) else p475 - p0075
+    return Fractions(cobbles, gravel, sand, p0075)
+
+
+@dataclass(frozen=True)
+class Regraded:
+    """A curve regraded on one sieve: sizes above it removed, the rest scaled.
+
+    Attributes
+    ----------
+    curve : Curve
+        Regraded points; the regrading sieve passes 100 %.
+    on_mm : float
+        Regrading sieve [mm].
+    factor : float
+        Correction factor CF = 100 / P(on_mm) [-].
+    passing_on_pct : float
+        P(on_mm) of the original curve [%].
+    """
+
+    curve: Curve
+    on_mm: float
+    factor: float
+    passing_on_pct: float
+
+
+def regrade(curve: Curve, on_mm: float = GRAVEL_SAND_MM) -> Regraded | None:
+    """Regrade ``curve`` on the ``on_mm`` sieve: drop coarser sizes and scale
+    P'(d) = P(d) * 100 / P(on_mm) for d <= on_mm.
+
+    Returns ``None`` when P(on_mm) is unknown (the sieve lies outside the
+    measured range) or zero (nothing passes it, so nothing is left to regrade).
+    If ``on_mm`` is not one of the measured sieves its percentage is read from
+    the curve by the same log-linear interpolation.
+
+    References
+    ----------
+    Regrading on the No. 4 (4.75 mm) sieve before the base-soil category is
+    found: USDA NRCS NEH Part 633 Ch. 26 (1994), design step 3 (from memory;
+    see ``docs/criteria.md`` for provenance).
+    """
+    p_on = passing_at(curve, on_mm)
+    if p_on is None or p_on <= 0.0:
+        return None
+    cf = 100.0 / p_on
+    pts = [(on_mm, 100.0)]
+    for d, p in curve.points:
+        if d < on_mm and not same_size(d, on_mm):
+            # p <= p_on on a valid curve; min() only absorbs float rounding of p * cf.
+            pts.append((d, min(100.0, p * cf)))
+    if len(pts) < 2:
+        return None
+    return Regraded(Curve(tuple(pts)), on_mm, cf, p_on)
+
+
+def fineness_modulus(curve: Curve) -> float | None:
+    """Fineness modulus [-] per ASTM C125: the sum of the cumulative percentages
+    retained on the C125 sieves (150 um to 150 mm), divided by 100.
+
+    Every C125 sieve finer than the coarsest measured sieve must have been
+    measured (no interpolation: the modulus is defined on actual sieves).
+    Sieves coarser than the coarsest one retain nothing only if that sieve
+    passes 100 %; otherwise the modulus is ``None``.
+    """
+    total = 0.0
+    measured = {d: p for d, p in curve.points}
+    for s in FM_SIEVES_MM:
+        hit = next((p for d, p in measured.items() if same_size(d, s)), None)
+        if hit is None:
+            if s > curve.coarsest_mm and curve.points[0][1] >= 100.0:
+                hit = 100.0
+            else:
+                return None
+        total += 100.0 - hit
+    return total / 100.0

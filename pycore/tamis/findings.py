@@ -1,0 +1,112 @@
+"""Checks and findings: the plain data every verdict is made of.
+
+A :class:`Check` is one rule applied to one material (``filter.retention``,
+``qa.mass_balance``...). A :class:`Finding` is a remark that is not a rule
+outcome: a warning that an input lies outside a method's stated range, or a
+note. Both serialise to the dicts of the JSON contract (see
+``docs/json-contract.md``).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Iterable
+
+PASS = "pass"
+FAIL = "fail"
+WARN = "warn"
+NOT_APPLICABLE = "not_applicable"
+NEEDS_DATA = "needs_data"
+STATUSES = (PASS, FAIL, WARN, NOT_APPLICABLE, NEEDS_DATA)
+
+ACCEPT = "accept"
+REJECT = "reject"
+REVIEW = "review"
+
+
+def _finite_or_none(x: float | None) -> float | None:
+    if x is None:
+        return None
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+@dataclass(frozen=True)
+class Check:
+    """The outcome of one rule.
+
+    ``value`` and ``limit`` are unrounded; the UI rounds for display only, so a
+    comparison is never decided by a rounded figure.
+    """
+
+    id: str
+    status: str
+    message: str
+    value: float | None = None
+    limit: float | None = None
+    relation: str | None = None
+    unit: str = ""
+    source: str = ""
+    extra: dict = field(default_factory=dict)
+
+    def __post_init__(self) -> None:
+        if self.status not in STATUSES:
+            raise ValueError(f"unknown check status {self.status!r}")
+
+    def to_dict(self) -> dict:
+        d = {
+            "id": self.id,
+            "status": self.status,
+            "value": _finite_or_none(self.value),
+            "limit": _finite_or_none(self.limit),
+            "relation": self.relation,
+            "unit": self.unit,
+            "source": self.source,
+            "message": self.message,
+        }
+        for k, v in self.extra.items():
+            d.setdefault(k, v)
+        return d
+
+
+@dataclass(frozen=True)
+class Finding:
+    """A warning or a note attached to a result (never a rule outcome)."""
+
+    level: str  # "warning" | "note"
+    code: str
+    message: str
+    field: str = ""
+    source: str = ""
+
+    def to_dict(self) -> dict:
+        return {"level": self.level, "code": self.code, "message": self.message,
+                "field": self.field, "source": self.source}
+
+
+def compare(value: float, relation: str, limit: float) -> bool:
+    """True when ``value relation limit`` holds, on unrounded numbers."""
+    if relation == "<=":
+        return value <= limit
+    if relation == "<":
+        return value < limit
+    if relation == ">=":
+        return value >= limit
+    if relation == ">":
+        return value > limit
+    raise ValueError(f"unknown relation {relation!r}")
+
+
+def verdict(checks: Iterable[Check]) -> str:
+    """``reject`` if any check fails, ``review`` if any warns or lacks data,
+    else ``accept``. Checks that do not apply are ignored; with no applicable
+    check at all the verdict is ``review`` (nothing was shown to pass)."""
+    statuses = [c.status for c in checks]
+    if FAIL in statuses:
+        return REJECT
+    if WARN in statuses or NEEDS_DATA in statuses:
+        return REVIEW
+    if PASS in statuses:
+        return ACCEPT
+    return REVIEW

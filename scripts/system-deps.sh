@@ -1,0 +1,16 @@
+#!/usr/bin/env bash
+# Debian packages the build and the tests need. Installs only what is missing.
+# chromium: driven by Playwright (executable_path) for the e2e tests and screenshots.
+set -euo pipefail
+need=()
+command -v chromium >/dev/null 2>&1 || need+=(chromium)
+command -v node >/dev/null 2>&1 || need+=(nodejs npm)
+if [ ${#need[@]} -eq 0 ]; then exit 0; fi
+if [ "$(id -u)" != 0 ]; then
+  echo "missing Debian packages: ${need[*]}; run as root or install them: apt-get install ${need[*]}" >&2
+  exit 1
+fi
+echo "installing Debian packages: ${need[*]}"
+export DEBIAN_FRONTEND=noninteractive
+apt-get update -qq
+apt-get install -y -qq --no-install-recommends "${need[@]}" >/dev/null
