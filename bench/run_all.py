@@ -1,0 +1,36 @@
+"""Run every benchmark in bench/ one after the other and print their figures.
+
+Benchmarks print numbers; they never fail on timing. Each ``bench_*.py`` is
+also runnable on its own (``.venv/bin/python bench/bench_api.py --help``).
+"""
+
+from __future__ import annotations
+
+import pathlib
+import subprocess
+import sys
+import time
+
+HERE = pathlib.Path(__file__).resolve().parent
+
+
+def main(argv: list[str]) -> int:
+    scripts = sorted(HERE.glob("bench_*.py"))
+    if argv:
+        scripts = [s for s in scripts if any(a in s.name for a in argv)]
+    failed = []
+    for script in scripts:
+        print(f"== {script.name}", flush=True)
+        t0 = time.perf_counter()
+        rc = subprocess.call([sys.executable, str(script)])
+        print(f"== {script.name}: exit {rc}, {time.perf_counter() - t0:.1f} s wall\n", flush=True)
+        if rc:
+            failed.append(script.name)
+    if failed:
+        print("benchmarks that did not run to the end: " + ", ".join(failed))
+        return 1
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main(sys.argv[1:]))
