@@ -1,0 +1,374 @@
+"""A sieve test: masses retained (or percent passing) -> a gradation curve.
+
+Input forms (``docs/json-contract.md``):
+
+- **masses**: ``sieves`` with ``retained_g`` per sieve (or, with
+  ``"entry": "cumulative"``, ``cumulative_retained_g``), ``pan_g``, and the
+  oven-dry mass before washing, ``dry_mass_g`` (or ``moist_mass_g`` with
+  ``moisture_pct``), optionally ``washed_dry_mass_g``;
+- **passing**: ``passing`` with ``passing_pct`` per sieve (a lab report, for
+  example with hydrometer points below 0.075 mm).
+
+Bookkeeping (ASTM C136 with ASTM C117; the cumulative method):
+
+- percent retained r_i = 100 R_i / M0, with M0 the original oven-dry mass;
+- cumulative retained CR_i = sum of r_j down to sieve i;
+- percent passing P_i = 100 - CR_i; so the wash loss (M0 - Mw) counts as
+  passing every sieve, the No. 200 (0.075 mm) included;
+- sieving loss L = Mw - sum R_i - pan, reported separately (it falls into the
+  finest fraction in P = 100 - CR).
+
+Percentages on the original dry mass including the washed fines: ASTM
+C136/C136M-14, laboratory checklist item 11 (read). The cumulative method and
+the separate sieving loss: common practice (from memory).
+
+Lab QA checks (``tamis.findings.Check``): ``qa.mass_balance``,
+``qa.sieve_overload`` and ``qa.specimen_mass``; see their functions.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+from .curve import GRAVEL_SAND_MM, SAND_FINES_MM, Curve, make_curve, same_size
+from .errors import InputError, boolean, join, number, require_list, require_mapping, text
+from .findings import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding, compare
+from .sieves import label_for, resolve_opening
+
+#: ASTM C136 §8.7 (C136/C136M-14 checklist item 9, read): the mass after sieving
+#: must agree with the mass put on the sieves within 0.3 % of the original dry mass.
+MASS_BALANCE_LIMIT_PCT = 0.3
+SRC_MASS_BALANCE = "ASTM C136/C136M-14, mass check after sieving: within 0.3 % of the original dry mass (checklist item 9)"
+
+#: ASTM C136/C136M-19 §8.3 (read): 7 kg/m2 of sieving surface below 4.75 mm.
+OVERLOAD_FINE_KG_PER_M2 = 7.0
+#: ... and 2.5 x opening [mm] x effective sieving area [m2] kg at and above 4.75 mm.
+OVERLOAD_COARSE_FACTOR = 2.5
+SRC_OVERLOAD = ("ASTM C136/C136M-19 §8.3: 7 kg/m2 below 4.75 mm, 2.5 x opening(mm) x area(m2) kg at and above "
+                "4.75 mm; effective frame areas from memory")
+
+#: Sieve frames: id -> (description, effective sieving area [m2], from memory).
+#: The 203 and 305 mm areas reproduce the 200 g and 469 g of the C136-14
+#: checklist item 7 (read), which supports them.
+FRAMES: dict[str, tuple[str, float]] = {
+    "203": ("203 mm (8 in) round", 0.0285),
+    "254": ("254 mm (10 in) round", 0.0457),
+    "305": ("305 mm (12 in) round", 0.0670),
+    "350x350": ("350 x 350 mm rectangular", 0.1225),
+    "372x580": ("372 x 580 mm rectangular", 0.2158),
+}
+DEFAULT_FRAME = "203"
+_ROUND_FRAMES_MM = {203.0: "203", 203.2: "203", 254.0: "254", 305.0: "305", 304.8: "305"}
+
+#: Minimum dry test-sample mass [g] by largest particle [mm], ASTM C136
+#: (fine aggregate 300 g; coarse aggregate by nominal maximum size). From memory.
+SPECIMEN_MIN_G: tuple[tuple[float, float], ...] = (
+    (4.75, 300.0), (9.5, 1000.0), (12.5, 2000.0), (19.0, 5000.0), (25.0, 10000.0), (37.5, 15000.0),
+    (50.0, 20000.0), (63.0, 35000.0), (75.0, 60000.0), (90.0, 100000.0), (100.0, 150000.0),
+    (125.0, 300000.0),
+)
+SRC_SPECIMEN = ("ASTM C136, minimum test-sample mass (fine aggregate 300 g; coarse aggregate by nominal maximum "
+                "size), from memory")
+
+
+@dataclass(frozen=True)
+class Row:
+    """One sieve of a test, coarsest first. Percentages on the original dry mass [%];
+    the masses are ``None`` in the passing form."""
+
+    opening_mm: float
+    label: str
+    retained_g: float | None
+    retained_pct: float | None
+    cum_retained_pct: float | None
+    passing_pct: float
+    entry_index: int
+
+    def to_dict(self) -> dict:
+        return {"opening_mm": self.opening_mm, "label": self.label, "retained_g": self.retained_g,
+                "retained_pct": self.retained_pct, "cum_retained_pct": self.cum_retained_pct,
+                "passing_pct": self.passing_pct}
+
+
+@dataclass(frozen=True)
+class Masses:
+    """Mass summary of a test [g] (sieving loss also in % of the dry mass)."""
+
+    dry_mass_g: float
+    washed: bool
+    washed_dry_mass_g: float | None
+    wash_loss_g: float
+    pan_g: float
+    retained_sum_g: float
+    on_sieves_g: float
+    sieving_loss_g: float
+    sieving_loss_pct: float
+    moisture: dict | None
+
+    def to_dict(self) -> dict:
+        return {"dry_mass_g": self.dry_mass_g, "washed": self.washed,
+                "washed_dry_mass_g": self.washed_dry_mass_g, "wash_loss_g": self.wash_loss_g,
+                "pan_g": self.pan_g, "retained_sum_g": self.retained_sum_g,
+                "on_sieves_g": self.on_sieves_g, "sieving_loss_g": self.sieving_loss_g,
+                "sieving_loss_pct": self.sieving_loss_pct, "moisture": self.moisture}
+
+
+@dataclass(frozen=True)
+class SieveTest:
+    """A parsed and reduced test."""
+
+    form: str  # "masses" | "passing"
+    rows: tuple[Row, ...]
+    curve: Curve
+    masses: Masses | None
+    checks: tuple[Check, ...]
+    findings: tuple[Finding, ...]
+
+
+def _mass(obj: dict, key: str, path: str, *, required: bool = True, default: float | None = None) -> float | None:
+    """A mass [g]: a finite number >= 0 (``negative_mass`` otherwise)."""
+    v = number(obj, key, path, required=required, default=default)
+    if v is not None and v < 0:
+        p = join(path, key)
+        raise InputError("negative_mass", f"{p} must not be negative, got {v:g} g.", p)
+    return v
+
+
+def _dry_mass(test: dict, path: str, findings: list) -> tuple[float, dict | None]:
+    """Oven-dry mass before washing [g], directly or from moist mass and moisture content."""
+    has_moist = test.get("moist_mass_g") is not None or test.get("moisture_pct") is not None
+    if has_moist:
+        if test.get("dry_mass_g") is not None:
+            p = join(path, "dry_mass_g")
+            raise InputError("conflicting_fields", f"give either {p} or {join(path, 'moist_mass_g')} with "
+                             f"{join(path, 'moisture_pct')}, not both.", p)
+        moist = _mass(test, "moist_mass_g", path)
+        w = number(test, "moisture_pct", path, minimum=0.0)
+        dry = moist / (1.0 + w / 100.0)
+        if not dry > 0:
+            p = join(path, "moist_mass_g")
+            raise InputError("zero_dry_mass", f"{p} must be greater than 0 g.", p)
+        findings.append(Finding("note", "moisture_conversion",
+                                f"Dry mass {dry:.1f} g = moist mass {moist:g} g / (1 + {w:g} / 100).",
+                                join(path, "moist_mass_g"), "oven-dry mass from moisture content (ASTM D2216 "
+                                "definition of water content, from memory)"))
+        return dry, {"moist_mass_g": moist, "moisture_pct": w, "dry_mass_g": dry}
+    dry = _mass(test, "dry_mass_g", path)
+    if dry == 0:
+        p = join(path, "dry_mass_g")
+        raise InputError("zero_dry_mass", f"{p} must be greater than 0 g.", p)
+    return dry, None
+
+
+def frame_of(test: dict, path: str) -> str:
+    """The sieve frame id (``FRAMES``) from ``frame`` or ``frame_diameter_mm``."""
+    if test.get("frame") is not None:
+        return text(test, "frame", path, choices=tuple(FRAMES))
+    d = number(test, "frame_diameter_mm", path, required=False)
+    if d is None:
+        return DEFAULT_FRAME
+    for k, fid in _ROUND_FRAMES_MM.items():
+        if abs(d - k) < 1e-9:
+            return fid
+    p = join(path, "frame_diameter_mm")
+    raise InputError("unknown_choice", f"{p} must be 203, 254 or 305 (mm), or give frame "
+                     f"as one of {', '.join(FRAMES)}; got {d:g}.", p)
+
+
+def _entries(test: dict, path: str) -> list:
+    sp = join(path, "sieves")
+    sieves = require_list(test.get("sieves"), sp)
+    if len(sieves) < 2:
+        raise InputError("too_few_points", f"{sp} needs at least two sieves to make a curve.", sp)
+    out = []
+    for i, s in enumerate(sieves):
+        ip = join(sp, i)
+        require_mapping(s, ip)
+        out.append((resolve_opening(s, ip), s, ip, i))
+    out.sort(key=lambda t: -t[0])
+    for (d1, _, p1, _), (d2, _, p2, _) in zip(out, out[1:]):
+        if same_size(d1, d2):
+            raise InputError("duplicate_opening", f"{join(p2, 'opening_mm')} repeats the opening {d2:g} mm of {p1}.",
+                             join(p2, "opening_mm"))
+    return out
+
+
+def _retained_masses(entries: list, cumulative: bool) -> list[float]:
+    """Mass retained on each sieve [g], coarsest first, from either entry form."""
+    if not cumulative:
+        return [_mass(s, "retained_g", ip) for _, s, ip, _ in entries]
+    out, prev, prev_path = [], 0.0, None
+    for _, s, ip, _ in entries:
+        c = _mass(s, "cumulative_retained_g", ip)
+        if c < prev:
+            p = join(ip, "cumulative_retained_g")
+            raise InputError("cumulative_decreases", f"{p} = {c:g} g is less than {prev:g} g on the coarser "
+                             f"sieve {prev_path}; cumulative mass retained cannot fall as sizes fall.", p)
+        out.append(c - prev)
+        prev, prev_path = c, ip
+    return out
+
+
+def parse_masses(test: dict, path: str) -> SieveTest:
+    """Reduce the masses form of a test; see the module docstring."""
+    findings: list[Finding] = []
+    entry = text(test, "entry", path, default="retained", choices=("retained", "cumulative"))
+    entries = _entries(test, path)
+    retained = _retained_masses(entries, entry == "cumulative")
+    dry, moisture = _dry_mass(test, path, findings)
+    washed_mass = _mass(test, "washed_dry_mass_g", path, required=False)
+    if washed_mass is not None and washed_mass > dry:
+        p = join(path, "washed_dry_mass_g")
+        raise InputError("washed_exceeds_dry", f"{p} = {washed_mass:g} g is more than the dry mass before "
+                         f"washing, {dry:g} g.", p)
+    if test.get("pan_g") is None:
+        findings.append(Finding("note", "pan_missing", "No pan mass given; taken as 0 g.", join(path, "pan_g")))
+    pan = _mass(test, "pan_g", path, required=False, default=0.0)
+    on_sieves = dry if washed_mass is None else washed_mass
+    rows, cum = [], 0.0
+    for (d, s, ip, i), r in zip(entries, retained):
+        cum += r
+        if cum > dry:
+            key = "cumulative_retained_g" if entry == "cumulative" else "retained_g"
+            raise InputError("retained_exceeds_mass", f"{join(ip, key)}: the mass retained down to this sieve, "
+                             f"{cum:g} g, is more than the dry mass {dry:g} g; check the masses.", join(ip, key))
+        cum_pct = cum / dry * 100.0
+        rows.append(Row(d, label_for(d), r, r / dry * 100.0, cum_pct, 100.0 - cum_pct, i))
+    curve = Curve(tuple((row.opening_mm, row.passing_pct) for row in rows))
+    loss = on_sieves - cum - pan
+    masses = Masses(dry, washed_mass is not None, washed_mass, dry - on_sieves, pan, cum, on_sieves, loss,
+                    loss / dry * 100.0, moisture)
+    frame = frame_of(test, path)
+    portions = boolean(test, "sieved_in_portions", path, default=False)
+    checks = (mass_balance_check(masses), sieve_overload_check(rows, frame, portions),
+              specimen_mass_check(rows, dry))
+    if washed_mass is None and any(same_size(row.opening_mm, SAND_FINES_MM) for row in rows):
+        findings.append(Finding("warning", "not_washed",
+                                "The test was not washed: material finer than 0.075 mm is not determined "
+                                "accurately by dry sieving alone; wash it per ASTM C117.",
+                                join(path, "washed_dry_mass_g"), "ASTM C136 (scope note on C117)"))
+    return SieveTest("masses", tuple(rows), curve, masses, checks, tuple(findings))
+
+
+def parse_passing(test: dict, path: str) -> SieveTest:
+    """Reduce the percent-passing form of a test (no mass checks apply)."""
+    pp = join(path, "passing")
+    items = require_list(test.get("passing"), pp)
+    pts = []
+    for i, it in enumerate(items):
+        ip = join(pp, i)
+        require_mapping(it, ip)
+        pts.append((resolve_opening(it, ip), number(it, "passing_pct", ip)))
+    curve = make_curve(pts, pp)
+    order = sorted(range(len(pts)), key=lambda i: -pts[i][0])
+    rows = tuple(Row(d, label_for(d), None, None, None, p, i)
+                 for i, (d, p) in zip(order, curve.points))
+    why = "The test was entered as percent passing: no masses to check."
+    checks = tuple(Check(cid, NOT_APPLICABLE, why, source=src) for cid, src in
+                   (("qa.mass_balance", SRC_MASS_BALANCE), ("qa.sieve_overload", SRC_OVERLOAD),
+                    ("qa.specimen_mass", SRC_SPECIMEN)))
+    return SieveTest("passing", rows, curve, None, checks, ())
+
+
+def parse_test(test, path: str = "test") -> SieveTest:
+    """Parse and reduce one test (either form). Raises :class:`InputError` with field paths."""
+    require_mapping(test, path)
+    has_sieves, has_passing = test.get("sieves") is not None, test.get("passing") is not None
+    if has_sieves and has_passing:
+        raise InputError("conflicting_fields", f"{path} has both sieves (masses) and passing; give one.",
+                         join(path, "passing"))
+    if has_passing:
+        return parse_passing(test, path)
+    if not has_sieves:
+        raise InputError("missing_field", f"{join(path, 'sieves')} (masses) or {join(path, 'passing')} "
+                         "(percent passing) is required.", join(path, "sieves"))
+    return parse_masses(test, path)
+
+
+def mass_balance_check(m: Masses) -> Check:
+    """``qa.mass_balance``: |sum retained + pan - mass put on the sieves| <= 0.3 %
+    of the original dry mass (ASTM C136). Compared unrounded."""
+    diff_pct = abs(m.retained_sum_g + m.pan_g - m.on_sieves_g) / m.dry_mass_g * 100.0
+    ok = compare(diff_pct, "<=", MASS_BALANCE_LIMIT_PCT)
+    what = "dry mass after washing" if m.washed else "dry mass"
+    msg = (f"Sieves and pan hold {m.retained_sum_g + m.pan_g:.1f} g against {m.on_sieves_g:.1f} g {what}: "
+           f"a difference of {diff_pct:.2f} % of the original dry mass "
+           + ("(within 0.3 %)." if ok else "(over 0.3 %: do not use this result for acceptance)."))
+    return Check("qa.mass_balance", PASS if ok else FAIL, msg, diff_pct, MASS_BALANCE_LIMIT_PCT, "<=", "%",
+                 SRC_MASS_BALANCE)
+
+
+def overload_limit_g(opening_mm: float, frame: str = DEFAULT_FRAME) -> float:
+    """Largest mass [g] a sieve may retain at the end of sieving (ASTM C136 §8.3)."""
+    area = FRAMES[frame][1]
+    if opening_mm < GRAVEL_SAND_MM and not same_size(opening_mm, GRAVEL_SAND_MM):
+        return OVERLOAD_FINE_KG_PER_M2 * area * 1000.0
+    return OVERLOAD_COARSE_FACTOR * opening_mm * area * 1000.0
+
+
+def sieve_overload_check(rows, frame: str = DEFAULT_FRAME, portions: bool = False) -> Check:
+    """``qa.sieve_overload``: the mass on each sieve against its C136 §8.3 limit.
+
+    ``value`` is the largest ratio retained / limit [-] (limit 1). With
+    ``portions`` (the sample was sieved in portions and the masses are their
+    sums, C136 §8.3.1) the check does not apply: each portion is checked at
+    the bench.
+    """
+    per = [{"opening_mm": r.opening_mm, "label": r.label, "retained_g": r.retained_g,
+            "limit_g": overload_limit_g(r.opening_mm, frame)} for r in rows]
+    over = [p for p in per if p["retained_g"] > p["limit_g"]]
+    extra = {"frame": frame, "sieves": per, "overloaded": over}
+    if portions:
+        return Check("qa.sieve_overload", NOT_APPLICABLE, "Sieved in portions: the masses are sums over the "
+                     "portions, so each portion's load is checked at the bench.", unit="-",
+                     source=SRC_OVERLOAD, extra=extra)
+    worst = max(p["retained_g"] / p["limit_g"] for p in per)
+    if over:
+        names = ", ".join(f"{p['label']} ({p['retained_g']:g} g > {p['limit_g']:.0f} g)" for p in over)
+        msg = (f"Overloaded on the {FRAMES[frame][0]} frame: {names}. Insert an intermediate sieve, sieve in "
+               "portions, or use larger frames.")
+        return Check("qa.sieve_overload", FAIL, msg, worst, 1.0, "<=", "-", SRC_OVERLOAD, extra)
+    return Check("qa.sieve_overload", PASS, f"No sieve over its load limit on the {FRAMES[frame][0]} frame.",
+                 worst, 1.0, "<=", "-", SRC_OVERLOAD, extra)
+
+
+def specimen_min_g(largest_mm: float) -> float | None:
+    """Minimum dry mass [g] for a largest particle [mm]: the row for the smallest
+    tabulated size at or above it (so a size between rows takes the larger mass),
+    ``None`` above 125 mm (outside the table)."""
+    for size, m in SPECIMEN_MIN_G:
+        if largest_mm < size or same_size(largest_mm, size):
+            return m
+    return None
+
+
+def specimen_mass_check(rows, dry_mass_g: float) -> Check:
+    """``qa.specimen_mass``: warn when the dry mass is below the minimum for the
+    largest particle. The largest particle is taken as the finest sieve that
+    still passes 100 % (conservative: it is at or above the nominal maximum size)."""
+    first = next((k for k, r in enumerate(rows) if r.retained_g > 0), None)
+    if first is None:
+        return Check("qa.specimen_mass", NEEDS_DATA, "No material retained on any sieve: the largest particle "
+                     "size is not known.", unit="g", source=SRC_SPECIMEN)
+    if first == 0:
+        top = rows[0]
+        need = specimen_min_g(top.opening_mm)
+        if need is not None and dry_mass_g < need:
+            return Check("qa.specimen_mass", WARN, f"Material is retained on the top sieve {top.label}, so the "
+                         f"largest particle exceeds {top.opening_mm:g} mm; even for that size {need:g} g is "
+                         f"needed and the sample has {dry_mass_g:.1f} g.", dry_mass_g, need, ">=", "g",
+                         SRC_SPECIMEN)
+        return Check("qa.specimen_mass", NEEDS_DATA, f"Material is retained on the top sieve {top.label}: add "
+                     "a coarser sieve that passes 100 % to know the largest particle.", dry_mass_g, need, ">=",
+                     "g", SRC_SPECIMEN)
+    largest = rows[first - 1].opening_mm
+    need = specimen_min_g(largest)
+    if need is None:
+        return Check("qa.specimen_mass", NEEDS_DATA, f"Largest particle {largest:g} mm is beyond the table "
+                     "(125 mm).", dry_mass_g, None, ">=", "g", SRC_SPECIMEN)
+    ok = compare(dry_mass_g, ">=", need)
+    msg = (f"Dry mass {dry_mass_g:.1f} g for a largest particle of {largest:g} mm "
+           + (f"meets the minimum {need:g} g." if ok else f"is below the minimum {need:g} g: the sample may not "
+              "represent the material."))
+    return Check("qa.specimen_mass", PASS if ok else WARN, msg, dry_mass_g, need, ">=", "g", SRC_SPECIMEN,
+                 {"largest_particle_mm": largest})
