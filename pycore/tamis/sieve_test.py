@@ -324,7 +324,7 @@ def sieve_overload_check(rows, frame: str = DEFAULT_FRAME, portions: bool = Fals
                      source=SRC_OVERLOAD, extra=extra)
     worst = max(p["retained_g"] / p["limit_g"] for p in per)
     if over:
-        names = ", ".join(f"{p['label']} ({p['retained_g']:g} g > {p['limit_g']:.0f} g)" for p in over)
+        names = ", ".join(f"{p['label']} ({p['retained_g']:g} g > {p['limit_g']:.1f} g)" for p in over)
         msg = (f"Overloaded on the {FRAMES[frame][0]} frame: {names}. Insert an intermediate sieve, sieve in "
                "portions, or use larger frames.")
         return Check("qa.sieve_overload", FAIL, msg, worst, 1.0, "<=", "-", SRC_OVERLOAD, extra)
