@@ -1,0 +1,41 @@
+// Test page of the e2e suite: exposes the bridge and the offline state to
+// Playwright as window.tamisTest. The page itself computes nothing.
+import * as bridge from "/src/bridge.js";
+import { startOffline } from "/src/offline.js";
+
+const statuses = [];
+const offlineStates = [];
+const violations = [];
+let applyUpdate = null;
+
+document.addEventListener("securitypolicyviolation", (e) => {
+  violations.push({ directive: e.violatedDirective, blocked: e.blockedURI, source: e.sourceFile });
+});
+
+bridge.onStatus((s) => {
+  statuses.push(s);
+  document.getElementById("py-status").textContent = s.error ? `failed: ${s.error}` : `${s.stage}: ${s.detail}`;
+});
+
+const offline = startOffline({
+  onState(s) {
+    offlineStates.push(s);
+    document.getElementById("offline-status").textContent =
+      s.error ? `error: ${s.error}` : s.precached ? `ready offline (${s.version})` : `saving ${s.done}/${s.total}`;
+  },
+  onUpdate(apply) {
+    applyUpdate = apply;
+    document.getElementById("update-notice").hidden = false;
+  },
+});
+
+document.getElementById("apply-update").addEventListener("click", () => applyUpdate && applyUpdate());
+
+window.tamisTest = {
+  bridge,
+  offline,
+  statuses,
+  offlineStates,
+  violations,
+  get updateOffered() { return applyUpdate !== null; },
+};

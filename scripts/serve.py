@@ -1,0 +1,191 @@
+#!/usr/bin/env python3
+"""Serve the built tamis web app (the folder ``webapp/``) on 127.0.0.1.
+
+    python scripts/serve.py [--host 127.0.0.1] [--port 8765]
+
+Static files only, with the headers the app relies on:
+
+- MIME types: ``.wasm`` application/wasm (streaming compile), ``.js``/``.mjs``
+  text/javascript (module workers), ``.webmanifest`` application/manifest+json;
+- ``Cache-Control: no-cache`` on ``sw.js`` and ``vendor/build.js`` so the
+  browser's update check always sees a new build;
+- a Content-Security-Policy that allows the app's own origin only, plus
+  ``'wasm-unsafe-eval'`` for Pyodide's WebAssembly.
+
+Also a small library for the e2e tests and benchmarks::
+
+    server = StaticServer(port=0).start()   # a free port
+    server.url, server.requests             # request log: (method, path)
+    server.stop()
+"""
+
+from __future__ import annotations
+
+import argparse
+import http.server
+import posixpath
+import sys
+import threading
+import urllib.parse
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parent.parent
+WEBAPP = ROOT / "webapp"
+
+CSP = "; ".join([
+    "default-src 'self'",
+    "script-src 'self' 'wasm-unsafe-eval'",
+    "worker-src 'self'",
+    "connect-src 'self'",
+    "img-src 'self'",
+    "style-src 'self'",
+    "font-src 'self'",
+    "manifest-src 'self'",
+    "object-src 'none'",
+    "base-uri 'none'",
+    "form-action 'self'",
+    "frame-ancestors 'none'",
+])
+
+MIME = {
+    ".wasm": "application/wasm",
+    ".js": "text/javascript",
+    ".mjs": "text/javascript",
+    ".json": "application/json",
+    ".webmanifest": "application/manifest+json",
+    ".html": "text/html; charset=utf-8",
+    ".css": "text/css; charset=utf-8",
+    ".svg": "image/svg+xml",
+    ".png": "image/png",
+    ".csv": "text/csv; charset=utf-8",
+    ".whl": "application/zip",
+    ".zip": "application/zip",
+    ".txt": "text/plain; charset=utf-8",
+}
+
+NO_CACHE = {"/sw.js", "/vendor/build.js", "/vendor/manifest.json"}
+
+
+def make_handler(root: Path, mounts: dict[str, Path], overrides: dict[str, tuple[bytes, str]],
+                 requests: list, quiet: bool):
+    """A request handler class bound to one server's folders, overrides and log."""
+
+    class Handler(http.server.SimpleHTTPRequestHandler):
+        extensions_map = {**http.server.SimpleHTTPRequestHandler.extensions_map, **MIME}
+        server_version = "tamis-static"
+        sys_version = ""
+
+        def __init__(self, *args, **kwargs):
+            super().__init__(*args, directory=str(root), **kwargs)
+
+        def translate_path(self, path: str) -> str:
+            clean = posixpath.normpath(urllib.parse.unquote(urllib.parse.urlsplit(path).path))
+            for prefix, folder in mounts.items():
+                if clean == prefix.rstrip("/") or clean.startswith(prefix):
+                    rel = clean[len(prefix):].lstrip("/")
+                    base = folder.resolve()
+                    target = (base / rel).resolve()
+                    return str(target if target == base or base in target.parents else base / "__outside__")
+            return super().translate_path(path)
+
+        def _path_only(self) -> str:
+            return posixpath.normpath(urllib.parse.unquote(urllib.parse.urlsplit(self.path).path))
+
+        def do_GET(self):
+            requests.append((self.command, self.path))
+            override = overrides.get(self._path_only())
+            if override is not None:
+                body, ctype = override
+                self.send_response(200)
+                self.send_header("Content-Type", ctype)
+                self.send_header("Content-Length", str(len(body)))
+                self.end_headers()
+                self.wfile.write(body)
+                return
+            super().do_GET()
+
+        def do_HEAD(self):
+            requests.append((self.command, self.path))
+            super().do_HEAD()
+
+        def end_headers(self):
+            path = self._path_only()
+            self.send_header("Content-Security-Policy", CSP)
+            self.send_header("X-Content-Type-Options", "nosniff")
+            self.send_header("Referrer-Policy", "no-referrer")
+            if path in NO_CACHE:
+                self.send_header("Cache-Control", "no-cache")
+            super().end_headers()
+
+        def log_message(self, format, *args):  # noqa: A002 (stdlib signature)
+            if not quiet:
+                sys.stderr.write("%s - %s\n" % (self.address_string(), format % args))
+
+    return Handler
+
+
+class StaticServer:
+    """The static server as a library: start on a port (0 = free), log requests, stop.
+
+    ``mounts`` maps a URL prefix ("/__e2e__/") to another folder (tests only);
+    ``overrides`` maps a URL path to ``(body_bytes, content_type)`` served instead
+    of the file (tests only: e.g. a build manifest with a new version).
+    """
+
+    def __init__(self, root: Path = WEBAPP, host: str = "127.0.0.1", port: int = 0,
+                 mounts: dict[str, Path] | None = None, quiet: bool = True):
+        self.root = Path(root)
+        self.host = host
+        self.requests: list[tuple[str, str]] = []
+        self.overrides: dict[str, tuple[bytes, str]] = {}
+        handler = make_handler(self.root, dict(mounts or {}), self.overrides, self.requests, quiet)
+        self.httpd = http.server.ThreadingHTTPServer((host, port), handler)
+        self.httpd.daemon_threads = True
+        self.port = self.httpd.server_address[1]
+        self._thread: threading.Thread | None = None
+
+    @property
+    def url(self) -> str:
+        return f"http://{self.host}:{self.port}/"
+
+    def start(self) -> "StaticServer":
+        self._thread = threading.Thread(target=self.httpd.serve_forever, name="tamis-static", daemon=True)
+        self._thread.start()
+        return self
+
+    def stop(self) -> None:
+        self.httpd.shutdown()
+        self.httpd.server_close()
+        if self._thread is not None:
+            self._thread.join(timeout=5)
+
+
+def main(argv: list[str] | None = None) -> int:
+    parser = argparse.ArgumentParser(description="Serve the built tamis web app (webapp/).")
+    parser.add_argument("--host", default="127.0.0.1", help="address to bind (default 127.0.0.1)")
+    parser.add_argument("--port", type=int, default=8765, help="port (default 8765; 0 picks a free one)")
+    parser.add_argument("--quiet", action="store_true", help="do not log each request")
+    args = parser.parse_args(argv)
+    if not (WEBAPP / "vendor" / "manifest.json").is_file():
+        print("webapp/vendor/manifest.json is missing: run `make build` first", file=sys.stderr)
+        return 1
+    try:
+        server = StaticServer(WEBAPP, args.host, args.port, quiet=args.quiet)
+    except OSError as err:
+        print(f"cannot listen on {args.host}:{args.port}: {err}", file=sys.stderr)
+        return 1
+    print(f"tamis is served at {server.url}  (Ctrl-C to stop)", flush=True)
+    if args.host not in ("127.0.0.1", "localhost", "::1"):
+        print("note: service workers need a secure context; over plain http only 127.0.0.1/localhost work",
+              file=sys.stderr)
+    try:
+        server.httpd.serve_forever()
+    except KeyboardInterrupt:
+        pass
+    finally:
+        server.httpd.server_close()
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())

@@ -1,0 +1,143 @@
+// The one bridge between the page and the Python worker.
+//
+//   call(op, fields, {key})  -> Promise<response object>   (the tamis.api JSON contract)
+//   callJSON(text, {key})    -> Promise<response string>   (the exact string tamis.api.handle returned)
+//   onStatus(cb)             -> unsubscribe function; cb({stage, detail, progress, ready, error, ...})
+//   whenReady()              -> Promise<ready status>; rejects if the worker cannot boot
+//
+// A newer call with the same key supersedes an older one: the older promise
+// resolves with {superseded: true}, and if it has not reached the worker yet it
+// is never sent. The worker is never terminated to cancel (Pyodide boots slowly).
+// Requests go to the worker one at a time, so a burst of edits costs one
+// computation for the last edit, not one per keystroke.
+//
+// If the runtime itself fails (the files are missing, a wasm trap), pending and
+// later calls reject with an Error whose message says so; status.error is set.
+
+const WORKER_URL = new URL("./worker/worker.js", import.meta.url);
+
+let worker = null;
+let nextN = 1;
+let status = { stage: "idle", detail: "the Python worker has not started", progress: 0, ready: false, error: null };
+const listeners = new Set();
+const waiting = [];        // jobs not yet sent to the worker
+let inFlight = null;       // the job the worker is computing
+const latestByKey = new Map();
+
+function setStatus(next) {
+  status = { ...next };
+  for (const cb of listeners) {
+    try { cb(status); } catch (err) { console.error(err); }
+  }
+}
+
+function fail(message) {
+  setStatus({ stage: "failed", detail: message, progress: status.progress, ready: false, error: message });
+  const jobs = inFlight ? [inFlight, ...waiting] : [...waiting];
+  inFlight = null;
+  waiting.length = 0;
+  for (const job of jobs) job.reject(new Error(message));
+}
+
+function pump() {
+  if (inFlight || !status.ready || !waiting.length) return;
+  inFlight = waiting.shift();
+  worker.postMessage({ type: "request", n: inFlight.n, json: inFlight.json });
+}
+
+function onMessage(event) {
+  const msg = event.data || {};
+  if (msg.type === "status") {
+    if (msg.error) fail(msg.error);
+    else setStatus(msg);
+    pump();
+  } else if (msg.type === "response") {
+    const job = inFlight && inFlight.n === msg.n ? inFlight : null;
+    inFlight = null;
+    if (job) {
+      if (job.key !== undefined && latestByKey.get(job.key) === job.n) latestByKey.delete(job.key);
+      if (msg.json === null) job.reject(new Error(msg.fatal || "the Python worker failed"));
+      else if (!job.superseded) job.resolve(msg.json);
+    }
+    pump();
+  } else if (msg.type === "fatal") {
+    fail(msg.error);
+  }
+}
+
+function start() {
+  if (worker) return;
+  const pageInstall = new URLSearchParams(self.location.search).get("install");
+  const url = new URL(WORKER_URL);
+  if (pageInstall === "micropip" || pageInstall === "unpack") url.searchParams.set("install", pageInstall);
+  setStatus({ stage: "starting", detail: "starting the Python worker", progress: 0, ready: false, error: null });
+  try {
+    worker = new Worker(url, { type: "module", name: "tamis-python" });
+  } catch (err) {
+    fail(`the Python worker could not start: ${err.message}`);
+    return;
+  }
+  worker.addEventListener("message", onMessage);
+  worker.addEventListener("error", (event) => {
+    event.preventDefault();
+    fail(`the Python worker script failed to load${event.message ? `: ${event.message}` : ""}; ` +
+      "the app's files may be missing (rebuild with make build)");
+  });
+  worker.addEventListener("messageerror", () => fail("the Python worker sent a message that could not be read"));
+}
+
+/** Send one request string; resolves with the response string (or {superseded: true}). */
+export function callJSON(json, { key } = {}) {
+  start();
+  if (status.error) return Promise.reject(new Error(status.error));
+  return new Promise((resolve, reject) => {
+    const job = { n: nextN++, json, key, resolve, reject, superseded: false };
+    if (key !== undefined && key !== null) {
+      const olderN = latestByKey.get(key);
+      if (olderN !== undefined) supersede(olderN);
+      latestByKey.set(key, job.n);
+    }
+    waiting.push(job);
+    pump();
+  });
+}
+
+function supersede(n) {
+  const i = waiting.findIndex((job) => job.n === n);
+  const job = i >= 0 ? waiting.splice(i, 1)[0] : inFlight && inFlight.n === n ? inFlight : null;
+  if (!job) return;
+  job.superseded = true;
+  job.resolve({ superseded: true });
+}
+
+/** Send {"schema": 1, "op": op, "id": n, ...fields}; resolves with the parsed response. */
+export async function call(op, fields = {}, { key } = {}) {
+  start();
+  const n = nextN;  // the id the request will carry, unless fields override it
+  const text = await callJSON(JSON.stringify({ schema: 1, op, id: n, ...fields }), { key });
+  return typeof text === "string" ? JSON.parse(text) : text;
+}
+
+/** Subscribe to boot stages; cb is called at once with the current status. Returns an unsubscribe function. */
+export function onStatus(cb) {
+  listeners.add(cb);
+  start();
+  try { cb(status); } catch (err) { console.error(err); }
+  return () => listeners.delete(cb);
+}
+
+/** Resolves with the ready status once the self-test passed; rejects if the worker cannot boot. */
+export function whenReady() {
+  start();
+  return new Promise((resolve, reject) => {
+    const check = (s) => {
+      if (s.ready) { off(); resolve(s); } else if (s.error) { off(); reject(new Error(s.error)); }
+    };
+    const off = onStatus((s) => queueMicrotask(() => check(s)));
+  });
+}
+
+/** The current status (a copy). */
+export function currentStatus() {
+  return { ...status };
+}

@@ -1,0 +1,105 @@
+// Offline support for the page: registers the service worker (../sw.js), reports
+// whether the whole site is saved on this device, and tells the page when a new
+// version is waiting so the user chooses when to switch.
+//
+//   startOffline({onState, onUpdate}) -> {ready: Promise<registration|null>, checkForUpdate(), state()}
+//   onState({precached, total, done, error, version, updating})
+//       precached is true only once the active worker's cache holds every file
+//       of its build manifest (checked file by file by the worker).
+//   onUpdate(applyFn)
+//       a new version finished precaching and waits; applyFn() activates it and
+//       reloads the page. Save what the user typed before calling it.
+
+const SW_URL = new URL("../sw.js", import.meta.url);
+
+export function startOffline({ onState = () => {}, onUpdate = () => {} } = {}) {
+  let state = { precached: false, total: 0, done: 0, error: null, version: null, updating: false };
+  let activeVersion = null;
+  let offeredWorker = null;
+  let applying = false;
+
+  const emit = (patch) => {
+    state = { ...state, ...patch };
+    try { onState({ ...state }); } catch (err) { console.error(err); }
+  };
+
+  if (!("serviceWorker" in navigator)) {
+    emit({ error: "this browser cannot keep the app for offline use (no service worker support)" });
+    return { ready: Promise.resolve(null), checkForUpdate: async () => false, state: () => ({ ...state }) };
+  }
+  const sw = navigator.serviceWorker;
+
+  sw.addEventListener("message", (event) => {
+    const msg = event.data || {};
+    if (msg.type !== "tamis-precache") return;
+    // A message is about the version this page runs on when it comes from the
+    // controlling worker, or from the first worker installing (no controller yet).
+    const aboutActive = msg.active === true || !sw.controller || (activeVersion !== null && msg.version === activeVersion);
+    if (msg.active === true || (!sw.controller && msg.complete)) activeVersion = msg.version;
+    if (aboutActive) {
+      emit({ precached: Boolean(msg.complete), total: msg.total, done: msg.done, error: msg.error || null,
+        version: msg.version, updating: false });
+    } else {
+      // A new version installing beside the active one: the current version
+      // stays available offline meanwhile.
+      emit({ updating: !msg.complete && !msg.error, error: msg.error || state.error });
+    }
+  });
+
+  sw.addEventListener("controllerchange", () => {
+    if (applying) window.location.reload();
+    else askStatus();
+  });
+
+  function askStatus() {
+    if (sw.controller) sw.controller.postMessage({ type: "tamis-status" });
+  }
+
+  function offer(registration) {
+    const waiting = registration.waiting;
+    if (!waiting || !sw.controller || waiting === offeredWorker) return;
+    offeredWorker = waiting;
+    onUpdate(() => {
+      applying = true;
+      waiting.postMessage({ type: "tamis-skip-waiting" });
+    });
+  }
+
+  function watch(registration) {
+    offer(registration);
+    registration.addEventListener("updatefound", () => {
+      const installing = registration.installing;
+      if (!installing) return;
+      installing.addEventListener("statechange", () => {
+        if (installing.state === "installed") offer(registration);
+        if (installing.state === "activated" && !activeVersion) askStatus();
+        if (installing.state === "redundant" && !registration.waiting && !registration.active) {
+          emit({ precached: false, error: state.error || "saving the app for offline use failed" });
+        }
+      });
+    });
+  }
+
+  const ready = sw.register(SW_URL, { updateViaCache: "none" }).then((registration) => {
+    watch(registration);
+    askStatus();
+    return registration;
+  }).catch((err) => {
+    emit({ precached: false, error: `the offline service worker could not be registered: ${err.message}` });
+    return null;
+  });
+
+  async function checkForUpdate() {
+    const registration = await ready;
+    if (!registration) return false;
+    try {
+      await registration.update();
+    } catch (err) {
+      return false;  // offline: nothing to compare against
+    }
+    offer(registration);
+    return Boolean(registration.installing || registration.waiting);
+  }
+
+  return { ready, checkForUpdate, state: () => ({ ...state }) };
+}

@@ -1,0 +1,201 @@
+// The tamis Python worker: one long-lived module worker that boots Pyodide from
+// this origin, installs the tamis wheel, runs a self-test and answers
+// tamis.api requests. JSON strings only cross the seam, never PyProxies.
+//
+// Messages in:   {type: "request", n, json}
+// Messages out:  {type: "status", stage, detail, progress, ready, error, timings?}
+//                {type: "response", n, json}       every answer, Python errors included
+//                {type: "fatal", error}             the runtime itself failed; no more answers
+//
+// Install mode: ?install=unpack (default, measured faster) or ?install=micropip
+// on this script's URL; see docs/webapp.md for the figures.
+
+import { prepareFetchGuard } from "./guard.js";
+import { sha256Hex } from "./digest.js";
+
+const HERE = new URL(".", import.meta.url);
+const SITE = new URL("../../", HERE);
+const VENDOR = new URL("vendor/", SITE);
+const PYODIDE_DIR = new URL("pyodide/", VENDOR);
+const INSTALL_MODE = new URL(import.meta.url).searchParams.get("install") === "micropip" ? "micropip" : "unpack";
+
+const t0 = performance.now();
+const timings = {};
+let handle = null;      // tamis.api.handle as a callable proxy; its results are JS strings
+let broken = null;      // set once the runtime has failed: every later request gets the fatal error
+const queue = [];       // requests received before the runtime was ready
+
+function post(msg) {
+  self.postMessage(msg);
+}
+
+function status(stage, detail, progress, extra = {}) {
+  post({ type: "status", stage, detail, progress, ready: false, error: null, ...extra });
+}
+
+function mark(name) {
+  timings[name] = Math.round(performance.now() - t0);
+}
+
+async function fetchChecked(url, what) {
+  let response;
+  try {
+    response = await fetch(url);
+  } catch (err) {
+    throw new Error(`${what} could not be loaded from ${url.pathname} (${err.message}); ` +
+      "the app's files are missing from this device and the network is unavailable");
+  }
+  if (!response.ok) {
+    throw new Error(`${what} is missing: ${url.pathname} answered HTTP ${response.status}; rebuild the app (make build)`);
+  }
+  return response;
+}
+
+async function loadManifest() {
+  const manifest = await (await fetchChecked(new URL("manifest.json", VENDOR), "the build manifest")).json();
+  if (!manifest || !manifest.wheel || !Array.isArray(manifest.files)) {
+    throw new Error("vendor/manifest.json is not a tamis build manifest; rebuild the app (make build)");
+  }
+  return manifest;
+}
+
+async function fetchWheel(manifest) {
+  const entry = manifest.files.find((f) => f.path === manifest.wheel);
+  const url = new URL(manifest.wheel, SITE);
+  const bytes = new Uint8Array(await (await fetchChecked(url, "the tamis core wheel")).arrayBuffer());
+  if (entry && (await sha256Hex(bytes)) !== entry.sha256) {
+    throw new Error(`the tamis wheel ${manifest.wheel} does not match the build manifest; rebuild the app`);
+  }
+  return { url, bytes };
+}
+
+async function installCore(py, manifest) {
+  if (INSTALL_MODE === "micropip") {
+    await py.loadPackage("micropip", { messageCallback: () => {}, errorCallback: (m) => console.warn(m) });
+    const micropip = py.pyimport("micropip");
+    try {
+      await micropip.install.callKwargs(new URL(manifest.wheel, SITE).href, { deps: false });
+    } finally {
+      micropip.destroy();
+    }
+  } else {
+    const { bytes } = await fetchWheel(manifest);
+    py.unpackArchive(bytes, "wheel");
+  }
+}
+
+function selfTestVersion(manifest) {
+  const text = handle(JSON.stringify({ schema: 1, op: "version", id: "selftest" }));
+  const answer = JSON.parse(text);
+  if (!answer.ok || answer.result.core_version !== manifest.core_version) {
+    throw new Error(`self-test failed: the version op answered ${text.slice(0, 300)}; ` +
+      `the build manifest expects core ${manifest.core_version}`);
+  }
+  return answer.result.core_version;
+}
+
+async function selfTestGolden(manifest) {
+  if (!manifest.selftest) return null;
+  const golden = await (await fetchChecked(new URL(manifest.selftest, SITE), "the self-test case")).json();
+  const got = handle(golden.request);
+  if (got !== golden.response) {
+    let i = 0;
+    while (i < got.length && got[i] === golden.response[i]) i += 1;
+    throw new Error(`self-test ${golden.name} differs from its golden response at character ${i}: ` +
+      `got …${got.slice(Math.max(0, i - 40), i + 40)}… expected …${golden.response.slice(Math.max(0, i - 40), i + 40)}…`);
+  }
+  return golden.name;
+}
+
+function isRuntimeFailure(err) {
+  // A Python exception surfaces as a PythonError; anything else (a wasm trap,
+  // an out-of-memory abort, a fatal error) means the interpreter is unusable.
+  return !(err && err.constructor && err.constructor.name === "PythonError");
+}
+
+function answer(n, json) {
+  if (broken) {
+    post({ type: "response", n, json: null, fatal: broken });
+    return;
+  }
+  try {
+    post({ type: "response", n, json: handle(json) });
+  } catch (err) {
+    if (isRuntimeFailure(err)) {
+      broken = `the Python runtime failed: ${err && err.message ? err.message : err}`;
+      post({ type: "fatal", error: broken });
+      post({ type: "response", n, json: null, fatal: broken });
+      return;
+    }
+    // tamis.api.handle never raises for bad input; if Python raised anyway,
+    // answer with a normal error response in the JSON contract's shape.
+    const message = String(err.message || err).split("\n").filter(Boolean).pop() || "Python error";
+    post({ type: "response", n, json: JSON.stringify({
+      schema: 1, id: null, ok: false,
+      error: { code: "worker_exception", message: `The Python core raised: ${message}`, field: "" },
+    }) });
+  }
+}
+
+self.addEventListener("message", (event) => {
+  const msg = event.data;
+  if (!msg || msg.type !== "request") return;
+  if (handle || broken) answer(msg.n, msg.json);
+  else queue.push(msg);
+});
+
+async function boot() {
+  // loadPyodide fetches the wasm runtime and the stdlib zip in parallel; once
+  // both have arrived, CPython starts and imports its modules from the zip.
+  const pending = new Set(["pyodide.asm.wasm", "python_stdlib.zip"]);
+  prepareFetchGuard(self, SITE.origin, {
+    onFetched(url) {
+      const name = url.pathname.split("/").pop();
+      if (!pending.delete(name)) return;
+      mark(`${name}_fetched_ms`);
+      if (pending.size === 0) status("stdlib", "starting Python from its standard library", 0.4);
+      else status("runtime", `loaded ${name}`, 0.25);
+    },
+  });
+  status("runtime", "loading the Python runtime", 0.02);
+  const [manifest, pyodideModule] = await Promise.all([
+    loadManifest(),
+    import(new URL("pyodide.mjs", PYODIDE_DIR).href).catch((err) => {
+      throw new Error(`the Python runtime (vendor/pyodide/pyodide.mjs) could not be loaded: ${err.message}; ` +
+        "rebuild the app (make build)");
+    }),
+  ]);
+  const py = await pyodideModule.loadPyodide({
+    indexURL: PYODIDE_DIR.href,
+    lockFileURL: new URL("pyodide-lock.json", PYODIDE_DIR).href,
+    packageBaseUrl: PYODIDE_DIR.href,
+    stdout: () => {},
+    stderr: (line) => console.warn("python:", line),
+  });
+  mark("python_started_ms");
+  status("core", `installing the tamis core (${INSTALL_MODE})`, 0.7);
+  await installCore(py, manifest);
+  handle = py.pyimport("tamis.api").handle;
+  mark("core_installed_ms");
+  status("selftest", "checking the core", 0.9);
+  const coreVersion = selfTestVersion(manifest);
+  const goldenName = await selfTestGolden(manifest);
+  mark("selftest_ms");
+  timings.total_ms = timings.selftest_ms;
+  post({
+    type: "status", stage: "ready", progress: 1, ready: true, error: null,
+    detail: `Pyodide ${py.version} ready, tamis core ${coreVersion}` + (goldenName ? `, self-test ${goldenName} passed` : ""),
+    timings, install: INSTALL_MODE, core_version: coreVersion, build_version: manifest.version,
+  });
+  while (queue.length) {
+    const msg = queue.shift();
+    answer(msg.n, msg.json);
+  }
+}
+
+boot().catch((err) => {
+  broken = String(err && err.message ? err.message : err);
+  post({ type: "status", stage: "failed", detail: broken, progress: 0, ready: false, error: broken });
+  post({ type: "fatal", error: broken });
+  while (queue.length) answer(queue.shift().n, null);
+});

@@ -1,0 +1,138 @@
+// tamis service worker: the whole site, Python runtime included, is precached
+// at install from the build manifest, so the app opens and computes with no
+// network. Cache-first for same-origin GETs; nothing is ever fetched from
+// another origin.
+//
+// vendor/build.js (written by scripts/build_webapp.py) defines
+// self.TAMIS_BUILD = {version, files: [{path, sha256, size}], ...}. Because it
+// is imported here, a new build changes a byte the browser's update check
+// compares, and a new worker installs beside the old one. It then waits until
+// the page sends {type: "tamis-skip-waiting"} (the user chose to update).
+//
+// Messages to pages: {type: "tamis-precache", version, total, done, bytes,
+// total_bytes, complete, error}. A page may ask {type: "tamis-status"}; the
+// answer (same shape) checks that every manifest file is in the cache.
+
+/* global TAMIS_BUILD */
+importScripts("./vendor/build.js");
+
+const BUILD = self.TAMIS_BUILD;
+const CACHE_PREFIX = "tamis-";
+const CACHE = CACHE_PREFIX + BUILD.version;
+const SCOPE = new URL(self.registration.scope);
+const FILES = BUILD.files;
+const TOTAL_BYTES = FILES.reduce((sum, f) => sum + f.size, 0);
+const PARALLEL = 4;
+
+function urlOf(path) {
+  return new URL(path, SCOPE).href;
+}
+
+async function sha256Hex(buffer) {
+  const digest = new Uint8Array(await crypto.subtle.digest("SHA-256", buffer));
+  return Array.from(digest, (b) => b.toString(16).padStart(2, "0")).join("");
+}
+
+async function tell(message) {
+  const pages = await self.clients.matchAll({ type: "window", includeUncontrolled: true });
+  for (const page of pages) page.postMessage({ type: "tamis-precache", version: BUILD.version, ...message });
+}
+
+async function precacheOne(cache, file) {
+  const url = urlOf(file.path);
+  const response = await fetch(url, { cache: "reload", credentials: "same-origin" });
+  if (!response.ok) throw new Error(`${file.path}: HTTP ${response.status}`);
+  const body = await response.arrayBuffer();
+  if (body.byteLength !== file.size || (await sha256Hex(body)) !== file.sha256) {
+    throw new Error(`${file.path} differs from the build manifest (the files changed after the build; run make build)`);
+  }
+  const headers = new Headers(response.headers);
+  await cache.put(url, new Response(body, { status: 200, statusText: "OK", headers }));
+  return body.byteLength;
+}
+
+async function precache() {
+  const cache = await caches.open(CACHE);
+  const todo = [...FILES];
+  let done = 0;
+  let bytes = 0;
+  let lastTold = 0;
+  await tell({ total: FILES.length, done, bytes, total_bytes: TOTAL_BYTES, complete: false, error: null });
+  async function lane() {
+    while (todo.length) {
+      const file = todo.shift();
+      bytes += await precacheOne(cache, file);
+      done += 1;
+      const now = Date.now();
+      if (now - lastTold > 100 || done === FILES.length) {
+        lastTold = now;
+        await tell({ total: FILES.length, done, bytes, total_bytes: TOTAL_BYTES, complete: false, error: null });
+      }
+    }
+  }
+  try {
+    await Promise.all(Array.from({ length: PARALLEL }, lane));
+  } catch (err) {
+    await caches.delete(CACHE);
+    await tell({ total: FILES.length, done, bytes, total_bytes: TOTAL_BYTES, complete: false,
+      error: `saving the app for offline use failed: ${err.message}` });
+    throw err;
+  }
+  await tell({ total: FILES.length, done, bytes, total_bytes: TOTAL_BYTES, complete: true, error: null });
+}
+
+async function cacheStatus() {
+  const cache = await caches.open(CACHE);
+  let done = 0;
+  for (const file of FILES) if (await cache.match(urlOf(file.path))) done += 1;
+  return { total: FILES.length, done, bytes: null, total_bytes: TOTAL_BYTES, complete: done === FILES.length,
+    error: null };
+}
+
+self.addEventListener("install", (event) => {
+  event.waitUntil(precache());
+});
+
+self.addEventListener("activate", (event) => {
+  event.waitUntil((async () => {
+    const names = await caches.keys();
+    await Promise.all(names.filter((n) => n.startsWith(CACHE_PREFIX) && n !== CACHE).map((n) => caches.delete(n)));
+    await self.clients.claim();
+  })());
+});
+
+self.addEventListener("message", (event) => {
+  const msg = event.data || {};
+  if (msg.type === "tamis-skip-waiting") {
+    self.skipWaiting();
+  } else if (msg.type === "tamis-status" && event.source) {
+    event.waitUntil(cacheStatus().then((s) => event.source.postMessage(
+      { type: "tamis-precache", version: BUILD.version, active: self.registration.active === self.serviceWorker, ...s })));
+  }
+});
+
+self.addEventListener("fetch", (event) => {
+  const request = event.request;
+  if (request.method !== "GET") return;
+  const url = new URL(request.url);
+  if (url.origin !== SCOPE.origin) {
+    // The page's CSP already forbids this; never fetch another origin for it.
+    event.respondWith(Response.error());
+    return;
+  }
+  event.respondWith((async () => {
+    const cache = await caches.open(CACHE);
+    const key = url.pathname === SCOPE.pathname ? urlOf("index.html") : request;
+    const hit = await cache.match(key, { ignoreSearch: true });
+    if (hit) return hit;
+    try {
+      return await fetch(request);
+    } catch (err) {
+      if (request.mode === "navigate") {
+        const shell = await cache.match(urlOf("index.html"));
+        if (shell) return shell;
+      }
+      throw err;
+    }
+  })());
+});
