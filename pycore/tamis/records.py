@@ -1,0 +1,987 @@
+"""Records: the stored unit, the CSV exchange format, and merging.
+
+A *record* is the unit the app stores (IndexedDB), the CSV carries (one row)
+and the office merges. Its shape is documented in ``docs/records.md``; the CSV
+format in ``docs/csv.md``. This module owns both, so the web worker and the
+office command line write the same bytes.
+
+- :func:`check_record` validates one record (field paths such as
+  ``records[3].rev``) and returns it with every key present.
+- :func:`write_csv` / :func:`read_csv` are the codec. Raw inputs round-trip
+  exactly; the computed ``calc_*`` columns are written for people and are
+  ignored on reading (a reader recomputes, never trusts them).
+- :func:`merge_versions` decides, for one record id, which version wins, or
+  that two versions conflict. The same rule serves ``records_import_csv``
+  (a device's records against a file) and ``records_merge`` (many files).
+
+Numbers in the typed columns are finite floats: a JSON number ``12`` is read
+back as ``12.0``, the same number (JSON and JavaScript do not tell them apart).
+Everything else round-trips exactly.
+
+References
+----------
+- RFC 4180 (IETF, Oct 2005), section 2: CRLF line ends, optional header,
+  fields with comma, quote or line break enclosed in double quotes, an
+  embedded quote doubled.
+- OWASP, "CSV Injection" (www-community attack page, 2025 revision): cells
+  that start with ``=``, ``+``, ``-``, ``@``, tab, carriage return or line
+  feed are read as formulas by spreadsheets; prefix them with a single quote.
+- RFC 9562 (IETF, May 2024), section 4: the text form of a UUID.
+- ISO 8601-1:2019 / RFC 3339: date-time with ``Z`` for UTC.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+import re
+from datetime import datetime
+
+from .errors import InputError, join, require_list, require_mapping
+
+#: Version of the CSV layout, written in the first column of every row.
+CSV_VERSION = "1"
+MARKER = "tamis_csv"
+
+#: Record kinds, in the order their rows are written.
+KINDS = ("band", "base", "test")
+_KIND_RANK = {k: i for i, k in enumerate(KINDS)}
+
+RECORD_KEYS = ("record_id", "kind", "rev", "updated_at", "updated_by", "deleted", "exported_at",
+               "meta", "test", "band", "history")
+#: Keys that make a revision's content (``history`` and ``exported_at`` are not content).
+CONTENT_KEYS = ("record_id", "kind", "rev", "updated_at", "updated_by", "deleted", "meta", "test", "band")
+
+META_TEXT = ("sample_id", "project", "material", "zone", "source", "sampling_point", "station", "lift",
+             "sampled_at", "tested_by", "notes", "band_id", "base_id", "retest_of")
+META_NUM = ("offset_m", "elevation_m", "latitude", "longitude")
+TEST_NUM = ("dry_mass_g", "washed_dry_mass_g", "pan_g")
+PLASTICITY_NUM = ("liquid_limit", "plasticity_index")
+
+FIXED_COLUMNS = (MARKER, "record_id", "kind", "rev", "updated_at", "updated_by", "deleted", "exported_at")
+META_COLUMNS = ("sample_id", "project", "material", "zone", "source", "sampling_point", "station",
+                "offset_m", "elevation_m", "latitude", "longitude", "lift", "sampled_at", "tested_by",
+                "notes", "band_id", "base_id", "retest_of", "rules_json", "meta_extra_json")
+TEST_HEAD = TEST_NUM
+TEST_TAIL = ("nonplastic", "liquid_limit", "plasticity_index", "dispersive", "test_extra_json")
+CALC_COLUMNS = ("calc_d10_mm", "calc_d15_mm", "calc_d60_mm", "calc_d85_mm", "calc_cu", "calc_fines_pct",
+                "calc_verdict", "calc_failing_checks", "calc_note", "calc_core_version")
+REQUIRED_COLUMNS = FIXED_COLUMNS + ("history_json",)
+
+#: Families of columns that carry one opening [mm] in their name.
+FAMILIES = ("retained_g", "passing_pct", "band_min_pct", "band_max_pct")
+_FAMILY_RE = re.compile(r"^(retained_g|passing_pct|band_min_pct|band_max_pct)@([0-9.eE+-]+)mm$")
+
+_STATIC_COLUMNS = frozenset(FIXED_COLUMNS + META_COLUMNS + TEST_HEAD + TEST_TAIL + CALC_COLUMNS
+                            + ("band_name", "band_extra_json", "history_json"))
+
+#: First characters that make a spreadsheet read a cell as a formula (OWASP),
+#: plus the escape character itself so that every text round-trips exactly.
+TRIGGERS = frozenset("=+-@\t\r\n'")
+
+_UUID_RE = re.compile(r"^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$")
+_ISO_RE = re.compile(r"^(\d{4})-(\d{2})-(\d{2})T(\d{2}):(\d{2}):(\d{2})(\.\d{1,9})?Z$")
+_NUM_RE = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$")
+_MAX_EXACT_INT = 2 ** 53
+_FIELD_LIMIT = 1 << 26  # 64 Mi characters per cell while reading
+
+
+# ---------------------------------------------------------------- small helpers
+
+def _is_num(v) -> bool:
+    """A finite JSON number that a float holds exactly."""
+    if isinstance(v, bool) or not isinstance(v, (int, float)):
+        return False
+    if isinstance(v, int):
+        return abs(v) <= _MAX_EXACT_INT
+    return math.isfinite(v)
+
+
+def fmt_num(v) -> str:
+    """Shortest text that reads back as the same float (``repr``, without a trailing ``.0``)."""
+    r = repr(float(v))
+    return r[:-2] if r.endswith(".0") else r
+
+
+def escape_text(s: str) -> str:
+    """Neutralise a text cell: prefix ``'`` when it is empty or starts with a formula
+    trigger or with ``'`` itself (OWASP CSV injection guidance). :func:`unescape_text`
+    undoes it exactly."""
+    if not s or s[0] in TRIGGERS:
+        return "'" + s
+    return s
+
+
+def unescape_text(cell: str) -> str:
+    return cell[1:] if cell[:1] == "'" else cell
+
+
+def dump_json(obj) -> str:
+    return json.dumps(obj, ensure_ascii=False, separators=(",", ":"), allow_nan=False)
+
+
+def _reject_constant(name):
+    raise ValueError(f"{name} is not a valid JSON number")
+
+
+def is_iso_utc(s) -> bool:
+    """``YYYY-MM-DDTHH:MM:SS[.fraction]Z`` naming a real instant (ISO 8601 / RFC 3339, UTC)."""
+    if not isinstance(s, str):
+        return False
+    m = _ISO_RE.match(s)
+    if not m:
+        return False
+    try:
+        datetime(*(int(g) for g in m.groups()[:6]))
+    except ValueError:
+        return False
+    return True
+
+
+def _iso(obj: dict, key: str, path: str, *, optional: bool = False):
+    p = join(path, key)
+    v = obj.get(key)
+    if v is None and optional:
+        return None
+    if not is_iso_utc(v):
+        raise InputError("bad_time", f"{p} must be an ISO 8601 UTC time such as 2026-12-01T09:30:00Z, "
+                                     f"got {v!r}.", p)
+    return v
+
+
+def _json_value(v, path: str):
+    try:
+        dump_json(v)
+    except (TypeError, ValueError) as exc:
+        raise InputError("not_json", f"{path} must hold plain JSON values ({exc}).", path) from None
+
+
+# ---------------------------------------------------------------- the record
+
+def check_record(rec, path: str = "record") -> dict:
+    """Validate one record and return it with every key of :data:`RECORD_KEYS`.
+
+    Keys starting with ``_`` are device-local (for instance a cached result)
+    and are dropped; any other unknown key is an error, so nothing is lost
+    silently. The content of ``test`` and ``band`` is not judged here (a
+    half-entered test is a valid record); ``evaluate`` judges it.
+
+    Raises
+    ------
+    InputError
+        With the field path, e.g. ``records[3].history[0].at``.
+    """
+    require_mapping(rec, path)
+    for k in rec:
+        if k not in RECORD_KEYS and not (isinstance(k, str) and k.startswith("_")):
+            raise InputError("unknown_field", f"{join(path, str(k))} is not a record field; record fields are "
+                                              f"{', '.join(RECORD_KEYS)}.", join(path, str(k)))
+    rid = rec.get("record_id")
+    if not isinstance(rid, str) or not _UUID_RE.match(rid):
+        raise InputError("bad_record_id", f"{join(path, 'record_id')} must be a UUID in lower-case text form "
+                                          f"(8-4-4-4-12 hex digits), got {rid!r}.", join(path, "record_id"))
+    kind = rec.get("kind")
+    if kind not in KINDS:
+        raise InputError("bad_kind", f"{join(path, 'kind')} must be one of {', '.join(KINDS)}, got {kind!r}.",
+                         join(path, "kind"))
+    rev = rec.get("rev")
+    if isinstance(rev, bool) or not isinstance(rev, int) or rev < 1:
+        raise InputError("bad_rev", f"{join(path, 'rev')} must be a whole number 1 or more, got {rev!r}.",
+                         join(path, "rev"))
+    updated_at = _iso(rec, "updated_at", path)
+    by = rec.get("updated_by")
+    if not isinstance(by, str):
+        raise InputError("not_a_string", f"{join(path, 'updated_by')} must be text (initials or a name).",
+                         join(path, "updated_by"))
+    deleted = rec.get("deleted", False)
+    if deleted is None:
+        deleted = False
+    if not isinstance(deleted, bool):
+        raise InputError("not_a_boolean", f"{join(path, 'deleted')} must be true or false.", join(path, "deleted"))
+    exported_at = _iso(rec, "exported_at", path, optional=True)
+    meta = rec.get("meta") or {}
+    require_mapping(meta, join(path, "meta"))
+    for k, v in meta.items():
+        _json_value(v, join(join(path, "meta"), k))
+    out = {"record_id": rid, "kind": kind, "rev": rev, "updated_at": updated_at, "updated_by": by,
+           "deleted": deleted, "exported_at": exported_at, "meta": meta}
+    for key in ("test", "band"):
+        v = rec.get(key)
+        if v is not None:
+            require_mapping(v, join(path, key))
+            _json_value(v, join(path, key))
+        out[key] = v
+    hist = rec.get("history")
+    hist = [] if hist is None else require_list(hist, join(path, "history"))
+    for i, h in enumerate(hist):
+        hp = join(join(path, "history"), i)
+        require_mapping(h, hp)
+        hrev = h.get("rev")
+        if isinstance(hrev, bool) or not isinstance(hrev, int) or hrev < 1:
+            raise InputError("bad_rev", f"{join(hp, 'rev')} must be a whole number 1 or more.", join(hp, "rev"))
+        _iso(h, "at", hp)
+        if not isinstance(h.get("by"), str):
+            raise InputError("not_a_string", f"{join(hp, 'by')} must be text.", join(hp, "by"))
+        _json_value(h, hp)
+    out["history"] = hist
+    return out
+
+
+def content_key(rec: dict) -> str:
+    """Canonical text of a revision's content: equal for equal content whatever the
+    key order or int/float spelling of numbers (history and exported_at excluded)."""
+    return json.dumps(_floats({k: rec[k] for k in CONTENT_KEYS}), sort_keys=True, ensure_ascii=False,
+                      separators=(",", ":"))
+
+
+def _floats(obj):
+    if isinstance(obj, bool) or obj is None or isinstance(obj, str):
+        return obj
+    if isinstance(obj, int):
+        return float(obj)
+    if isinstance(obj, dict):
+        return {k: _floats(v) for k, v in obj.items()}
+    if isinstance(obj, list):
+        return [_floats(v) for v in obj]
+    return obj
+
+
+def row_order(rec: dict):
+    """Rows are written by kind (bands, base soils, tests), then record id."""
+    return (_KIND_RANK[rec["kind"]], rec["record_id"])
+
+
+# ---------------------------------------------------------------- record -> cells
+
+def _pairs_fit(v, value_key: str) -> bool:
+    """A non-empty list of ``{"opening_mm", value_key}`` with openings strictly falling."""
+    if not isinstance(v, list) or not v:
+        return False
+    last = math.inf
+    for e in v:
+        if not isinstance(e, dict) or len(e) != 2 or not _is_num(e.get("opening_mm")) \
+                or not _is_num(e.get(value_key)):
+            return False
+        op = float(e["opening_mm"])
+        if not (0 < op < last):
+            return False
+        last = op
+    return True
+
+
+def _limits_fit(v) -> bool:
+    if not isinstance(v, list) or not v:
+        return False
+    last = math.inf
+    for e in v:
+        if not isinstance(e, dict) or set(e) != {"opening_mm", "min_pct", "max_pct"}:
+            return False
+        lo, hi = e["min_pct"], e["max_pct"]
+        if not _is_num(e["opening_mm"]) or (lo is None and hi is None):
+            return False
+        if not (lo is None or _is_num(lo)) or not (hi is None or _is_num(hi)):
+            return False
+        op = float(e["opening_mm"])
+        if not (0 < op < last):
+            return False
+        last = op
+    return True
+
+
+def _plasticity_fit(v) -> bool:
+    if not isinstance(v, dict) or not v:
+        return False
+    for k, x in v.items():
+        if k == "nonplastic":
+            if not isinstance(x, bool):
+                return False
+        elif k in PLASTICITY_NUM:
+            if not _is_num(x):
+                return False
+        else:
+            return False
+    return True
+
+
+def _bool_cell(b: bool) -> str:
+    return "true" if b else "false"
+
+
+def record_cells(rec: dict) -> dict:
+    """The non-blank cells of a checked record's row (calc columns excluded)."""
+    c = {MARKER: CSV_VERSION, "record_id": escape_text(rec["record_id"]), "kind": rec["kind"],
+         "rev": str(rec["rev"]), "updated_at": rec["updated_at"], "updated_by": escape_text(rec["updated_by"]),
+         "deleted": _bool_cell(rec["deleted"]), "history_json": escape_text(dump_json(rec["history"]))}
+    if rec["exported_at"] is not None:
+        c["exported_at"] = rec["exported_at"]
+    extra = {}
+    for k, v in rec["meta"].items():
+        if k in META_TEXT and isinstance(v, str):
+            c[k] = escape_text(v)
+        elif k in META_NUM and _is_num(v):
+            c[k] = fmt_num(v)
+        elif k == "rules" and isinstance(v, dict):
+            c["rules_json"] = escape_text(dump_json(v))
+        else:
+            extra[k] = v
+    if extra:
+        c["meta_extra_json"] = escape_text(dump_json(extra))
+    test = rec["test"]
+    if test is not None:
+        extra, wrote = {}, False
+        for k, v in test.items():
+            if k in TEST_NUM and _is_num(v):
+                c[k] = fmt_num(v)
+            elif k == "sieves" and _pairs_fit(v, "retained_g"):
+                for e in v:
+                    c[f"retained_g@{fmt_num(e['opening_mm'])}mm"] = fmt_num(e["retained_g"])
+            elif k == "passing" and _pairs_fit(v, "passing_pct"):
+                for e in v:
+                    c[f"passing_pct@{fmt_num(e['opening_mm'])}mm"] = fmt_num(e["passing_pct"])
+            elif k == "plasticity" and _plasticity_fit(v):
+                for pk, x in v.items():
+                    c[pk] = _bool_cell(x) if pk == "nonplastic" else fmt_num(x)
+            elif k == "dispersive" and isinstance(v, bool):
+                c["dispersive"] = _bool_cell(v)
+            else:
+                extra[k] = v
+                continue
+            wrote = True
+        if extra or not wrote:
+            c["test_extra_json"] = escape_text(dump_json(extra))
+    band = rec["band"]
+    if band is not None:
+        extra, wrote = {}, False
+        for k, v in band.items():
+            if k == "name" and isinstance(v, str):
+                c["band_name"] = escape_text(v)
+            elif k == "limits" and _limits_fit(v):
+                for e in v:
+                    o = fmt_num(e["opening_mm"])
+                    if e["min_pct"] is not None:
+                        c[f"band_min_pct@{o}mm"] = fmt_num(e["min_pct"])
+                    if e["max_pct"] is not None:
+                        c[f"band_max_pct@{o}mm"] = fmt_num(e["max_pct"])
+            else:
+                extra[k] = v
+                continue
+            wrote = True
+        if extra or not wrote:
+            c["band_extra_json"] = escape_text(dump_json(extra))
+    return c
+
+
+def header_for(cell_dicts) -> list[str]:
+    """The header for a set of rows: every static column, and the opening columns
+    that some row uses, coarsest first."""
+    openings = {f: set() for f in FAMILIES}
+    for c in cell_dicts:
+        for col in c:
+            if "@" in col:
+                fam, _, rest = col.partition("@")
+                openings[fam].add(float(rest[:-2]))
+    band_ops = sorted(openings["band_min_pct"] | openings["band_max_pct"], reverse=True)
+    cols = list(FIXED_COLUMNS) + list(META_COLUMNS) + list(TEST_HEAD)
+    cols += [f"retained_g@{fmt_num(o)}mm" for o in sorted(openings["retained_g"], reverse=True)]
+    cols += [f"passing_pct@{fmt_num(o)}mm" for o in sorted(openings["passing_pct"], reverse=True)]
+    cols += list(TEST_TAIL) + ["band_name"]
+    for o in band_ops:
+        cols += [f"band_min_pct@{fmt_num(o)}mm", f"band_max_pct@{fmt_num(o)}mm"]
+    cols += ["band_extra_json"] + list(CALC_COLUMNS) + ["history_json"]
+    return cols
+
+
+def _quote(cell: str) -> str:
+    if "," in cell or '"' in cell or "\n" in cell or "\r" in cell:
+        return '"' + cell.replace('"', '""') + '"'
+    return cell
+
+
+def write_csv(records, summaries=None, *, bom: bool = False) -> str:
+    """CSV text of checked records: one header, one row per record, CRLF line ends,
+    rows in :func:`row_order`. ``summaries`` maps record id -> calc cells."""
+    recs = sorted(records, key=row_order)
+    cells = [record_cells(r) for r in recs]
+    if summaries:
+        for r, c in zip(recs, cells):
+            c.update(summaries.get(r["record_id"], {}))
+    header = header_for(cells)
+    lines = [",".join(_quote(h) for h in header)]
+    for c in cells:
+        lines.append(",".join(_quote(c.get(h, "")) for h in header))
+    return ("\ufeff" if bom else "") + "\r\n".join(lines) + "\r\n"
+
+
+# ---------------------------------------------------------------- cells -> record
+
+def row_at(text: str, offset: int) -> int:
+    """Spreadsheet row number (header = 1) of the character at ``offset``."""
+    prefix = text[:offset]
+    try:
+        rows = list(csv.reader(io.StringIO(prefix, newline="")))
+    except csv.Error:
+        return prefix.count("\n") + 1
+    if not rows:
+        return 1
+    return len(rows) + (1 if prefix.endswith("\n") else 0)
+
+
+def decode_csv_bytes(data: bytes, path: str = "csv") -> str:
+    """Decode a file's bytes as UTF-8 (a leading BOM is allowed); a file in
+    another encoding is refused with the row of its first bad byte."""
+    if data[:2] in (b"\xff\xfe", b"\xfe\xff"):
+        raise InputError("not_utf8", "The file is UTF-16 text; save it as CSV UTF-8.", path)
+    try:
+        return data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        good = data[:exc.start].decode("utf-8")
+        n = row_at(good, len(good))
+        raise InputError("not_utf8", f"Row {n}: byte {exc.start} (0x{data[exc.start]:02x}) is not UTF-8; the file "
+                                     "was saved in another encoding. Save it as CSV UTF-8.",
+                         f"{path}.row[{n}]") from None
+
+
+def _parse_num(cell: str, field: str) -> float:
+    if not _NUM_RE.match(cell):
+        hint = " Use a point as the decimal mark." if "," in cell else ""
+        raise InputError("not_a_number", f"{field} must be a number, got {cell!r}.{hint}", field)
+    v = float(cell)
+    if not math.isfinite(v):
+        raise InputError("not_finite", f"{field} must be a finite number, got {cell!r}.", field)
+    return v
+
+
+def _parse_bool(cell: str, field: str) -> bool:
+    low = cell.lower()
+    if low in ("true", "false"):
+        return low == "true"
+    raise InputError("not_a_boolean", f"{field} must be true or false, got {cell!r}.", field)
+
+
+def _parse_json(cell: str, field: str, want: type):
+    try:
+        v = json.loads(unescape_text(cell), parse_constant=_reject_constant)
+    except ValueError as exc:
+        raise InputError("bad_json", f"{field} is not valid JSON ({exc}).", field) from None
+    if not isinstance(v, want):
+        raise InputError("bad_json", f"{field} must hold a JSON {'object' if want is dict else 'list'}.", field)
+    return v
+
+
+def parse_header(header: list[str], path: str) -> dict:
+    """Check the header row; return ``{"cols": [...], "families": {family: [(opening_mm, col), ...]}}``."""
+    where = f"{path}.row[1]"
+    if not header or header[0] != MARKER:
+        raise InputError("not_tamis_csv", f"Row 1 must be the header of a tamis CSV file, starting with the "
+                                          f"column {MARKER}; got {header[:1]!r}.", where)
+    seen, fams, ops_seen = set(), {f: [] for f in FAMILIES}, set()
+    for col in header:
+        if col in seen:
+            raise InputError("duplicate_column", f"Row 1: the column {col!r} appears twice.", f"{where}.{col}")
+        seen.add(col)
+        if col in _STATIC_COLUMNS:
+            continue
+        m = _FAMILY_RE.match(col)
+        if not m or not _NUM_RE.match(m.group(2)) or not (0 < float(m.group(2)) < math.inf):
+            raise InputError("unknown_column", f"Row 1: {col!r} is not a column of this format "
+                                               f"(see docs/csv.md).", f"{where}.{col}")
+        key = (m.group(1), float(m.group(2)))
+        if key in ops_seen:
+            raise InputError("duplicate_column", f"Row 1: {col!r} repeats the opening of another "
+                                                 f"{m.group(1)} column.", f"{where}.{col}")
+        ops_seen.add(key)
+        fams[m.group(1)].append((key[1], col))
+    for col in REQUIRED_COLUMNS:
+        if col not in seen:
+            raise InputError("missing_column", f"Row 1: the required column {col!r} is missing.", f"{where}.{col}")
+    for f in FAMILIES:
+        fams[f].sort(key=lambda t: -t[0])
+    return {"cols": header, "families": fams}
+
+
+def _meta_from(cells: dict, where: str) -> dict:
+    meta = {}
+    for col in META_COLUMNS:
+        cell = cells.get(col)
+        if not cell:
+            continue
+        f = f"{where}.{col}"
+        if col in META_NUM:
+            meta[col] = _parse_num(cell, f)
+        elif col == "rules_json":
+            meta["rules"] = _parse_json(cell, f, dict)
+        elif col == "meta_extra_json":
+            for k, v in _parse_json(cell, f, dict).items():
+                if k in meta:
+                    raise InputError("duplicate_field", f"{f} repeats meta.{k}, which has its own column.", f)
+                meta[k] = v
+        else:
+            meta[col] = unescape_text(cell)
+    return meta
+
+
+def _test_from(cells: dict, fams: dict, where: str):
+    test = {}
+    for col in TEST_NUM:
+        if cells.get(col):
+            test[col] = _parse_num(cells[col], f"{where}.{col}")
+    for fam, key, val in (("retained_g", "sieves", "retained_g"), ("passing_pct", "passing", "passing_pct")):
+        pts = [{"opening_mm": op, val: _parse_num(cells[col], f"{where}.{col}")}
+               for op, col in fams[fam] if cells.get(col)]
+        if pts:
+            test[key] = pts
+    plast = {}
+    if cells.get("nonplastic"):
+        plast["nonplastic"] = _parse_bool(cells["nonplastic"], f"{where}.nonplastic")
+    for col in PLASTICITY_NUM:
+        if cells.get(col):
+            plast[col] = _parse_num(cells[col], f"{where}.{col}")
+    if plast:
+        test["plasticity"] = plast
+    if cells.get("dispersive"):
+        test["dispersive"] = _parse_bool(cells["dispersive"], f"{where}.dispersive")
+    if cells.get("test_extra_json"):
+        f = f"{where}.test_extra_json"
+        for k, v in _parse_json(cells["test_extra_json"], f, dict).items():
+            if k in test:
+                raise InputError("duplicate_field", f"{f} repeats test.{k}, which has its own columns.", f)
+            test[k] = v
+        return test
+    return test or None
+
+
+def _band_from(cells: dict, fams: dict, where: str):
+    band = {}
+    if cells.get("band_name"):
+        band["name"] = unescape_text(cells["band_name"])
+    lims = {}
+    for fam, key in (("band_min_pct", "min_pct"), ("band_max_pct", "max_pct")):
+        for op, col in fams[fam]:
+            if cells.get(col):
+                lims.setdefault(op, {"opening_mm": op, "min_pct": None, "max_pct": None})[key] = \
+                    _parse_num(cells[col], f"{where}.{col}")
+    if lims:
+        band["limits"] = [lims[op] for op in sorted(lims, reverse=True)]
+    if cells.get("band_extra_json"):
+        f = f"{where}.band_extra_json"
+        for k, v in _parse_json(cells["band_extra_json"], f, dict).items():
+            if k in band:
+                raise InputError("duplicate_field", f"{f} repeats band.{k}, which has its own columns.", f)
+            band[k] = v
+        return band
+    return band or None
+
+
+def _column_of(rel_field: str) -> str:
+    """The CSV column that holds a record field path (``history[2].at`` -> ``history_json``)."""
+    top = re.split(r"[.\[]", rel_field, maxsplit=1)[0]
+    if top == "history":
+        return "history_json"
+    if top in ("test", "band"):
+        return f"{top}_extra_json"
+    if top == "meta":
+        key = rel_field[5:].split(".")[0].split("[")[0]
+        return key if key in META_TEXT or key in META_NUM else ("rules_json" if key == "rules"
+                                                                 else "meta_extra_json")
+    return top
+
+
+def row_record(cells: dict, fams: dict, where: str) -> dict:
+    """One record from the non-blank cells of a row; ``where`` is ``csv.row[n]``."""
+    if cells.get(MARKER) != CSV_VERSION:
+        raise InputError("unsupported_version", f"{where}.{MARKER} must be {CSV_VERSION} (this core reads "
+                                                f"version {CSV_VERSION}), got {cells.get(MARKER, '')!r}.",
+                         f"{where}.{MARKER}")
+    for col in ("record_id", "kind", "rev", "updated_at", "updated_by", "deleted", "history_json"):
+        if not cells.get(col):
+            raise InputError("missing_value", f"{where}.{col} is empty; every row needs it.", f"{where}.{col}")
+    rev_cell = cells["rev"]
+    if not rev_cell.isdigit() or not rev_cell.isascii():
+        raise InputError("bad_rev", f"{where}.rev must be a whole number 1 or more, got {rev_cell!r}.",
+                         f"{where}.rev")
+    rec = {
+        "record_id": unescape_text(cells["record_id"]),
+        "kind": cells["kind"],
+        "rev": int(rev_cell),
+        "updated_at": cells["updated_at"],
+        "updated_by": unescape_text(cells["updated_by"]),
+        "deleted": _parse_bool(cells["deleted"], f"{where}.deleted"),
+        "exported_at": cells.get("exported_at") or None,
+        "meta": _meta_from(cells, where),
+        "test": _test_from(cells, fams, where),
+        "band": _band_from(cells, fams, where),
+        "history": _parse_json(cells["history_json"], f"{where}.history_json", list),
+    }
+    try:
+        return check_record(rec, "")
+    except InputError as err:
+        col = _column_of(err.field)
+        raise InputError(err.code, f"{where}.{col}: {err.message}", f"{where}.{col}") from None
+
+
+def read_csv(text: str, path: str = "csv") -> tuple[list[dict], list[dict]]:
+    """Parse and validate a whole CSV file.
+
+    Returns ``(records, rows)`` where ``rows[i]`` is ``{"row": n, "calc": {...}}``
+    for ``records[i]``: the spreadsheet row number and the stored calc cells
+    (kept only for ``report`` to compare; never used as data). Identical rows
+    for the same id are read once.
+
+    Raises
+    ------
+    InputError
+        At the first fault, with field ``<path>.row[<n>].<column>``; nothing
+        is returned from a file with any fault.
+    """
+    if not isinstance(text, str):
+        raise InputError("not_a_string", f"{path} must be the text of a CSV file.", path)
+    if text.startswith("\ufeff"):
+        text = text[1:]
+    bad = text.find("\ufffd")
+    if bad >= 0:
+        n = row_at(text, bad)
+        raise InputError("not_utf8", f"Row {n} holds the replacement character U+FFFD: the file was not read "
+                                     "as UTF-8 (saved in another encoding?). Save it as CSV UTF-8.",
+                         f"{path}.row[{n}]")
+    if not text.strip():
+        raise InputError("empty_file", "The file is empty.", path)
+    old_limit = csv.field_size_limit()
+    csv.field_size_limit(_FIELD_LIMIT)
+    try:
+        return _read_rows(text, path)
+    finally:
+        csv.field_size_limit(old_limit)
+
+
+def _read_rows(text: str, path: str):
+    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    n = 0
+    records, rows, by_id = [], [], {}
+    hdr = None
+    try:
+        for n, row in enumerate(reader, start=1):
+            if hdr is None:
+                hdr = parse_header(row, path)
+                cols = hdr["cols"]
+                continue
+            if not any(row):
+                continue  # a blank line holds nothing
+            where = f"{path}.row[{n}]"
+            if len(row) != len(cols):
+                raise InputError("wrong_cell_count", f"Row {n} has {len(row)} cells but the header has "
+                                                     f"{len(cols)}; the line may be truncated or hold an "
+                                                     "unquoted comma.", where)
+            cells = {c: v for c, v in zip(cols, row) if v}
+            rec = row_record(cells, hdr["families"], where)
+            prev = by_id.get(rec["record_id"])
+            if prev is not None:
+                if content_key(prev[0]) == content_key(rec) and prev[0]["history"] == rec["history"] \
+                        and prev[0]["exported_at"] == rec["exported_at"]:
+                    continue
+                raise InputError("duplicate_id", f"Row {n}: record {rec['record_id']} is also on row {prev[1]} "
+                                                 "with different content.", f"{where}.record_id")
+            by_id[rec["record_id"]] = (rec, n)
+            records.append(rec)
+            rows.append({"row": n, "calc": {c: unescape_text(cells[c]) for c in CALC_COLUMNS if c in cells}})
+    except csv.Error as exc:
+        n += 1  # the row being read when the reader gave up
+        raise InputError("bad_csv", f"Row {n}: {exc} (an opened quote is never closed, or text follows a "
+                                    "closing quote); the file may be truncated.", f"{path}.row[{n}]") from None
+    if hdr is None:
+        raise InputError("empty_file", "The file is empty.", path)
+    return records, rows
+
+
+# ---------------------------------------------------------------- merging
+
+def _head_mark(rec: dict) -> tuple:
+    """Identity of a record's current revision: its history entry for ``rev``,
+    else ``(rev, updated_at, updated_by)``."""
+    for h in rec["history"]:
+        if h["rev"] == rec["rev"]:
+            return (h["rev"], h["at"], h["by"])
+    return (rec["rev"], rec["updated_at"], rec["updated_by"])
+
+
+def descends(a: dict, b: dict) -> bool:
+    """True when revision ``a`` was made from revision ``b``: ``a`` has the higher
+    rev and its history holds ``b``'s head entry (same rev, time and author)."""
+    if a["rev"] <= b["rev"]:
+        return False
+    mark = _head_mark(b)
+    return any((h["rev"], h["at"], h["by"]) == mark for h in a["history"])
+
+
+def _history_key(h: dict):
+    return (h["rev"], h["at"], dump_json(_floats(h)))
+
+
+def merge_history(*histories) -> list:
+    """Union of history entries (an entry once), ordered by rev, time, content."""
+    seen = {}
+    for hist in histories:
+        for h in hist:
+            seen.setdefault(dump_json(_floats(h)), h)
+    return sorted(seen.values(), key=_history_key)
+
+
+def _latest(values):
+    vals = [v for v in values if v is not None]
+    return max(vals) if vals else None
+
+
+def merge_versions(versions: list[dict]) -> tuple[dict, list[dict]]:
+    """Merge every known version of ONE record id; the answer does not depend on
+    the order of ``versions``.
+
+    Versions with the same content are one version (histories united,
+    ``exported_at`` the latest). A version that another one descends from
+    (:func:`descends`) is superseded, its history kept in the winner. If
+    one version remains it wins. If several remain, they are in conflict:
+    the one with the highest (rev, updated_at, content) is kept and each
+    other one is returned as a conflicting version, so nothing is lost.
+
+    Returns
+    -------
+    (kept, others) : the record to keep, and the versions that conflict with it.
+    """
+    groups = {}
+    for v in versions:
+        groups.setdefault(content_key(v), []).append(v)
+    merged = {}
+    for key, vs in groups.items():
+        rep = dict(vs[0])
+        rep["history"] = merge_history(*(v["history"] for v in vs))
+        rep["exported_at"] = _latest(v["exported_at"] for v in vs)
+        merged[key] = rep
+    keys = sorted(merged)
+    below = {k: {j for j in keys if j != k and descends(merged[k], merged[j])} for k in keys}
+    heads = [k for k in keys if not any(k in below[j] for j in keys)]
+    heads.sort(key=lambda k: (merged[k]["rev"], merged[k]["updated_at"], k), reverse=True)
+    top = heads[0]
+    reach, todo = {top}, [top]
+    while todo:
+        for j in below[todo.pop()]:
+            if j not in reach:
+                reach.add(j)
+                todo.append(j)
+    kept = dict(merged[top])
+    kept["history"] = merge_history(*(merged[k]["history"] for k in sorted(reach)))
+    return kept, [merged[k] for k in heads[1:]]
+
+
+def merge_all(record_lists) -> tuple[list[dict], list[dict]]:
+    """Merge lists of checked records by id. Returns ``(records, conflicts)``,
+    records in row order, conflicts as ``{"record_id", "local", "incoming", "reason"}``
+    (``local`` is the version kept) ordered by id."""
+    by_id = {}
+    for lst in record_lists:
+        for r in lst:
+            by_id.setdefault(r["record_id"], []).append(r)
+    out, conflicts = [], []
+    for rid in sorted(by_id):
+        vs = by_id[rid]
+        if len(vs) == 1:
+            out.append(vs[0])
+            continue
+        kept, others = merge_versions(vs)
+        out.append(kept)
+        for o in others:
+            conflicts.append({"record_id": rid, "local": kept, "incoming": o, "reason": _conflict_reason(kept, o)})
+    out.sort(key=row_order)
+    return out, conflicts
+
+
+def _conflict_reason(a: dict, b: dict) -> str:
+    if a["rev"] == b["rev"]:
+        return f"both versions are rev {a['rev']} with different content"
+    hi, lo = (a, b) if a["rev"] > b["rev"] else (b, a)
+    marks = {h["rev"]: (h["at"], h["by"]) for h in hi["history"]}
+    if lo["rev"] in marks:
+        return (f"rev {hi['rev']} was not made from this rev {lo['rev']}: both changed since their common "
+                "ancestor")
+    return f"the history of rev {hi['rev']} does not show that it was made from rev {lo['rev']}"
+
+
+def import_records(incoming: list[dict], existing: list[dict]) -> dict:
+    """Merge a file's records into a device's records (both checked).
+
+    ``added``: ids new to the device; ``updated``: records whose stored form
+    changes (a newer revision, or history entries gained); ``unchanged``;
+    ``conflicts``: both changed, the device's version kept untouched.
+    """
+    local = {r["record_id"]: r for r in existing}
+    out = dict(local)
+    added, updated, unchanged, conflicts = [], [], [], []
+    for inc in incoming:
+        rid = inc["record_id"]
+        loc = local.get(rid)
+        if loc is None:
+            out[rid] = inc
+            added.append(rid)
+            continue
+        kept, others = merge_versions([loc, inc])
+        if others:
+            conflicts.append({"record_id": rid, "local": loc, "incoming": inc,
+                              "reason": _conflict_reason(loc, inc)})
+            continue
+        if kept == loc:
+            unchanged.append(rid)
+        else:
+            out[rid] = kept
+            updated.append(rid)
+    return {"records": sorted(out.values(), key=row_order), "added": sorted(added), "updated": sorted(updated),
+            "unchanged": sorted(unchanged), "conflicts": sorted(conflicts, key=lambda c: c["record_id"])}
+
+
+def check_records(recs, path: str) -> list[dict]:
+    """Check a list of records; the same id twice must carry the same content."""
+    out, seen = [], {}
+    for i, r in enumerate(require_list(recs, path)):
+        rec = check_record(r, join(path, i))
+        j = seen.get(rec["record_id"])
+        if j is not None:
+            if content_key(out[j]) == content_key(rec):
+                continue
+            raise InputError("duplicate_id", f"{join(join(path, i), 'record_id')} repeats the id of {path}[{j}] "
+                                             "with different content.", join(join(path, i), "record_id"))
+        seen[rec["record_id"]] = len(out)
+        out.append(rec)
+    return out
+
+
+# ---------------------------------------------------------------- calc columns
+
+def _call(op: str, fields: dict) -> dict:
+    from . import api
+    return json.loads(api.handle(dump_json({"schema": api.SCHEMA, "op": op, "id": None, **fields})))
+
+
+def compute_summary(rec: dict, index: dict) -> dict:
+    """Recompute a record's summary with the current core, through :func:`tamis.api.handle`.
+
+    A test is evaluated with the band (``meta.band_id``), base soil
+    (``meta.base_id``) and ``meta.rules`` it names, looked up in ``index``
+    (record id -> record, the same file). When a named band or base is not
+    there, no verdict is given (a verdict without that check could read as
+    a pass); D-values still are. A base soil gets its gradation only.
+
+    Returns ``{"d_mm": {...}|None, "cu", "fines_pct", "verdict", "failing_checks",
+    "note", "core_version"}``; numbers unrounded, ``None`` when not computed.
+    """
+    out = {"d_mm": None, "cu": None, "fines_pct": None, "verdict": None, "failing_checks": [],
+           "note": None, "core_version": None}
+    test = rec["test"]
+    if rec["kind"] == "band":
+        return out
+    if rec["deleted"]:
+        out["note"] = "deleted record: not computed"
+        return out
+    if test is None:
+        out["note"] = "no test data yet"
+        return out
+    fields, missing = {"sample": test}, []
+    if rec["kind"] == "test":
+        meta = rec["meta"]
+        for key, kind, field, part in (("band_id", "band", "band", "band"), ("base_id", "base", "base", "test")):
+            ref = meta.get(key)
+            if ref is None:
+                continue
+            other = index.get(ref) if isinstance(ref, str) else None
+            if other is None or other["kind"] != kind or other["deleted"] or other[part] is None:
+                missing.append(f"{kind} record {ref} named in meta.{key} is not in this file")
+            else:
+                fields[field] = other[part]
+        if isinstance(meta.get("rules"), dict):
+            fields["rules"] = meta["rules"]
+    if rec["kind"] == "base" or missing:
+        resp = _call("gradation", {"test": test})
+        grad = resp.get("result") if resp.get("ok") else None
+    else:
+        resp = _call("evaluate", fields)
+        res = resp.get("result") if resp.get("ok") else None
+        grad = res.get("sample") if res else None
+        if res:
+            out["verdict"] = res.get("verdict")
+            out["failing_checks"] = sorted({c.get("id") for c in res.get("checks", [])
+                                            if c.get("status") == "fail"})
+    if not resp.get("ok"):
+        err = resp.get("error", {})
+        out["note"] = f"not computed: {err.get('field') or 'test'}: {err.get('message')}"
+        return out
+    out["core_version"] = resp.get("core_version")
+    if isinstance(grad, dict):
+        d = grad.get("d_mm") or {}
+        out["d_mm"] = {k: d.get(k) for k in ("D10", "D15", "D60", "D85")}
+        out["cu"] = grad.get("cu")
+        out["fines_pct"] = grad.get("fines_pct")
+    if missing:
+        out["note"] = "no verdict: " + "; ".join(missing)
+    return out
+
+
+def summary_cells(s: dict) -> dict:
+    """The ``calc_*`` cells of a summary (blank cells left out)."""
+    c = {}
+    for k, v in (s["d_mm"] or {}).items():
+        if _is_num(v):
+            c[f"calc_{k.lower()}_mm"] = fmt_num(v)
+    for k, col in (("cu", "calc_cu"), ("fines_pct", "calc_fines_pct")):
+        if _is_num(s[k]):
+            c[col] = fmt_num(s[k])
+    if s["verdict"]:
+        c["calc_verdict"] = escape_text(s["verdict"])
+    if s["failing_checks"]:
+        c["calc_failing_checks"] = escape_text(" ".join(s["failing_checks"]))
+    if s["note"]:
+        c["calc_note"] = escape_text(s["note"])
+    if s["core_version"]:
+        c["calc_core_version"] = escape_text(s["core_version"])
+    return c
+
+
+def summaries_for(records: list[dict], context=()) -> dict:
+    """record id -> calc cells, each record looked up against the others (then ``context``)."""
+    index = {r["record_id"]: r for r in context}
+    index.update({r["record_id"]: r for r in records})
+    return {r["record_id"]: summary_cells(compute_summary(r, index)) for r in records if r["kind"] != "band"}
+
+
+# ---------------------------------------------------------------- ops (tamis.api)
+
+def export_csv(records: list[dict], *, bom: bool = False, context=()) -> str:
+    """CSV text of checked records with their calc columns computed now; bands and
+    base soils are looked up in ``records``, then in ``context`` (not written)."""
+    return write_csv(records, summaries_for(records, context), bom=bom)
+
+
+def op_export_csv(req: dict):
+    """``{"records": [...], "bom": false, "context": [...]}`` -> ``{"csv", "count"}``.
+
+    ``context`` (optional) holds records that are looked up for the calc
+    columns (a band, a base soil) but not written."""
+    recs = check_records(req.get("records"), "records")
+    context = check_records(req.get("context") or [], "context")
+    bom = req.get("bom", False)
+    if not isinstance(bom, bool):
+        raise InputError("not_a_boolean", "bom must be true or false.", "bom")
+    return {"csv": export_csv(recs, bom=bom, context=context), "count": len(recs)}, []
+
+
+def op_import_csv(req: dict):
+    """``{"csv": text, "existing": [...]}`` -> the merged records to store, and what changed."""
+    incoming, rows = read_csv(req.get("csv"), "csv")
+    existing = check_records(req.get("existing") or [], "existing")
+    result = import_records(incoming, existing)
+    result["rows"] = len(rows)
+    return result, []
+
+
+def op_merge(req: dict):
+    """``{"files": [csv text, ...]}`` -> ``{"csv", "count", "conflicts"}``."""
+    files = require_list(req.get("files"), "files", min_len=1)
+    lists = [read_csv(t, f"files[{i}]")[0] for i, t in enumerate(files)]
+    merged, conflicts = merge_all(lists)
+    return {"csv": export_csv(merged), "count": len(merged), "conflicts": conflicts}, []
