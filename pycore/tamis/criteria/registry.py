@@ -1,0 +1,214 @@
+"""The one registry of every check id the core can emit.
+
+Each entry states the rule in our own words, when it applies, the source
+(document, edition, table or equation) and the provenance of its numbers:
+
+- ``read``: read in the source document;
+- ``read in a secondary source``: read in a summary that quotes the document;
+- ``from memory``: recalled, not verified against the document;
+- ``derived``: computed or chosen by us from the stated rules;
+- ``common practice, no source``: a rule of thumb.
+
+``docs/criteria.md`` is generated from this table by
+``scripts/gen_criteria_docs.py`` and a test fails when the two drift.
+Checks take their ``source`` text from here (:func:`source_text`).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+PROVENANCE_TAGS = ("read", "read in a secondary source", "from memory", "derived",
+                   "common practice, no source")
+
+NEH_1994 = "USDA NRCS National Engineering Handbook Part 633 Ch. 26, Gradation Design of Sand and Gravel Filters"
+USBR_2011 = "USBR Design Standards No. 13 Ch. 5, Protective Filters, DS-13(5)-9"
+FEMA_2011 = "FEMA, Filters for Embankment Dams: Best Practices for Design and Construction"
+TERZAGHI = "Terzaghi & Peck, Soil Mechanics in Engineering Practice"
+
+
+@dataclass(frozen=True)
+class Entry:
+    id: str
+    variant: str          # "" for every rule set, else the rule-set name
+    title: str
+    rule: str
+    applies: str
+    source: str
+    edition: str
+    locator: str          # table, equation or step
+    provenance: str
+
+    def __post_init__(self) -> None:
+        if not any(self.provenance.startswith(t) for t in PROVENANCE_TAGS):
+            raise ValueError(f"{self.id}: provenance must start with one of {PROVENANCE_TAGS}")
+
+
+_E = Entry
+
+ENTRIES: tuple[Entry, ...] = (
+    # ---- lab QA and band checks (computed in tamis.sieve_test / tamis.bands) ----
+    _E("qa.mass_balance", "", "Sieving mass balance",
+       "The sum of the masses retained and in the pan agrees with the mass put on the sieves within 0.3 % "
+       "of the original dry mass; otherwise the result is not used for acceptance.",
+       "Every sieve test entered as masses.",
+       "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates", "C136/C136M-14 and -19",
+       "Section 8.7 (checklist item 9)", "read in a secondary source (laboratory checklist of C136-14)"),
+    _E("qa.sieve_overload", "", "Sieve overload",
+       "The mass retained on a sieve finer than 4.75 mm does not exceed 7 kg/m2 of sieving surface "
+       "(about 200 g on a 203 mm sieve); coarser sieves by the C136 table.",
+       "Every sieve test entered as masses with a sieve diameter.",
+       "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates", "C136/C136M-19",
+       "Section 8.3", "read in a secondary source (excerpt of C136-19 Section 8.3)"),
+    _E("qa.specimen_mass", "", "Minimum test specimen mass",
+       "The dry mass of the specimen is at least the minimum for its nominal maximum size.",
+       "Every sieve test entered as masses.",
+       "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates", "C136/C136M-19",
+       "Section 7.4 (minimum mass by nominal maximum size)", "from memory"),
+    _E("band.compliance", "", "Specification band",
+       "At every sieve of the band the percent passing lies between the band's minimum and maximum.",
+       "When a band is given.",
+       "The project specification (the band entered by the user)", "as entered", "the band limits",
+       "common practice, no source"),
+    # ---- retention (maximum D15F) ----
+    _E("filter.retention", "nrcs-1994", "Retention: maximum D15 of the filter",
+       "Category 1 (A > 85 %): D15F <= 9 x d85B, not less than 0.2 mm (dispersive base: 6.5 x d85B, not less "
+       "than 0.2 mm). Category 2 (40 <= A <= 85 %): D15F <= 0.7 mm (dispersive: 0.5 mm). Category 3 "
+       "(15 <= A < 40 %): D15F <= ((40 - A)/(40 - 15)) x (4 x d85B - 0.7 mm) + 0.7 mm, with 0.7 mm when "
+       "4 x d85B < 0.7 mm (no dispersive variant known: the non-dispersive limit is used and the check "
+       "warns). Category 4 (A < 15 %): D15F <= 4 x d85B. A and d85B are read on the base regraded on "
+       "4.75 mm. Within 2 points of A = 85 % both neighbouring limits are computed and the check warns "
+       "unless both pass.",
+       "A filter placed against a base soil; base curve reaching 0.075 mm.",
+       NEH_1994, "210-vi-NEH, October 1994", "Table 26-1 (categories), Table 26-2 (D15F max), Step 3 (regrading)",
+       "from memory (categories, non-dispersive limits); read in a secondary source (cat 1 and 4 multipliers, "
+       "6.5 x d85B dispersive)"),
+    _E("filter.retention", "usbr-2011", "Retention: maximum D15 of the filter",
+       "As nrcs-1994: the same category limits, dispersive variants and regrading on 4.75 mm.",
+       "A filter placed against a base soil.", USBR_2011, "Phase 4 (Final), November 2011",
+       "Chapter 5, filter design steps (base-soil categories and D15F max)", "from memory"),
+    _E("filter.retention", "fema-2011", "Retention: maximum D15 of the filter",
+       "As nrcs-1994: the same category limits, dispersive variants and regrading on 4.75 mm.",
+       "A filter placed against a base soil.", FEMA_2011, "October 2011",
+       "Chapter 6, design steps 4 and 5", "from memory"),
+    _E("filter.retention", "terzaghi", "Retention: D15F / D85B",
+       "D15F <= ratio x D85B on the curves as given (no regrading), ratio from rules.terzaghi_ratio (4 to 5, "
+       "default 4).", "A filter placed against a base soil.", TERZAGHI, "1948 and later editions",
+       "filter criteria (retention ratio)", "from memory"),
+    # ---- permeability (minimum D15F) ----
+    _E("filter.permeability", "nrcs-1994", "Permeability: minimum D15 of the filter",
+       "D15F >= 4 x d15B of the base before regrading, and not less than 0.1 mm.",
+       "A filter placed against a base soil.", NEH_1994, "210-vi-NEH, October 1994",
+       "Table 26-2 note / design step 6", "from memory"),
+    _E("filter.permeability", "usbr-2011", "Permeability: minimum D15 of the filter",
+       "D15F >= 5 x d15B of the base before regrading, and not less than 0.1 mm.",
+       "A filter placed against a base soil.", USBR_2011, "Phase 4 (Final), November 2011",
+       "Chapter 5, permeability criterion", "from memory"),
+    _E("filter.permeability", "fema-2011", "Permeability: minimum D15 of the filter",
+       "D15F >= 5 x d15B of the base before regrading, and not less than 0.1 mm.",
+       "A filter placed against a base soil.", FEMA_2011, "October 2011", "Chapter 6, design step 6",
+       "from memory"),
+    _E("filter.permeability", "terzaghi", "Permeability: D15F / D15B",
+       "D15F >= ratio x D15B, ratio from rules.terzaghi_ratio (4 to 5, default 4).",
+       "A filter placed against a base soil.", TERZAGHI, "1948 and later editions",
+       "filter criteria (permeability ratio)", "from memory"),
+    # ---- filter material ----
+    _E("filter.fines", "", "Fines content of the filter",
+       "At most 5 % passing 0.075 mm (No. 200), on the material as tested (placed and compacted material "
+       "is the stricter case).", "Every filter sample.", NEH_1994, "210-vi-NEH, October 1994",
+       "design step 8 (D5 min 0.075 mm); same in FEMA 2011 and USBR 2011", "from memory"),
+    _E("filter.plasticity", "", "Fines of the filter are nonplastic",
+       "The fines must be nonplastic (NP, or plasticity index 0); a positive PI fails; unknown plasticity "
+       "needs data.", "Every filter sample with fines.", NEH_1994, "210-vi-NEH, October 1994",
+       "design step 8; FEMA 2011 (sand-castle test)", "from memory"),
+    _E("filter.max_size", "", "Maximum particle size of the filter",
+       "D100 <= 75 mm (3 in). D100 is the finest sieve that passes 100 %.", "Every filter sample.",
+       NEH_1994, "210-vi-NEH, October 1994", "design step 8 (D100 max)", "from memory"),
+    _E("filter.segregation", "", "Segregation: maximum D90 for the filter's D10",
+       "D90 at most 20 / 25 / 30 / 40 / 50 / 60 mm for D10 up to 0.5 / 1 / 2 / 5 / 10 / above 10 mm. A D10 on "
+       "a row edge takes the stricter row (our choice). When D10 lies below the finest sieve and that sieve "
+       "is at most 0.5 mm, the first row applies without D10.", "Every filter sample.", NEH_1994,
+       "210-vi-NEH, October 1994", "Table 26-3 (segregation); same values in FEMA 2011 and USBR 2011",
+       "from memory"),
+    # ---- internal stability ----
+    _E("stability.kezdi", "", "Internal stability: Kezdi split test",
+       "Split the curve at every size; renormalise the coarse and the fine part to 100 %; stable when "
+       "D'15 (coarse) / d'85 (fine) <= 4 at every split.",
+       "Whole curve; needs data when splits near the fine or coarse end cannot be read.",
+       "Kezdi, A., Soil Physics: Selected Topics", "Elsevier, 1979", "the split-curve criterion",
+       "from memory"),
+    _E("stability.kenney_lau", "", "Internal stability: Kenney & Lau H/F",
+       "F = P(d), H = P(4d) - P(d); stable when (H/F)min >= the boundary, scanned over F <= 20 % for "
+       "widely graded (Cu > 3) and F <= 30 % for narrowly graded (Cu <= 3) soils. Boundary 1.0 (1986 "
+       "reply, default) or 1.3 (1985 paper), set by rules.kenney_lau_boundary.",
+       "Granular soils; needs data when the curve stops above F = 0 without a failure found.",
+       "Kenney, T.C. & Lau, D., Internal stability of granular filters, Canadian Geotechnical Journal",
+       "22(2), 1985; reply 23, 1986", "H/F boundary and F ranges", "from memory"),
+    _E("stability.li_fannin", "", "Internal stability: Li & Fannin",
+       "Unstable when H < F for F < 15 %, or H < 15 % for F >= 15 %, over the Kenney & Lau F range.",
+       "Granular soils; needs data as for Kenney & Lau.",
+       "Li, M. & Fannin, R.J., Comparison of two criteria for internal stability of granular soil, "
+       "Canadian Geotechnical Journal", "45, 2008, pp. 1303-1309", "combined Kezdi / Kenney-Lau boundary",
+       "from memory"),
+    _E("stability.burenkova", "", "Internal stability: Burenkova",
+       "h' = d90/d60, h'' = d90/d15; non-suffusive when 0.76 log10(h'') + 1 < h' < 1.86 log10(h'') + 1.",
+       "Whole curve (needs D15, D60 and D90).",
+       "Burenkova, V.V., Assessment of suffusion in non-cohesive and graded soils, Filters in Geotechnical "
+       "and Hydraulic Engineering", "Balkema, 1993", "the h'-h'' bounds", "from memory"),
+    _E("stability.wan_fell", "", "Internal stability: Wan & Fell probability",
+       "P(unstable) = e^Z / (1 + e^Z), Z = 2.378 log10(h'') - 3.648 h' + 3.701. The check warns when "
+       "P >= 0.5 (the cut-off is ours, no source); outside silt-sand-gravel soils it also warns.",
+       "Broadly graded silt-sand-gravel and clay-silt-sand-gravel soils, not gap-graded.",
+       "Wan, C.F. & Fell, R., Assessing the potential of internal instability and suffusion in embankment "
+       "dams and their foundations, Journal of Geotechnical and Geoenvironmental Engineering",
+       "134(3), 2008, pp. 401-407", "logistic regression on h' and h''",
+       "from memory (coefficients); derived (the 0.5 cut-off)"),
+    _E("stability.istomina", "", "Internal stability: Istomina Cu screen",
+       "Cu = D60/D10 <= 10 stable; 10 < Cu <= 20 transitional (warns); Cu > 20 unstable.",
+       "Whole curve (needs D60 and D10, or a lower bound of Cu above 20).",
+       "Istomina, V.S., Filtration stability of soils", "Gostroizdat, Moscow, 1957", "Cu limits",
+       "from memory"),
+    # ---- permeability estimates (never enter the verdict) ----
+    _E("permeability.hazen", "", "Estimate: Hazen",
+       "k [cm/s] = C_H x D10[cm]^2 with C_H = rules.hazen_c (default 100). An estimate, not a rule: status "
+       "not_applicable. Validity kept as data: D10 0.1 to 3 mm, Cu < 5; outside gives a warning finding.",
+       "Loose clean sands.",
+       "Carrier, W.D., Goodbye, Hazen; Hello, Kozeny-Carman, Journal of Geotechnical and Geoenvironmental "
+       "Engineering", "129(11), 2003, p. 1054", "Eq. 1 (Hazen); validity range",
+       "read (equation form and loose clean sands); from memory (C_H = 100, D10 0.1-3 mm, Cu < 5)"),
+    _E("permeability.kozeny_carman", "", "Estimate: Kozeny-Carman",
+       "k [cm/s, 20 C] = 1.99e4 x D_eff[cm]^2 x (1/SF^2) x e^3/(1+e), with 1/D_eff = sum f_i / "
+       "(D_li^0.404 x D_si^0.595) over the fractions between sieves; the fraction below the finest sieve "
+       "is spread down to rules.kc_pan_lower_mm (default half the finest sieve). An estimate: status "
+       "not_applicable. Needs rules.void_ratio; shape factor rules.shape_factor (default 7.0).",
+       "Nonplastic soils; not for plastic fines.",
+       "Carrier, W.D., Goodbye, Hazen; Hello, Kozeny-Carman, Journal of Geotechnical and Geoenvironmental "
+       "Engineering", "129(11), 2003", "Kozeny-Carman with effective diameter; Fair & Hatch shape factors",
+       "from memory"),
+    _E("permeability.ratio", "", "Estimate: filter / base permeability ratio",
+       "kF/kB is estimated as (D15F/D15B)^2 (k varies with D15 squared). An estimate: status not_applicable.",
+       "A filter placed against a base soil.", "Terzaghi & Peck, Soil Mechanics in Engineering Practice",
+       "1948 and later editions", "rationale of the D15 permeability ratio", "from memory"),
+)
+
+_BY_KEY = {(e.id, e.variant): e for e in ENTRIES}
+
+
+def check_ids() -> list[str]:
+    """Every check id the core can emit, sorted."""
+    return sorted({e.id for e in ENTRIES})
+
+
+def entry(check_id: str, variant: str = "") -> Entry:
+    """The registry entry for ``check_id`` (and the rule set ``variant`` when it has one)."""
+    if (check_id, variant) in _BY_KEY:
+        return _BY_KEY[(check_id, variant)]
+    if (check_id, "") in _BY_KEY:
+        return _BY_KEY[(check_id, "")]
+    raise KeyError(f"check id {check_id!r} (variant {variant!r}) is not registered")
+
+
+def source_text(check_id: str, variant: str = "") -> str:
+    """The ``source`` string a check carries: document, edition, locator, provenance."""
+    e = entry(check_id, variant)
+    return f"{e.source}, {e.edition}, {e.locator} [{e.provenance}]"

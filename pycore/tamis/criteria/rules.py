@@ -1,0 +1,69 @@
+"""Parsing of the ``rules`` object of ``evaluate``, ``zones`` and ``design_band``.
+
+Defaults (documented in ``docs/criteria.md``):
+
+=====================  ===========  =============================================================
+key                    default      meaning
+=====================  ===========  =============================================================
+criteria               nrcs-1994    rule set: nrcs-1994, usbr-2011, fema-2011, terzaghi
+terzaghi_ratio         4.0          ratio of the terzaghi set, 4 to 5 (error outside)
+dispersive             null         true/false overrides the base's own ``dispersive`` flag
+regrade_on_mm          4.75         regrading sieve of the base (NRCS/USBR/FEMA sets)
+kenney_lau_boundary    1.0          1.0 (Kenney & Lau 1986) or 1.3 (1985)
+stability              true         run the internal-stability methods on the filter
+hazen_c                100.0        Hazen coefficient C_H [cm^-1 s^-1], > 0
+void_ratio             null         void ratio e for Kozeny-Carman (no estimate without it)
+shape_factor           7.0          Kozeny-Carman shape factor SF (Fair & Hatch: 6.0 to 7.7)
+kc_pan_lower_mm        null         smallest size of the fraction below the finest sieve [mm];
+                                    null means half the finest sieve
+=====================  ===========  =============================================================
+
+Unknown keys are refused (a misspelt rule must not pass silently); keys
+starting with ``_`` are ignored.
+"""
+
+from __future__ import annotations
+
+from ..errors import InputError, boolean, join, number, require_mapping, text
+from .tables import DEFAULT_RULE_SET, NO_4_MM, RULE_SETS
+
+KEYS = ("criteria", "terzaghi_ratio", "dispersive", "regrade_on_mm", "kenney_lau_boundary",
+        "stability", "hazen_c", "void_ratio", "shape_factor", "kc_pan_lower_mm")
+
+KENNEY_LAU_BOUNDARIES = (1.0, 1.3)
+
+
+def parse_rules(rules: dict | None, path: str = "rules") -> dict:
+    """Return the rules after defaults, or raise :class:`InputError` naming the field."""
+    if rules is None:
+        rules = {}
+    require_mapping(rules, path)
+    for key in rules:
+        if not isinstance(key, str) or key.startswith("_"):
+            continue
+        if key not in KEYS:
+            raise InputError("unknown_rule", f"{join(path, key)} is not a known rule; known: {', '.join(KEYS)}.",
+                             join(path, key))
+    crit = text(rules, "criteria", path, default=DEFAULT_RULE_SET, choices=tuple(RULE_SETS))
+    t = RULE_SETS["terzaghi"]
+    ratio = number(rules, "terzaghi_ratio", path, required=False, default=t["ratio_default"],
+                   minimum=t["ratio_min"], maximum=t["ratio_max"])
+    kl = number(rules, "kenney_lau_boundary", path, required=False, default=1.0)
+    if kl not in KENNEY_LAU_BOUNDARIES:
+        p = join(path, "kenney_lau_boundary")
+        raise InputError("unknown_choice", f"{p} must be 1.0 (Kenney & Lau 1986) or 1.3 (1985); got {kl:g}.", p)
+    stability = boolean(rules, "stability", path, default=True)
+    return {
+        "criteria": crit,
+        "terzaghi_ratio": ratio,
+        "dispersive": boolean(rules, "dispersive", path, default=None),
+        "regrade_on_mm": number(rules, "regrade_on_mm", path, required=False, default=NO_4_MM,
+                                exclusive_minimum=0.0),
+        "kenney_lau_boundary": kl,
+        "stability": stability,
+        "hazen_c": number(rules, "hazen_c", path, required=False, default=100.0, exclusive_minimum=0.0),
+        "void_ratio": number(rules, "void_ratio", path, required=False, default=None, exclusive_minimum=0.0),
+        "shape_factor": number(rules, "shape_factor", path, required=False, default=7.0, exclusive_minimum=0.0),
+        "kc_pan_lower_mm": number(rules, "kc_pan_lower_mm", path, required=False, default=None,
+                                  exclusive_minimum=0.0),
+    }

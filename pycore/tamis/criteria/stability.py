@@ -1,0 +1,309 @@
+"""Internal stability (suffusion) of a filter, one pure function per method.
+
+Each method gives its own check, verdict and the value that decided it; they
+are never merged into one verdict, because they disagree (Kezdi, Kenney & Lau
+and Istomina can call one curve unstable while Burenkova calls it stable).
+P(d) is read on the curve as measured (not regraded). A method that needs a
+part of the curve that was not measured reports ``needs_data`` unless the
+measured part already shows instability: nothing is extrapolated.
+
+Sources (all from memory; see the registry): Kezdi (1979) Soil Physics,
+Elsevier; Kenney & Lau (1985) CGJ 22(2) and reply (1986) CGJ 23; Li & Fannin
+(2008) CGJ 45:1303-1309; Burenkova (1993) in Filters in Geotechnical and
+Hydraulic Engineering, Balkema; Wan & Fell (2008) JGGE 134(3):401-407;
+Istomina (1957).
+"""
+
+from __future__ import annotations
+
+import math
+
+from ..curve import Curve, coefficient_of_uniformity, passing_at, size_at
+from ..findings import FAIL, NEEDS_DATA, PASS, WARN, Check, Finding
+from .checks import make_check
+
+KEZDI_LIMIT = 4.0                      # D'15 coarse / d'85 fine
+KL_F_MAX_WIDE_PCT = 20.0               # widely graded, Cu > 3
+KL_F_MAX_NARROW_PCT = 30.0             # narrowly graded, Cu <= 3
+KL_CU_NARROW_MAX = 3.0
+LI_FANNIN_F_SPLIT_PCT = 15.0
+BURENKOVA = {"lower_a": 0.76, "upper_a": 1.86, "b": 1.0}          # h' bounds = a log10(h'') + b
+WAN_FELL = {"a": 2.378, "b": -3.648, "c": 3.701}                 # Z = a log10(h'') + b h' + c
+WAN_FELL_CUTOFF = 0.5                  # ours, no source
+ISTOMINA = {"stable_max": 10.0, "transition_max": 20.0}
+
+_EPS = 1e-9
+_GRID = 40                             # scan points between breakpoints
+
+
+def _span(curve: Curve) -> tuple[float, float]:
+    """(percent at the finest sieve, percent at the coarsest sieve) [%]."""
+    return curve.points[-1][1], curve.points[0][1]
+
+
+def _size_inside(curve: Curve, pct: float) -> float | None:
+    return size_at(curve, pct)
+
+
+# ----------------------------------------------------------------- Kezdi 1979
+def kezdi_1979(curve: Curve) -> Check:
+    """Kezdi split test: at every split, D'15 of the coarse part / d'85 of the
+    fine part <= 4 (both parts renormalised to 100 %).
+
+    With the split at Ps % passing, D'15c is the size at Ps + 0.15 (100 - Ps)
+    and d'85f the size at 0.85 Ps on the whole curve. The log of the ratio is
+    linear in Ps between breakpoints, so its maximum is found at breakpoints
+    (approached from both sides where the curve has flat steps).
+    """
+    p_min, p_max = _span(curve)
+    lo = max(p_min / 0.85, _EPS)
+    hi = min((p_max - 15.0) / 0.85, 100.0 - _EPS)
+    incomplete = p_min > 0.0 or p_max < 100.0
+    if hi < lo:
+        return make_check("stability.kezdi", NEEDS_DATA,
+                          "Kezdi split test cannot be made: the measured curve is too short.", limit=KEZDI_LIMIT,
+                          relation="<=", unit="-")
+    cands = {lo, hi}
+    for _, p in curve.points:
+        for ps in ((p - 15.0) / 0.85, p / 0.85):
+            for s in (ps - 1e-7, ps, ps + 1e-7):
+                if lo <= s <= hi:
+                    cands.add(s)
+    worst = None
+    for ps in sorted(cands):
+        dc = size_at(curve, ps + 0.15 * (100.0 - ps))
+        df = size_at(curve, 0.85 * ps)
+        if dc is None or df is None or df <= 0:
+            continue
+        r = dc / df
+        if worst is None or r > worst[0]:
+            worst = (r, ps, size_at(curve, ps))
+    if worst is None:
+        return make_check("stability.kezdi", NEEDS_DATA, "Kezdi split test: no split could be read.",
+                          limit=KEZDI_LIMIT, relation="<=", unit="-")
+    r, ps, d = worst
+    extra = {"split_passing_pct": ps, "split_mm": d, "complete": not incomplete}
+    if r > KEZDI_LIMIT:
+        return make_check("stability.kezdi", FAIL,
+                          f"Kezdi: D'15 coarse / d'85 fine reaches {r:.3g} (> {KEZDI_LIMIT:g}) at the split "
+                          f"{ps:.1f} % passing: the fine part could wash out of the coarse part.",
+                          value=r, limit=KEZDI_LIMIT, relation="<=", unit="-", extra=extra)
+    if incomplete:
+        return make_check("stability.kezdi", NEEDS_DATA,
+                          f"Kezdi: the largest ratio over the measured splits is {r:.3g} (<= {KEZDI_LIMIT:g}), but "
+                          "splits beyond the measured curve could not be read; add finer (hydrometer) or coarser "
+                          "points.", value=r, limit=KEZDI_LIMIT, relation="<=", unit="-", extra=extra)
+    return make_check("stability.kezdi", PASS,
+                      f"Kezdi: the largest D'15 coarse / d'85 fine is {r:.3g} (<= {KEZDI_LIMIT:g}).", value=r,
+                      limit=KEZDI_LIMIT, relation="<=", unit="-", extra=extra)
+
+
+# ------------------------------------------------ Kenney & Lau, Li & Fannin
+def _kl_f_max(curve: Curve) -> tuple[float, str]:
+    """F limit [%] of the H/F scan from Cu (Cu > 3 widely graded: 20 %, else 30 %)."""
+    d60, d10 = size_at(curve, 60.0), size_at(curve, 10.0)
+    cu = coefficient_of_uniformity(d60, d10)
+    if cu is not None:
+        wide = cu > KL_CU_NARROW_MAX
+        return (KL_F_MAX_WIDE_PCT if wide else KL_F_MAX_NARROW_PCT), f"Cu = {cu:.3g}"
+    finest_mm, finest_pct = curve.points[-1]
+    if d60 is not None and finest_pct > 10.0 and d60 / finest_mm > KL_CU_NARROW_MAX:
+        return KL_F_MAX_WIDE_PCT, f"Cu > {d60 / finest_mm:.3g} (D10 below the finest sieve)"
+    return KL_F_MAX_NARROW_PCT, "Cu unknown: the wider F range (30 %) is scanned"
+
+
+def hf_scan(curve: Curve, f_max_pct: float) -> tuple[list[tuple[float, float, float]], bool]:
+    """Sample (d_mm, F_pct, H_pct) over F in (0, f_max_pct], F = P(d), H = P(4d) - P(d).
+
+    Returns the samples and whether the scan covered the whole F range
+    (False when the curve stops above F = 0 or P(4d) is unknown somewhere).
+    """
+    p_min, _ = _span(curve)
+    d_lo = curve.finest_mm
+    d_hi = size_at(curve, f_max_pct)
+    complete = p_min <= 0.0
+    if d_hi is None:
+        if p_min > f_max_pct:
+            return [], False
+        d_hi = curve.coarsest_mm
+    if p_min <= 0.0:
+        d_zero = size_at(curve, 0.0)
+        d_lo = d_zero if d_zero is not None else d_lo
+    breaks = {d_lo, d_hi}
+    for d, _ in curve.points:
+        for b in (d, d / 4.0):
+            if d_lo < b < d_hi:
+                breaks.add(b)
+    bs = sorted(breaks)
+    samples = []
+    for a, b in zip(bs, bs[1:]):
+        la, lb = math.log(a), math.log(b)
+        for k in range(_GRID + 1):
+            d = math.exp(la + (lb - la) * k / _GRID)
+            f = passing_at(curve, d)
+            p4 = passing_at(curve, 4.0 * d)
+            if f is None or f <= 0.0 or f > f_max_pct + 1e-9:
+                continue
+            if p4 is None:
+                complete = False
+                continue
+            samples.append((d, f, p4 - f))
+    return samples, complete
+
+
+def kenney_lau(curve: Curve, boundary: float = 1.0) -> Check:
+    """Kenney & Lau: stable when (H/F)min >= boundary (1.0, 1986 reply; 1.3, 1985)
+    over F <= 20 % (Cu > 3) or F <= 30 % (Cu <= 3)."""
+    f_max, basis = _kl_f_max(curve)
+    samples, complete = hf_scan(curve, f_max)
+    extra = {"f_max_pct": f_max, "f_range_basis": basis, "boundary": boundary, "complete": complete}
+    if not samples:
+        return make_check("stability.kenney_lau", NEEDS_DATA,
+                          f"Kenney & Lau: the curve does not reach F <= {f_max:g} %; add finer points.",
+                          limit=boundary, relation=">=", unit="-", extra=extra)
+    d, f, h = min(samples, key=lambda s: s[2] / s[1])
+    r = h / f
+    extra.update({"at_mm": d, "f_pct": f, "h_pct": h})
+    if r < boundary:
+        return make_check("stability.kenney_lau", FAIL,
+                          f"Kenney & Lau: (H/F)min = {r:.3g} < {boundary:g} at F = {f:.3g} % ({d:.3g} mm): "
+                          "internally unstable.", value=r, limit=boundary, relation=">=", unit="-", extra=extra)
+    if not complete:
+        return make_check("stability.kenney_lau", NEEDS_DATA,
+                          f"Kenney & Lau: (H/F)min = {r:.3g} over the measured range, but F below "
+                          f"{curve.points[-1][1]:.3g} % was not measured; add hydrometer points.",
+                          value=r, limit=boundary, relation=">=", unit="-", extra=extra)
+    return make_check("stability.kenney_lau", PASS, f"Kenney & Lau: (H/F)min = {r:.3g} >= {boundary:g}.",
+                      value=r, limit=boundary, relation=">=", unit="-", extra=extra)
+
+
+def li_fannin_2008(curve: Curve) -> Check:
+    """Li & Fannin: unstable when H < F for F < 15 %, or H < 15 % for F >= 15 %,
+    over the Kenney & Lau F range."""
+    f_max, basis = _kl_f_max(curve)
+    samples, complete = hf_scan(curve, f_max)
+    extra = {"f_max_pct": f_max, "f_range_basis": basis, "complete": complete}
+    if not samples:
+        return make_check("stability.li_fannin", NEEDS_DATA,
+                          f"Li & Fannin: the curve does not reach F <= {f_max:g} %; add finer points.",
+                          relation=">=", unit="%", extra=extra)
+
+    def need(f):
+        return f if f < LI_FANNIN_F_SPLIT_PCT else LI_FANNIN_F_SPLIT_PCT
+
+    d, f, h = min(samples, key=lambda s: s[2] - need(s[1]))
+    req = need(f)
+    extra.update({"at_mm": d, "f_pct": f})
+    if h < req:
+        return make_check("stability.li_fannin", FAIL,
+                          f"Li & Fannin: H = {h:.3g} % < {req:.3g} % at F = {f:.3g} % ({d:.3g} mm): "
+                          "internally unstable.", value=h, limit=req, relation=">=", unit="%", extra=extra)
+    if not complete:
+        return make_check("stability.li_fannin", NEEDS_DATA,
+                          f"Li & Fannin: no shortfall over the measured range (tightest H = {h:.3g} % against "
+                          f"{req:.3g} %), but finer parts were not measured.", value=h, limit=req, relation=">=",
+                          unit="%", extra=extra)
+    return make_check("stability.li_fannin", PASS,
+                      f"Li & Fannin: H >= the boundary everywhere (tightest H = {h:.3g} % against {req:.3g} %).",
+                      value=h, limit=req, relation=">=", unit="%", extra=extra)
+
+
+# --------------------------------------------- Burenkova, Wan & Fell (h', h'')
+def burenkova_bounds(h2: float) -> tuple[float, float]:
+    """(lower, upper) bounds of h' for h'' (Burenkova 1993)."""
+    lg = math.log10(h2)
+    return BURENKOVA["lower_a"] * lg + BURENKOVA["b"], BURENKOVA["upper_a"] * lg + BURENKOVA["b"]
+
+
+def _h_ratios(curve: Curve):
+    d90, d60, d15 = size_at(curve, 90.0), size_at(curve, 60.0), size_at(curve, 15.0)
+    if d90 is None or d60 is None or d15 is None:
+        return None
+    return d90 / d60, d90 / d15
+
+
+def burenkova_1993(curve: Curve) -> Check:
+    """Burenkova: non-suffusive when 0.76 log10(h'') + 1 < h' < 1.86 log10(h'') + 1,
+    h' = d90/d60, h'' = d90/d15."""
+    hr = _h_ratios(curve)
+    if hr is None:
+        return make_check("stability.burenkova", NEEDS_DATA,
+                          "Burenkova needs D15, D60 and D90 inside the measured curve.", unit="-")
+    h1, h2 = hr
+    lower, upper = burenkova_bounds(h2)
+    extra = {"h_prime": h1, "h_double_prime": h2, "lower": lower, "upper": upper}
+    if h1 <= lower:
+        return make_check("stability.burenkova", FAIL,
+                          f"Burenkova: h' = {h1:.4g} is not above the lower bound {lower:.4g}: suffusive.",
+                          value=h1, limit=lower, relation=">", unit="-", extra=extra)
+    if h1 >= upper:
+        return make_check("stability.burenkova", FAIL,
+                          f"Burenkova: h' = {h1:.4g} is not below the upper bound {upper:.4g}: suffusive.",
+                          value=h1, limit=upper, relation="<", unit="-", extra=extra)
+    nearer, rel = (lower, ">") if h1 - lower <= upper - h1 else (upper, "<")
+    return make_check("stability.burenkova", PASS,
+                      f"Burenkova: h' = {h1:.4g} lies between {lower:.4g} and {upper:.4g}: non-suffusive.",
+                      value=h1, limit=nearer, relation=rel, unit="-", extra=extra)
+
+
+def wan_fell_probability(h1: float, h2: float) -> float:
+    """P(unstable) = e^Z / (1 + e^Z), Z = 2.378 log10(h'') - 3.648 h' + 3.701 (Wan & Fell 2008)."""
+    z = WAN_FELL["a"] * math.log10(h2) + WAN_FELL["b"] * h1 + WAN_FELL["c"]
+    return 1.0 / (1.0 + math.exp(-z)) if z >= 0 else math.exp(z) / (1.0 + math.exp(z))
+
+
+def wan_fell_2008(curve: Curve) -> tuple[Check, list[Finding]]:
+    """Wan & Fell probability of internal instability; warns at P >= 0.5 (cut-off ours)."""
+    findings = []
+    hr = _h_ratios(curve)
+    if hr is None:
+        return make_check("stability.wan_fell", NEEDS_DATA,
+                          "Wan & Fell needs D15, D60 and D90 inside the measured curve.", unit="-"), findings
+    h1, h2 = hr
+    p = wan_fell_probability(h1, h2)
+    fines = passing_at(curve, 0.075)
+    if fines is None or fines <= 5.0:
+        findings.append(Finding("warning", "wan_fell_range",
+                                "Wan & Fell (2008) was fitted on broadly graded silt-sand-gravel soils; this "
+                                "sample has few fines, so its probability is outside the method's calibration.",
+                                "", "Wan & Fell 2008, JGGE 134(3) (from memory)"))
+    extra = {"h_prime": h1, "h_double_prime": h2, "cutoff_source": "ours, no source"}
+    st = PASS if p < WAN_FELL_CUTOFF else WARN
+    return make_check("stability.wan_fell", st,
+                      f"Wan & Fell: probability of internal instability {p:.3g} "
+                      + ("(below 0.5)." if st == PASS else "(0.5 or more: more likely unstable than not)."),
+                      value=p, limit=WAN_FELL_CUTOFF, relation="<", unit="-", extra=extra), findings
+
+
+# ------------------------------------------------------------ Istomina 1957
+def istomina_1957(curve: Curve) -> Check:
+    """Istomina: Cu <= 10 stable, 10 < Cu <= 20 transitional (warn), Cu > 20 unstable."""
+    d60, d10 = size_at(curve, 60.0), size_at(curve, 10.0)
+    cu = coefficient_of_uniformity(d60, d10)
+    lim_s, lim_t = ISTOMINA["stable_max"], ISTOMINA["transition_max"]
+    if cu is None:
+        finest_mm, finest_pct = curve.points[-1]
+        if d60 is not None and finest_pct > 10.0 and d60 / finest_mm > lim_t:
+            low = d60 / finest_mm
+            return make_check("stability.istomina", FAIL,
+                              f"Istomina: Cu is at least {low:.3g} (D10 lies below the finest sieve), above "
+                              f"{lim_t:g}: unstable.", value=low, limit=lim_t, relation="<=", unit="-",
+                              extra={"cu_is_lower_bound": True})
+        return make_check("stability.istomina", NEEDS_DATA, "Istomina needs D10 and D60 inside the measured curve.",
+                          limit=lim_s, relation="<=", unit="-")
+    if cu <= lim_s:
+        return make_check("stability.istomina", PASS, f"Istomina: Cu = {cu:.3g} <= {lim_s:g}: stable.", value=cu,
+                          limit=lim_s, relation="<=", unit="-")
+    if cu <= lim_t:
+        return make_check("stability.istomina", WARN,
+                          f"Istomina: Cu = {cu:.3g} is between {lim_s:g} and {lim_t:g}: transitional.", value=cu,
+                          limit=lim_s, relation="<=", unit="-")
+    return make_check("stability.istomina", FAIL, f"Istomina: Cu = {cu:.3g} > {lim_t:g}: unstable.", value=cu,
+                      limit=lim_t, relation="<=", unit="-")
+
+
+def stability_checks(curve: Curve, kenney_lau_boundary: float = 1.0) -> tuple[list[Check], list[Finding]]:
+    """All internal-stability methods, each its own check."""
+    wf, findings = wan_fell_2008(curve)
+    return [kezdi_1979(curve), kenney_lau(curve, kenney_lau_boundary), li_fannin_2008(curve),
+            burenkova_1993(curve), wf, istomina_1957(curve)], findings
