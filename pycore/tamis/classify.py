@@ -109,8 +109,8 @@ def _coarse_name(major: str, graded: str | None, fines: str | None, band: str, o
     if band == "clean":
         base = ("well-graded " if graded == "W" else "poorly graded ") + noun
         return base + (f" with {other}" if with_other else "")
-    kind = {"M": "silt", "C": "clay"}[fines]
     if band == "dual":
+        kind = {"M": "silt", "C": "clay"}[fines]
         base = ("well-graded " if graded == "W" else "poorly graded ") + noun
         return base + f" with {kind}" + (f" and {other}" if with_other else "")
     adj = {"M": "silty", "C": "clayey", "CM": "silty, clayey"}
