@@ -1,0 +1,145 @@
+// The page: boot status, offline state, navigation between the screens.
+// Screens live in ./ui/, storage in ./storage/; the Python core is reached
+// only through ./bridge.js, so every figure shown comes from tamis.api.
+import { onStatus, whenReady, call } from "./bridge.js";
+import { startOffline } from "./offline.js";
+import { h, fill, announce } from "./ui/dom.js";
+import { loadSettings } from "./storage/settings.js";
+import { listRecords, notExported } from "./storage/records.js";
+import { requestPersistence } from "./storage/persist.js";
+import { entryScreen } from "./ui/entry.js";
+import { quickScreen } from "./ui/quick.js";
+import { recordsScreen, detailScreen } from "./ui/records_view.js";
+import { refsScreen, bandEditor, baseEditor } from "./ui/refs.js";
+import { exchangeScreen, openDemo } from "./ui/exchange.js";
+import { settingsScreen, applyTheme } from "./ui/settings_view.js";
+
+const view = document.getElementById("view");
+const bootLine = document.getElementById("boot-status");
+const offlineLine = document.getElementById("offline-status");
+const badge = document.getElementById("unexported");
+const banner = document.getElementById("banner");
+
+const app = {
+  settings: null,
+  coreVersion: null,
+  persistence: null,
+  nav: {}, // one-shot options for the next screen (seed record, selection)
+  go(hash, opts = {}) {
+    app.nav = opts;
+    if (location.hash === hash) render();
+    else location.hash = hash;
+  },
+  async refreshBadge() {
+    const recs = await listRecords({ includeDeleted: true });
+    const n = recs.filter((r) => r.kind === "test" && notExported(r)).length;
+    badge.textContent = String(n);
+    badge.hidden = n === 0;
+    badge.setAttribute("aria-label", `${n} tests not yet exported`);
+  },
+};
+
+// ---- boot status of the Python worker -----------------------------------------
+onStatus((s) => {
+  const pct = typeof s.progress === "number" ? ` ${Math.round(s.progress * 100)} %` : "";
+  bootLine.dataset.stage = s.error ? "failed" : s.ready ? "ready" : "booting";
+  bootLine.textContent = s.error
+    ? `Calculator failed to start: ${s.error}`
+    : s.ready ? `Calculator ready${app.coreVersion ? ` (core ${app.coreVersion})` : ""}`
+      : `Calculator starting: ${s.detail || s.stage}${pct}`;
+});
+whenReady().then(async () => {
+  const v = await call("version");
+  if (v.ok) app.coreVersion = v.result.core_version;
+  bootLine.textContent = `Calculator ready (core ${app.coreVersion})`;
+  document.body.dataset.coreReady = "1";
+}).catch(() => {});
+
+// ---- offline state and updates ------------------------------------------------
+startOffline({
+  onState(st) {
+    offlineLine.dataset.state = st.precached ? "ready" : st.error ? "error" : "saving";
+    offlineLine.textContent = st.precached
+      ? "Ready offline"
+      : st.error ? `Not ready offline: ${st.error}`
+        : `Saving for offline use: ${st.done || 0} of ${st.total || "…"} files`;
+  },
+  onUpdate(applyFn) {
+    fill(banner,
+      h("p", { text: "A new version of the app is ready. What you typed is kept." }),
+      h("button", { type: "button", class: "btn", text: "Switch to the new version", onclick: () => applyFn() }),
+      h("button", { type: "button", class: "btn", text: "Later", onclick: () => { banner.hidden = true; } }));
+    banner.hidden = false;
+  },
+});
+
+// ---- navigation ---------------------------------------------------------------
+const ROUTES = {
+  entry: (arg) => entryScreen(app, view, arg, app.nav.seed || null),
+  quick: () => quickScreen(app, view),
+  records: () => recordsScreen(app, view),
+  record: (arg) => detailScreen(app, view, arg),
+  refs: () => refsScreen(app, view),
+  band: (arg) => bandEditor(app, view, arg, app.nav.seed || null),
+  base: (arg) => baseEditor(app, view, arg),
+  exchange: () => exchangeScreen(app, view, app.nav),
+  settings: () => settingsScreen(app, view),
+  welcome: () => welcomeScreen(),
+};
+
+let rendering = 0;
+async function render() {
+  const [, name = "", arg = null] = location.hash.match(/^#\/([a-z]+)(?:\/(.+))?$/) || [];
+  const route = ROUTES[name] ? name : "entry";
+  const ticket = ++rendering;
+  for (const a of document.querySelectorAll("nav a")) {
+    if (a.dataset.route === route || (route === "record" && a.dataset.route === "records")) a.setAttribute("aria-current", "page");
+    else a.removeAttribute("aria-current");
+  }
+  view.dataset.screen = route;
+  delete view.dataset.evaluated;
+  try {
+    await ROUTES[route](arg ? decodeURIComponent(arg) : null);
+  } catch (err) {
+    if (ticket === rendering) fill(view, h("div", { class: "screen" }, h("h1", { text: "Something went wrong" }), h("p", { class: "core-error", text: err.message })));
+    console.error(err);
+  }
+  app.nav = {};
+  if (ticket === rendering) {
+    view.dataset.rendered = String(ticket);
+    const h1 = view.querySelector("h1");
+    if (h1 && document.activeElement === document.body) { h1.tabIndex = -1; }
+  }
+}
+
+async function welcomeScreen() {
+  const status = h("p", { class: "status-line", role: "status" });
+  const box = h("div");
+  fill(view, h("div", { class: "screen" },
+    h("h1", { text: "Welcome to tamis" }),
+    h("p", { text: "Sieve masses in, gradation and screening verdicts out, on this device, with or without signal." }),
+    h("div", { class: "actions column" },
+      h("a", { class: "btn primary", href: "#/entry", text: "Start a sieve test" }),
+      h("button", { type: "button", class: "btn", text: "Open the demo project", onclick: () => openDemo(app, box, status) }),
+      h("a", { class: "btn", href: "#/refs", text: "Enter a band or a base soil" })),
+    box, status));
+}
+
+window.addEventListener("hashchange", () => render());
+
+async function main() {
+  app.settings = await loadSettings();
+  applyTheme(app.settings.theme);
+  const recs = await listRecords({ includeDeleted: true });
+  if (!location.hash) location.replace(recs.length === 0 ? "#/welcome" : "#/entry");
+  await app.refreshBadge();
+  await render();
+  app.persistence = await requestPersistence();
+  if (app.persistence === "refused" || app.persistence === "unsupported") {
+    const warn = document.getElementById("storage-warning");
+    warn.textContent = "This browser may clear the app's records when space runs low. Export your tests often, and add the app to the home screen.";
+    warn.hidden = false;
+  }
+}
+
+main().catch((err) => { announce(err.message); console.error(err); });

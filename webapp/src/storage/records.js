@@ -1,0 +1,196 @@
+// Records on the device: the Record of docs/records.md, stored whole in the
+// "records" store. Every save is one IndexedDB transaction (read the stored
+// revision, write the next one); nothing but IndexedDB is awaited inside it.
+// Edits never overwrite silently: each revision adds a history entry saying
+// who, when and which fields changed (old and new values). Deleting is soft:
+// the record is flagged and kept until it has been exported.
+import { db } from "./db.js";
+
+export const KINDS = ["test", "band", "base"];
+
+/** Current time as ISO 8601 UTC without milliseconds. */
+export function nowIso() {
+  return new Date().toISOString().replace(/\.\d{3}Z$/, "Z");
+}
+
+/** Flatten a value into {"path": leaf} pairs, paths as in the core's errors. */
+export function flatten(value, path = "", out = {}) {
+  if (Array.isArray(value)) {
+    if (value.length === 0) out[path] = [];
+    value.forEach((v, i) => flatten(v, `${path}[${i}]`, out));
+  } else if (value && typeof value === "object") {
+    const keys = Object.keys(value);
+    if (keys.length === 0 && path) out[path] = {};
+    for (const k of keys) flatten(value[k], path ? `${path}.${k}` : k, out);
+  } else {
+    out[path] = value === undefined ? null : value;
+  }
+  return out;
+}
+
+/** The field-level changes between two records' content (meta, test, band, kind). */
+export function diffContent(oldRec, newRec) {
+  const pick = (r) => ({ kind: r.kind, meta: r.meta ?? {}, test: r.test ?? null, band: r.band ?? null });
+  const a = flatten(pick(oldRec));
+  const b = flatten(pick(newRec));
+  const changes = [];
+  const keys = new Set([...Object.keys(a), ...Object.keys(b)]);
+  for (const k of [...keys].sort()) {
+    const av = k in a ? a[k] : null;
+    const bv = k in b ? b[k] : null;
+    if (JSON.stringify(av) !== JSON.stringify(bv)) changes.push({ field: k, old: av, new: bv });
+  }
+  return changes;
+}
+
+/** A new, unsaved record. */
+export function blankRecord(kind, { meta = {}, test = null, band = null } = {}) {
+  if (!KINDS.includes(kind)) throw new Error(`unknown record kind ${kind}`);
+  return {
+    record_id: crypto.randomUUID(),
+    kind,
+    rev: 0,
+    updated_at: null,
+    updated_by: "",
+    deleted: false,
+    exported_at: null,
+    meta: { ...meta },
+    test,
+    band,
+    history: [],
+  };
+}
+
+function nextRevision(stored, draft, by, summary, at) {
+  if (!stored) {
+    return {
+      ...draft,
+      rev: 1,
+      updated_at: at,
+      updated_by: by,
+      deleted: Boolean(draft.deleted),
+      history: [{ rev: 1, at, by, summary: summary || "created", changes: [] }],
+    };
+  }
+  const changes = diffContent(stored, draft);
+  const deletedChanged = Boolean(draft.deleted) !== Boolean(stored.deleted);
+  if (changes.length === 0 && !deletedChanged) return null;
+  if (deletedChanged) changes.push({ field: "deleted", old: Boolean(stored.deleted), new: Boolean(draft.deleted) });
+  const rev = stored.rev + 1;
+  return {
+    ...stored,
+    kind: draft.kind,
+    meta: draft.meta,
+    test: draft.test,
+    band: draft.band,
+    deleted: Boolean(draft.deleted),
+    rev,
+    updated_at: at,
+    updated_by: by,
+    history: [...(stored.history || []), { rev, at, by, summary: summary || "edited", changes }],
+  };
+}
+
+/**
+ * Save a record atomically. Returns {record, changed}. When nothing changed
+ * the stored record is returned untouched (no empty revision is written).
+ */
+export async function saveRecord(draft, { by = "", summary = "" } = {}) {
+  const d = await db();
+  const tx = d.transaction(["records", "results"], "readwrite");
+  const store = tx.objectStore("records");
+  const stored = await store.get(draft.record_id);
+  const next = nextRevision(stored, draft, by, summary, nowIso());
+  if (next) {
+    store.put(next);
+    tx.objectStore("results").delete(next.record_id);
+  }
+  await tx.done;
+  return { record: next || stored, changed: Boolean(next) };
+}
+
+export async function getRecord(id) {
+  return (await db()).get("records", id);
+}
+
+/** All records, optionally of one kind, newest first. */
+export async function listRecords({ kind = null, includeDeleted = false } = {}) {
+  const d = await db();
+  const all = kind ? await d.getAllFromIndex("records", "kind", kind) : await d.getAll("records");
+  return all
+    .filter((r) => includeDeleted || !r.deleted)
+    .sort((a, b) => String(b.updated_at).localeCompare(String(a.updated_at)));
+}
+
+/** True when a record changed since it last left the device (or never did). */
+export function notExported(rec) {
+  return !rec.exported_at || String(rec.updated_at) > String(rec.exported_at);
+}
+
+export async function softDelete(id, by) {
+  const stored = await getRecord(id);
+  if (!stored) return null;
+  return (await saveRecord({ ...stored, deleted: true }, { by, summary: "deleted" })).record;
+}
+
+export async function restore(id, by) {
+  const stored = await getRecord(id);
+  if (!stored) return null;
+  return (await saveRecord({ ...stored, deleted: false }, { by, summary: "restored" })).record;
+}
+
+/**
+ * Mark records as exported at `at`, in one transaction. A record deleted
+ * before this export has now left the device, so it is removed for good.
+ */
+export async function markExported(ids, at) {
+  const d = await db();
+  const tx = d.transaction(["records", "results"], "readwrite");
+  const store = tx.objectStore("records");
+  for (const id of ids) {
+    const rec = await store.get(id);
+    if (!rec) continue;
+    if (rec.deleted) {
+      store.delete(id);
+      tx.objectStore("results").delete(id);
+    } else {
+      store.put({ ...rec, exported_at: at });
+    }
+  }
+  await tx.done;
+}
+
+/** Write many records (an import) in one transaction: all or nothing. */
+export async function putRecords(records) {
+  const d = await db();
+  const tx = d.transaction(["records", "results"], "readwrite");
+  for (const rec of records) {
+    tx.objectStore("records").put(rec);
+    tx.objectStore("results").delete(rec.record_id);
+  }
+  await tx.done;
+}
+
+/** Remove records for good (used only by "remove the demo"). */
+export async function purgeRecords(ids) {
+  const d = await db();
+  const tx = d.transaction(["records", "results"], "readwrite");
+  for (const id of ids) {
+    tx.objectStore("records").delete(id);
+    tx.objectStore("results").delete(id);
+  }
+  await tx.done;
+}
+
+// ---- computed-result cache -------------------------------------------------
+
+/** A cached result, or undefined when missing or made by another core version or revision. */
+export async function cachedResult(rec, coreVersion) {
+  const hit = await (await db()).get("results", rec.record_id);
+  if (!hit || hit.core_version !== coreVersion || hit.rev !== rec.rev) return undefined;
+  return hit;
+}
+
+export async function storeResult(rec, coreVersion, summary) {
+  await (await db()).put("results", { record_id: rec.record_id, rev: rec.rev, core_version: coreVersion, ...summary });
+}

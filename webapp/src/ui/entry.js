@@ -1,0 +1,164 @@
+// Screen "Sieve test": enter or edit a test, with the verdict as you type.
+import { h, fill, field, announce } from "./dom.js";
+import { ask, evaluateFields } from "./core.js";
+import { testEditor, enterMovesOn, showFieldError } from "./test_editor.js";
+import { metaForm, newSampleId } from "./meta_form.js";
+import { renderVerdict, verdictLine, noticeNode, FALLBACK_NOTICE } from "./verdict.js";
+import { renderChart } from "./chart.js";
+import { sievePresets, RULE_SETS } from "./presets.js";
+import { blankRecord, getRecord, listRecords, saveRecord, storeResult } from "../storage/records.js";
+import { loadDraft, saveDraft, clearDraft } from "../storage/drafts.js";
+
+const DEBOUNCE_MS = 120;
+
+function refSelect(label, records, selected, describe) {
+  const sel = h("select", {},
+    h("option", { value: "", text: "None" }),
+    records.map((r) => h("option", { value: r.record_id, text: describe(r), selected: r.record_id === selected })));
+  return field(label, sel);
+}
+
+export const bandName = (r) => r.band?.name || r.meta?.material || r.record_id.slice(0, 8);
+export const baseName = (r) => [r.meta?.sample_id, r.meta?.material].filter(Boolean).join(" · ") || r.record_id.slice(0, 8);
+
+/** Render the entry screen. `id`: a stored test to edit; `seed`: a new record to start from. */
+export async function entryScreen(app, view, id = null, seed = null) {
+  const [presets, bands, bases] = await Promise.all([
+    sievePresets(), listRecords({ kind: "band" }), listRecords({ kind: "base" })]);
+  const stored = id ? await getRecord(id) : null;
+  const draft = await loadDraft("entry");
+  let rec;
+  if (seed) rec = seed;
+  else if (stored) rec = draft && draft.record_id === stored.record_id && draft.rev === stored.rev ? draft : structuredClone(stored);
+  else if (draft && draft.rev === 0) rec = draft;
+  else rec = blankRecord("test", { meta: { sample_id: newSampleId(), tested_by: app.settings.tester || undefined, rules: { criteria: app.settings.rules } } });
+  if (!rec.meta.sample_id) rec.meta.sample_id = newSampleId();
+
+  const form = h("form", { class: "screen entry", novalidate: true, onsubmit: (e) => e.preventDefault() });
+  enterMovesOn(form);
+  const title = stored ? `Edit test ${stored.meta?.sample_id || ""}` : "New sieve test";
+  const bar = h("div", { class: "verdict-bar", role: "status", "aria-live": "polite", "aria-label": "Current verdict" },
+    h("p", { class: "bar-verdict", text: verdictLine(null) }), noticeNode(FALLBACK_NOTICE));
+
+  // Checked against: band, base soil, rule set.
+  const bandF = refSelect("Specification band", bands, rec.meta.band_id, bandName);
+  const baseF = refSelect("Base soil it protects", bases, rec.meta.base_id, baseName);
+  const rulesSel = h("select", {}, RULE_SETS.map((r) => h("option", { value: r.id, text: r.name, selected: (rec.meta.rules?.criteria || app.settings.rules) === r.id })));
+  const rulesF = field("Filter criteria", rulesSel);
+  for (const s of [bandF.input, baseF.input, rulesSel]) s.addEventListener("change", () => schedule());
+
+  const metaBox = h("div");
+  const testBox = h("div");
+  const verdictBox = h("section", { class: "card verdict-card", "aria-label": "Verdict" });
+  const chartBox = h("section", { class: "card", "aria-label": "Gradation chart" });
+  const dvalBox = h("section", { class: "card", "aria-label": "D-values" });
+  const saveStatus = h("p", { class: "hint", role: "status" });
+  const banner = h("p", { class: "core-error", role: "alert" });
+
+  fill(view,
+    h("h1", { text: title }),
+    form);
+  form.append(
+    h("section", { class: "card" }, h("h2", { text: "Checked against" }), h("div", { class: "grid2" }, bandF.wrap, baseF.wrap, rulesF.wrap),
+      bases.length === 0 ? h("p", { class: "hint", text: "No base soil stored yet: add one under References to get the filter checks." }) : null),
+    h("details", { class: "card" },
+      h("summary", { text: `Sample details: ${rec.meta.sample_id} (project, place, date…)` }), metaBox),
+    h("section", { class: "card" }, h("h2", { text: "Sieve masses" }), testBox),
+    banner,
+    verdictBox, dvalBox, chartBox,
+    h("div", { class: "actions" },
+      h("button", { type: "button", class: "btn primary", text: stored ? "Save changes" : "Save test", onclick: save }),
+      h("button", { type: "button", class: "btn", text: "Start a new test", onclick: startNew })),
+    saveStatus,
+    bar);
+
+  const meta = metaForm(metaBox, rec.meta, { onChange: () => schedule() });
+  const editor = testEditor(testBox, rec.test, { path: "sample", presets, onChange: () => schedule() });
+  renderVerdict(verdictBox, null);
+
+  function current() {
+    const m = meta.read();
+    const t = editor.read();
+    const out = { ...rec, meta: { ...m.meta }, test: t.test };
+    if (bandF.input.value) out.meta.band_id = bandF.input.value; else delete out.meta.band_id;
+    if (baseF.input.value) out.meta.base_id = baseF.input.value; else delete out.meta.base_id;
+    out.meta.rules = { ...(rec.meta.rules || {}), criteria: rulesSel.value };
+    return { record: out, localErrors: m.errors + t.localErrors };
+  }
+
+  let timer = null;
+  let last = null;
+  function schedule() {
+    clearTimeout(timer);
+    timer = setTimeout(run, DEBOUNCE_MS);
+    const { record } = current();
+    saveDraft("entry", record).catch(() => {});
+  }
+
+  async function run() {
+    const { record, localErrors } = current();
+    if (localErrors) {
+      bar.firstChild.textContent = "… fix the highlighted entry";
+      return;
+    }
+    const band = bands.find((b) => b.record_id === record.meta.band_id)?.band || null;
+    const base = bases.find((b) => b.record_id === record.meta.base_id)?.test || null;
+    const [resp, table] = await Promise.all([
+      ask("evaluate", evaluateFields(record.test, { band, base, rules: record.meta.rules }), "entry"),
+      ask("gradation", { test: record.test }, "entry-table")]);
+    if (resp.superseded) return;
+    if (!table.superseded) editor.showGradation(table.ok ? table.result : null);
+    last = resp;
+    view.dataset.evaluated = String((Number(view.dataset.evaluated) || 0) + 1);
+    const placed = showFieldError(form, resp.ok ? null : resp.error);
+    banner.textContent = !resp.ok && !placed ? resp.error.message : "";
+    renderVerdict(verdictBox, resp);
+    bar.firstChild.textContent = resp.ok ? verdictLine(resp.result.verdict) : "… no verdict yet";
+    bar.dataset.verdict = resp.ok ? resp.result.verdict : "none";
+    if (resp.ok) {
+      bar.lastChild.textContent = resp.result.notice || FALLBACK_NOTICE;
+      renderDvalues(dvalBox, resp.result.sample);
+      renderChart(chartBox, { sample: resp.result.sample, base: resp.result.base, band, limits: resp.result.limits }, app.settings.axis);
+    }
+  }
+
+  async function save() {
+    const { record, localErrors } = current();
+    if (localErrors) { saveStatus.textContent = "Not saved: fix the highlighted entries first."; return; }
+    const { record: saved, changed } = await saveRecord(record, { by: app.settings.tester || "", summary: stored ? "edited" : "created" });
+    rec = structuredClone(saved);
+    await clearDraft("entry");
+    if (last && last.ok) await storeResult(saved, last.core_version, { verdict: last.result.verdict });
+    const msg = changed ? `Saved ${saved.meta.sample_id || ""} (revision ${saved.rev}).` : "Nothing changed since the last save.";
+    saveStatus.textContent = msg;
+    announce(msg);
+    app.refreshBadge();
+    if (!stored) app.go(`#/record/${saved.record_id}`);
+  }
+
+  async function startNew() {
+    await clearDraft("entry");
+    app.go("#/entry", { force: true });
+  }
+
+  schedule();
+}
+
+/** D-values, Cu, Cc, fractions and USCS class from the core's gradation. */
+export function renderDvalues(box, g) {
+  if (!g) { fill(box); return; }
+  const d = g.d_mm || {};
+  const fmtv = (v, unit = "") => (v === null || v === undefined ? "—" : `${Number(v.toPrecision(3))}${unit}`);
+  const rows = Object.entries(d).map(([k, v]) => h("tr", { dataset: { dvalue: k } }, h("th", { scope: "row", text: k }), h("td", { text: fmtv(v, " mm") })));
+  fill(box,
+    h("h2", { text: "Curve figures" }),
+    h("table", { class: "dvals" },
+      h("caption", { text: "From the core (rounded for display)" }),
+      h("tbody", {},
+        rows,
+        h("tr", {}, h("th", { scope: "row", text: "Cu" }), h("td", { dataset: { key: "cu" }, text: fmtv(g.cu) })),
+        h("tr", {}, h("th", { scope: "row", text: "Cc" }), h("td", { dataset: { key: "cc" }, text: fmtv(g.cc) })),
+        h("tr", {}, h("th", { scope: "row", text: "Gravel / sand / fines" }),
+          h("td", { text: [g.gravel_pct, g.sand_pct, g.fines_pct].map((v) => (v === null || v === undefined ? "—" : `${v.toFixed(1)} %`)).join(" / ") })),
+        h("tr", {}, h("th", { scope: "row", text: "USCS" }), h("td", { dataset: { key: "uscs" }, text: g.uscs ? `${g.uscs.symbol || "—"} ${g.uscs.name || ""}`.trim() : "—" })))));
+}

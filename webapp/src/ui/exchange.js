@@ -1,0 +1,160 @@
+// Screen "Exchange": CSV export (download, or Web Share where files can be
+// shared), import with a review of conflicts, and the demo project.
+import { h, fill, announce } from "./dom.js";
+import { ask, errorText } from "./core.js";
+import { listRecords, notExported, markExported, putRecords, purgeRecords, nowIso } from "../storage/records.js";
+import { recordTitle } from "./records_view.js";
+
+export const DEMO_PROJECT = "Tallowmere Dam (demo)";
+export const isDemo = (r) => r.meta?.demo === true || r.meta?.project === DEMO_PROJECT;
+
+function fileName(at) {
+  return `tamis-${at.replaceAll(":", "").replace("T", "-").replace("Z", "")}.csv`;
+}
+
+/** Export records through the core's CSV codec; returns {ok, message}. */
+export async function exportRecords(app, records, { share = false } = {}) {
+  if (records.length === 0) return { ok: false, message: "Nothing to export." };
+  const resp = await ask("records_export_csv", { records, bom: false });
+  if (!resp.ok) return { ok: false, message: errorText(resp) };
+  const at = nowIso();
+  const name = fileName(at);
+  const file = new File([resp.result.csv], name, { type: "text/csv" });
+  let how = "downloaded";
+  if (share && navigator.canShare && navigator.canShare({ files: [file] })) {
+    try {
+      await navigator.share({ files: [file], title: name });
+      how = "shared";
+    } catch (err) {
+      return { ok: false, message: `Not shared (${err.name}); nothing was marked as exported.` };
+    }
+  } else {
+    const url = URL.createObjectURL(file);
+    const a = h("a", { href: url, download: name, class: "sr-only", text: name });
+    document.body.append(a);
+    a.click();
+    a.remove();
+    setTimeout(() => URL.revokeObjectURL(url), 10000);
+  }
+  await markExported(records.map((r) => r.record_id), at);
+  app.refreshBadge();
+  return { ok: true, message: `${resp.result.count} records ${how} as ${name}.`, csv: resp.result.csv };
+}
+
+function describe(r) {
+  if (!r) return "missing";
+  return `${recordTitle(r)} · revision ${r.rev} · ${r.updated_at} by ${r.updated_by || "unknown"}`;
+}
+
+export async function exchangeScreen(app, view, opts = {}) {
+  const all = await listRecords({ includeDeleted: true });
+  const pending = all.filter(notExported);
+  const selection = (opts.selection || []).map((id) => all.find((r) => r.record_id === id)).filter(Boolean);
+  const status = h("p", { class: "status-line", role: "status", "aria-live": "polite" });
+  const importBox = h("div", { class: "import-result" });
+  const canShare = Boolean(navigator.canShare);
+  const exportBtn = (label, recs) => h("button", {
+    type: "button", class: "btn", text: `${label} (${recs.length})`, disabled: recs.length === 0,
+    onclick: async () => { status.textContent = "Exporting…"; const r = await exportRecords(app, recs, { share: false }); status.textContent = r.message; if (r.ok) announce(r.message); },
+  });
+  const shareBtn = (recs) => canShare ? h("button", {
+    type: "button", class: "btn", text: `Share not yet exported (${recs.length})`, disabled: recs.length === 0,
+    onclick: async () => { const r = await exportRecords(app, recs, { share: true }); status.textContent = r.message; },
+  }) : null;
+
+  const fileInput = h("input", { type: "file", id: "import-file", accept: ".csv,text/csv" });
+  fileInput.addEventListener("change", async () => {
+    const f = fileInput.files[0];
+    if (!f) return;
+    await importText(app, await f.text(), importBox, status, f.name);
+    fileInput.value = "";
+  });
+
+  const demo = all.filter(isDemo);
+  const live = all.filter((r) => !r.deleted);
+  fill(view, h("div", { class: "screen" },
+    h("h1", { text: "Exchange with the office" }),
+    h("section", { class: "card" }, h("h2", { text: "Export as CSV" }),
+      h("p", { class: "hint", text: "Data leaves this device only when you export it. Exported records are marked with the time of export." }),
+      h("div", { class: "actions column" },
+        exportBtn("Export records not yet exported", pending),
+        shareBtn(pending),
+        exportBtn("Export all records", all),
+        selection.length ? exportBtn("Export the selected records", selection) : h("p", { class: "hint", text: "To export a selection, tick records in the Records list." }))),
+    h("section", { class: "card" }, h("h2", { text: "Import a CSV" }),
+      h("p", { class: "hint", text: "Tests, bands and base soils from the office or another device. Nothing is written until the file has been read without error." }),
+      h("div", { class: "field" }, h("label", { for: "import-file", text: "CSV file" }), fileInput), importBox),
+    h("section", { class: "card" }, h("h2", { text: "Demo project" }),
+      live.length === 0 ? h("p", { text: "This device holds no records yet. The demo project (an invented dam) shows how tests, bands and base soils fit together." }) : null,
+      h("div", { class: "actions" },
+        h("button", { type: "button", class: "btn", text: "Open the demo project", onclick: () => openDemo(app, importBox, status) }),
+        h("button", { type: "button", class: "btn", text: `Remove the demo (${demo.length} records)`, disabled: demo.length === 0, onclick: async () => {
+          if (!confirm(`Remove the ${demo.length} demo records? Your own records are not touched.`)) return;
+          await purgeRecords(demo.map((r) => r.record_id));
+          announce("Demo removed.");
+          app.refreshBadge();
+          app.go("#/exchange", { force: true });
+        } }))),
+    status));
+}
+
+/** Fetch the demo CSV laid out by the build and import it. */
+export async function openDemo(app, box, status) {
+  let text;
+  try {
+    const r = await fetch(new URL("../../vendor/demo/demo_project.csv", import.meta.url));
+    if (!r.ok) throw new Error(`HTTP ${r.status}`);
+    text = await r.text();
+  } catch (err) {
+    status.textContent = `The demo project is not in this build (${err.message}).`;
+    return;
+  }
+  await importText(app, text, box, status, "the demo project");
+}
+
+/** Import CSV text: show what would change, resolve conflicts, then write all at once. */
+export async function importText(app, csv, box, status, name) {
+  const existing = await listRecords({ includeDeleted: true });
+  status.textContent = `Reading ${name}…`;
+  const resp = await ask("records_import_csv", { csv, existing });
+  if (!resp.ok) {
+    fill(box, h("p", { class: "core-error", role: "alert", text: `${name} was not imported, nothing changed: ${errorText(resp)}` }));
+    status.textContent = "Import refused.";
+    return;
+  }
+  const r = resp.result;
+  const conflicts = r.conflicts || [];
+  const choice = new Map();
+  const apply = h("button", { type: "button", class: "btn primary", text: "Apply the import", disabled: conflicts.length > 0 });
+  const refresh = () => { apply.disabled = choice.size < conflicts.length; };
+  const conflictList = h("ul", { class: "conflicts" }, conflicts.map((c, i) => {
+    const nameR = `conflict-${i}`;
+    const opt = (value, label) => h("span", { class: "radio" },
+      h("input", { type: "radio", name: nameR, id: `${nameR}-${value}`, value, onchange: () => { choice.set(c.record_id, value); refresh(); } }),
+      h("label", { for: `${nameR}-${value}`, text: label }));
+    return h("li", { class: "conflict", dataset: { id: c.record_id } },
+      h("p", {}, h("strong", { text: "Changed on both sides: " }), recordTitle(c.local || c.incoming)),
+      h("p", { text: `On this device: ${describe(c.local)}` }),
+      h("p", { text: `In the file: ${describe(c.incoming)}` }),
+      h("fieldset", {}, h("legend", { text: "Keep which version?" }), opt("local", "Keep the one on this device"), opt("incoming", "Take the one in the file")));
+  }));
+  apply.addEventListener("click", async () => {
+    const byId = new Map((r.records || []).map((x) => [x.record_id, x]));
+    for (const c of conflicts) {
+      const pick = choice.get(c.record_id) === "incoming" ? c.incoming : c.local;
+      byId.set(c.record_id, pick);
+    }
+    const changedIds = new Set([...(r.added || []), ...(r.updated || []), ...conflicts.map((c) => c.record_id)]);
+    await putRecords([...byId.values()].filter((x) => changedIds.has(x.record_id)));
+    const msg = `Imported ${name}: ${r.added.length} added, ${r.updated.length} updated, ${r.unchanged.length} unchanged, ${conflicts.length} conflicts resolved.`;
+    fill(box, h("p", { class: "ok-line", text: msg }));
+    status.textContent = msg;
+    announce(msg);
+    app.refreshBadge();
+  });
+  fill(box,
+    h("p", { text: `${name}: ${r.rows} rows; ${r.added.length} new, ${r.updated.length} newer than on this device, ${r.unchanged.length} unchanged, ${conflicts.length} in conflict.` }),
+    conflicts.length ? [h("p", { class: "hint", text: "Each conflict needs your choice; nothing is overwritten without it." }), conflictList] : null,
+    h("div", { class: "actions" }, apply));
+  status.textContent = `${name} read; review and apply.`;
+}

@@ -1,0 +1,172 @@
+// Screens "Records" (list with search and filters) and a record's detail
+// (figures, verdict, chart, history).
+import { h, fill, field, fmt, announce } from "./dom.js";
+import { ask, evaluateRecord, errorText } from "./core.js";
+import { renderVerdict, verdictLine, VERDICT_WORDS } from "./verdict.js";
+import { renderChart } from "./chart.js";
+import { renderDvalues, bandName, baseName } from "./entry.js";
+import { listRecords, getRecord, notExported, softDelete, restore, cachedResult, storeResult, blankRecord } from "../storage/records.js";
+
+/** Verdicts of stored tests: from the cache when it matches the core version, else recomputed. */
+export async function verdictsFor(app, tests, byId) {
+  const out = new Map();
+  for (const rec of tests) {
+    let hit = app.coreVersion ? await cachedResult(rec, app.coreVersion) : undefined;
+    if (!hit && app.coreVersion) {
+      const resp = await evaluateRecord(rec, byId, app.settings);
+      if (resp.ok) {
+        hit = { verdict: resp.result.verdict };
+        await storeResult(rec, resp.core_version, hit);
+      } else {
+        hit = { verdict: null, error: resp.error?.message };
+      }
+    }
+    out.set(rec.record_id, hit || { verdict: null });
+  }
+  return out;
+}
+
+const KIND_WORDS = { test: "Test", band: "Band", base: "Base soil" };
+
+export function recordTitle(r) {
+  if (r.kind === "band") return bandName(r);
+  if (r.kind === "base") return baseName(r);
+  return [r.meta?.sample_id, r.meta?.material].filter(Boolean).join(" · ") || r.record_id.slice(0, 8);
+}
+
+export async function recordsScreen(app, view) {
+  const all = await listRecords({ includeDeleted: true });
+  const byId = new Map(all.map((r) => [r.record_id, r]));
+  const live = all.filter((r) => !r.deleted);
+  const tests = live.filter((r) => r.kind === "test");
+  const projects = [...new Set(live.map((r) => r.meta?.project).filter(Boolean))].sort();
+  const materials = [...new Set(live.map((r) => r.meta?.material).filter(Boolean))].sort();
+
+  const search = field("Search", h("input", { type: "search", autocomplete: "off", placeholder: "sample id, station, notes…" }));
+  const sel = (label, opts) => field(label, h("select", {}, h("option", { value: "", text: "All" }), opts.map((o) => h("option", { value: o.value ?? o, text: o.text ?? o }))));
+  const kindF = sel("Kind", [{ value: "test", text: "Tests" }, { value: "band", text: "Bands" }, { value: "base", text: "Base soils" }, { value: "deleted", text: "Deleted, not yet exported" }]);
+  kindF.input.value = "test";
+  const projectF = sel("Project", projects);
+  const materialF = sel("Material", materials);
+  const verdictF = sel("Verdict", Object.entries(VERDICT_WORDS).map(([k, v]) => ({ value: k, text: v.word })));
+  const pending = h("input", { type: "checkbox", id: "f-pending" });
+  const list = h("ul", { class: "record-list", "aria-label": "Records" });
+  const count = h("p", { class: "hint", role: "status" });
+  const selected = new Set();
+  const exportSel = h("button", { type: "button", class: "btn", text: "Export the selected records", disabled: true, onclick: () => app.go("#/exchange", { selection: [...selected] }) });
+
+  fill(view, h("div", { class: "screen" },
+    h("h1", { text: "Records on this device" }),
+    h("div", { class: "actions" },
+      h("a", { class: "btn primary", href: "#/entry", text: "New sieve test" })),
+    h("section", { class: "card filters" }, h("h2", { text: "Find" }),
+      search.wrap, h("div", { class: "grid2" }, kindF.wrap, projectF.wrap, materialF.wrap, verdictF.wrap),
+      h("div", { class: "check-row" }, pending, h("label", { for: "f-pending", text: "Only records not yet exported" }))),
+    count, exportSel, list));
+
+  let verdicts = new Map();
+  const draw = () => {
+    const q = search.input.value.trim().toLowerCase();
+    const kind = kindF.input.value;
+    const rows = all.filter((r) => {
+      if (kind === "deleted") { if (!r.deleted) return false; } else if (r.deleted || (kind && r.kind !== kind)) return false;
+      if (projectF.input.value && r.meta?.project !== projectF.input.value) return false;
+      if (materialF.input.value && r.meta?.material !== materialF.input.value) return false;
+      if (verdictF.input.value && verdicts.get(r.record_id)?.verdict !== verdictF.input.value) return false;
+      if (pending.checked && !notExported(r)) return false;
+      if (q && !JSON.stringify([r.meta, r.band?.name]).toLowerCase().includes(q)) return false;
+      return true;
+    });
+    count.textContent = `${rows.length} of ${all.length} records shown.`;
+    fill(list, rows.map((r) => {
+      const v = verdicts.get(r.record_id);
+      const box = h("input", { type: "checkbox", id: `sel-${r.record_id}`, checked: selected.has(r.record_id),
+        "aria-label": `Select ${recordTitle(r)}`,
+        onchange: (e) => { if (e.target.checked) selected.add(r.record_id); else selected.delete(r.record_id); exportSel.disabled = selected.size === 0; } });
+      return h("li", { class: "record-item", dataset: { id: r.record_id, kind: r.kind } },
+        box,
+        h("a", { href: `#/record/${r.record_id}`, class: "record-link" },
+          h("span", { class: "record-title", text: recordTitle(r) }),
+          h("span", { class: "record-sub", text: [KIND_WORDS[r.kind], r.meta?.project, r.meta?.station && `station ${r.meta.station}`, r.updated_at?.slice(0, 10)].filter(Boolean).join(" · ") }),
+          r.kind === "test" ? h("span", { class: "record-verdict", dataset: { verdict: v?.verdict || "none" }, text: v ? verdictLine(v.verdict) : "… verdict pending" }) : null,
+          notExported(r) ? h("span", { class: "pill", text: "not exported" }) : null));
+    }));
+  };
+  for (const f of [search, kindF, projectF, materialF, verdictF]) f.input.addEventListener("input", draw);
+  pending.addEventListener("change", draw);
+  draw();
+  verdicts = await verdictsFor(app, tests, byId);
+  draw();
+}
+
+function metaList(meta) {
+  const skip = new Set(["rules", "band_id", "base_id", "retest_of"]);
+  const rows = Object.entries(meta || {}).filter(([k]) => !skip.has(k));
+  return h("dl", { class: "meta-list" }, rows.map(([k, v]) => [h("dt", { text: k.replaceAll("_", " ") }), h("dd", { text: typeof v === "object" ? JSON.stringify(v) : String(v) })]));
+}
+
+function historyList(rec) {
+  return h("ol", { class: "history" }, (rec.history || []).slice().reverse().map((e) =>
+    h("li", {},
+      h("p", {}, h("strong", { text: `Revision ${e.rev}` }), ` · ${e.at} · ${e.by || "unknown"} · ${e.summary}`),
+      e.changes?.length ? h("ul", {}, e.changes.map((c) => h("li", { text: `${c.field}: ${show(c.old)} → ${show(c.new)}` }))) : null)));
+}
+const show = (v) => (v === null || v === undefined ? "empty" : typeof v === "object" ? JSON.stringify(v) : String(v));
+
+export async function detailScreen(app, view, id) {
+  const rec = await getRecord(id);
+  if (!rec) { fill(view, h("div", { class: "screen" }, h("h1", { text: "Record not found" }), h("a", { href: "#/records", text: "Back to the records" }))); return; }
+  const all = await listRecords({ includeDeleted: true });
+  const byId = new Map(all.map((r) => [r.record_id, r]));
+  const verdictBox = h("section", { class: "card verdict-card" });
+  const dvalBox = h("section", { class: "card" });
+  const chartBox = h("section", { class: "card" });
+  const status = h("p", { class: "hint", role: "status" });
+  const editHref = rec.kind === "test" ? `#/entry/${rec.record_id}` : `#/${rec.kind}/${rec.record_id}`;
+  const actions = h("div", { class: "actions" },
+    rec.deleted ? null : h("a", { class: "btn primary", href: editHref, text: "Edit" }),
+    rec.kind === "test" && !rec.deleted ? h("button", { type: "button", class: "btn", text: "Retest this sample", onclick: () => {
+      const seed = blankRecord("test", { meta: { ...rec.meta, retest_of: rec.record_id, sample_id: `${rec.meta?.sample_id || "S"}-R` }, test: null });
+      app.go("#/entry", { seed });
+    } }) : null,
+    h("button", { type: "button", class: "btn", text: rec.deleted ? "Restore" : "Delete", onclick: async () => {
+      if (!rec.deleted && !confirm("Delete this record? It stays on the device, hidden, until it has been exported.")) return;
+      await (rec.deleted ? restore(rec.record_id, app.settings.tester) : softDelete(rec.record_id, app.settings.tester));
+      announce(rec.deleted ? "Record restored." : "Record deleted; it leaves the device after the next export.");
+      app.refreshBadge();
+      app.go(`#/record/${rec.record_id}`, { force: true });
+    } }));
+  const refs = [];
+  if (rec.meta?.band_id) refs.push(h("p", {}, "Band: ", h("a", { href: `#/record/${rec.meta.band_id}`, text: byId.get(rec.meta.band_id) ? bandName(byId.get(rec.meta.band_id)) : "missing" })));
+  if (rec.meta?.base_id) refs.push(h("p", {}, "Base soil: ", h("a", { href: `#/record/${rec.meta.base_id}`, text: byId.get(rec.meta.base_id) ? baseName(byId.get(rec.meta.base_id)) : "missing" })));
+  if (rec.meta?.retest_of) refs.push(h("p", {}, "Retest of: ", h("a", { href: `#/record/${rec.meta.retest_of}`, text: byId.get(rec.meta.retest_of) ? recordTitle(byId.get(rec.meta.retest_of)) : "missing" })));
+
+  fill(view, h("div", { class: "screen detail", dataset: { id: rec.record_id } },
+    h("h1", { text: `${KIND_WORDS[rec.kind]} ${recordTitle(rec)}` }),
+    rec.deleted ? h("p", { class: "core-error", text: "Deleted: kept on this device until it has been exported." }) : null,
+    h("p", { class: "hint", text: `Revision ${rec.rev}, saved ${rec.updated_at} by ${rec.updated_by || "unknown"}; ${notExported(rec) ? "not yet exported" : `exported ${rec.exported_at}`}.` }),
+    actions, status,
+    rec.kind === "test" ? [verdictBox, dvalBox, chartBox] : chartBox,
+    h("section", { class: "card" }, h("h2", { text: "Details" }), ...refs, metaList(rec.meta)),
+    rec.kind === "band" ? h("section", { class: "card" }, h("h2", { text: "Band limits" }),
+      h("table", {}, h("thead", {}, h("tr", {}, h("th", { scope: "col", text: "Size (mm)" }), h("th", { scope: "col", text: "Min (%)" }), h("th", { scope: "col", text: "Max (%)" }))),
+        h("tbody", {}, (rec.band?.limits || []).map((l) => h("tr", {}, h("td", { text: fmt(l.opening_mm, 4) }), h("td", { text: l.min_pct ?? "" }), h("td", { text: l.max_pct ?? "" })))))) : null,
+    h("section", { class: "card" }, h("h2", { text: "History" }), historyList(rec))));
+
+  if (rec.kind === "band") {
+    renderChart(chartBox, { band: rec.band }, app.settings.axis, "Band limits");
+  } else if (rec.kind === "base") {
+    const resp = await ask("gradation", { test: rec.test });
+    if (resp.ok) { renderChart(chartBox, { base: resp.result }, app.settings.axis, "Base soil curve"); }
+    else status.textContent = errorText(resp);
+  } else {
+    const resp = await evaluateRecord(rec, byId, app.settings);
+    renderVerdict(verdictBox, resp);
+    if (resp.ok) {
+      renderDvalues(dvalBox, resp.result.sample);
+      const band = byId.get(rec.meta?.band_id)?.band || null;
+      renderChart(chartBox, { sample: resp.result.sample, base: resp.result.base, band, limits: resp.result.limits }, app.settings.axis);
+      await storeResult(rec, resp.core_version, { verdict: resp.result.verdict });
+    }
+  }
+}

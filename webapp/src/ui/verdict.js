@@ -1,0 +1,127 @@
+// The verdict block: overall verdict, each check with value against limit
+// and its source, lab QA warnings in plain words, and the screening caution,
+// always shown with the verdict. Status is given by a word and a symbol, so
+// it never depends on colour alone.
+import { h, fill, fmt } from "./dom.js";
+
+export const FALLBACK_NOTICE =
+  "Screening check only. The project specification, local codes and the " +
+  "engineer of record govern acceptance of filter and drain materials.";
+
+export const VERDICT_WORDS = {
+  accept: { word: "Meets the checks", symbol: "✓" },
+  reject: { word: "Fails a check", symbol: "✗" },
+  review: { word: "Needs review", symbol: "?" },
+};
+
+export const STATUS_WORDS = {
+  pass: { word: "passes", symbol: "✓" },
+  fail: { word: "fails", symbol: "✗" },
+  warn: { word: "warning", symbol: "!" },
+  not_applicable: { word: "does not apply", symbol: "–" },
+  needs_data: { word: "needs data", symbol: "?" },
+};
+
+// Short names for the check ids the core emits; unknown ids show as they are.
+const CHECK_NAMES = {
+  "qa.mass_balance": "Mass balance of the sieving",
+  "qa.sieve_overload": "Sieve overload",
+  "qa.specimen_mass": "Sample mass for its largest particle",
+  "band.compliance": "Within the specification band",
+  "filter.retention": "Retains the base soil",
+  "filter.permeability": "Drains freely relative to the base",
+  "filter.fines": "Fines content of the filter",
+  "filter.plasticity": "Plasticity of the fines",
+  "filter.max_size": "Largest particle size",
+  "filter.segregation": "Resistance to segregation",
+  "stability.kezdi": "Internal stability (Kezdi)",
+  "stability.kenney_lau": "Internal stability (Kenney-Lau)",
+  "stability.li_fannin": "Internal stability (Li-Fannin)",
+  "stability.burenkova": "Internal stability (Burenkova)",
+  "stability.istomina": "Internal stability (Istomina)",
+};
+
+export function checkName(id) {
+  return CHECK_NAMES[id] || id;
+}
+
+/** "0.52 mm ≤ 0.70 mm" from a check's unrounded numbers (rounded for display only). */
+export function valueVsLimit(check) {
+  if (check.value === null && check.limit === null) return "";
+  const unit = check.unit ? ` ${check.unit}` : "";
+  const v = `${fmt(check.value, 3)}${unit}`;
+  if (check.limit === null || check.limit === undefined) return `value ${v}`;
+  const rel = { "<=": "≤", ">=": "≥", "<": "<", ">": ">" }[check.relation] || check.relation || "vs";
+  return `${v} ${rel} ${fmt(check.limit, 3)}${unit} (limit)`;
+}
+
+function checkItem(check) {
+  const st = STATUS_WORDS[check.status] || { word: check.status, symbol: "?" };
+  return h("li", { class: `check status-${check.status}`, dataset: { check: check.id, status: check.status } },
+    h("span", { class: "status-mark", "aria-hidden": "true", text: st.symbol }),
+    h("div", { class: "check-body" },
+      h("p", { class: "check-title" },
+        check.subject === "base" ? "Base soil: " : null,
+        h("strong", { text: checkName(check.id) }), " ",
+        h("span", { class: "status-word", text: st.word })),
+      valueVsLimit(check) ? h("p", { class: "check-values", text: valueVsLimit(check) }) : null,
+      check.message ? h("p", { class: "check-message", text: check.message }) : null,
+      check.source ? h("p", { class: "check-source", text: `Source: ${check.source}` }) : null));
+}
+
+/** The notice line, present whether or not a verdict has been computed. */
+export function noticeNode(text = FALLBACK_NOTICE) {
+  return h("p", { class: "notice", role: "note", text });
+}
+
+/**
+ * Render an `evaluate` response (or a core error) into `box`.
+ * `only` limits the listed checks to some ids (quick check).
+ */
+export function renderVerdict(box, resp, { only = null, title = "Verdict" } = {}) {
+  if (!resp) {
+    fill(box, h("h2", { text: title }), h("p", { class: "muted", text: "Type the masses to see the verdict." }), noticeNode());
+    return;
+  }
+  if (!resp.ok) {
+    fill(box, h("h2", { text: title }),
+      h("p", { class: "verdict verdict-none", dataset: { verdict: "none" } },
+        h("span", { class: "status-mark", "aria-hidden": "true", text: "…" }),
+        " No verdict yet"),
+      h("p", { class: "core-error", text: resp.error?.message || "The core could not answer." }),
+      noticeNode());
+    return;
+  }
+  const r = resp.result;
+  const vw = VERDICT_WORDS[r.verdict] || { word: r.verdict, symbol: "?" };
+  const checks = (r.checks || []).filter((c) => !only || only.includes(c.id));
+  const qa = checks.filter((c) => c.id.startsWith("qa.") && c.status !== "pass" && c.status !== "not_applicable");
+  const warnings = (resp.findings || []).filter((f) => f.level === "warning");
+  const notes = (resp.findings || []).filter((f) => f.level !== "warning");
+  fill(box,
+    h("h2", { text: title }),
+    h("p", { class: `verdict verdict-${r.verdict}`, dataset: { verdict: r.verdict } },
+      h("span", { class: "status-mark", "aria-hidden": "true", text: vw.symbol }),
+      " ", h("strong", { text: vw.word }), ` (${r.verdict})`),
+    noticeNode(r.notice || FALLBACK_NOTICE),
+    qa.length ? h("div", { class: "qa-box", role: "alert" },
+      h("h3", { text: "Lab checks to look at" }),
+      h("ul", {}, qa.map((c) => h("li", { text: `${checkName(c.id)}: ${c.message}` })))) : null,
+    h("h3", { text: "Checks" }),
+    checks.length
+      ? h("ul", { class: "checks" }, checks.map(checkItem))
+      : h("p", { class: "muted", text: "No check applies to this input." }),
+    warnings.length ? h("div", {},
+      h("h3", { text: "Warnings" }),
+      h("ul", { class: "findings" }, warnings.map((f) =>
+        h("li", { text: f.source ? `${f.message} (${f.source})` : f.message })))) : null,
+    notes.length ? h("details", {},
+      h("summary", { text: `Notes (${notes.length})` }),
+      h("ul", { class: "findings" }, notes.map((f) => h("li", { text: f.message })))) : null);
+}
+
+/** A one-line verdict for the sticky bar and for lists. */
+export function verdictLine(verdict) {
+  const vw = VERDICT_WORDS[verdict];
+  return vw ? `${vw.symbol} ${vw.word}` : "… no verdict";
+}
