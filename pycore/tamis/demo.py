@@ -20,16 +20,14 @@ from __future__ import annotations
 import json
 
 from . import SCREENING_NOTICE, api
-from .demo_data import DEMO_FLAG, PROJECT, RECORDS_JSON
+from .demo_data import DELIVERY_RULES, DEMO_FLAG, PROJECT, RECORDS_JSON, ZONES
 
 #: Zone sequence of the demo dam, finest (core) first: (zone name, sample_id of
 #: the record holding its gradation).
-ZONE_SEQUENCE = (
-    ("Zone 1 core", "base-core"),
-    ("Zone 2 fine filter", "base-fine-filter"),
-    ("Zone 3 drain gravel", "base-drain"),
-    ("Zone 4 shell", "base-shell"),
-)
+ZONE_SEQUENCE = ZONES
+
+#: Rules of the demo project (also stored in each delivery's ``meta.rules``).
+RULES = DELIVERY_RULES
 
 
 def load_records() -> list[dict]:
@@ -73,12 +71,16 @@ def evaluate_request(record: dict, by_id: dict, req_id=None) -> dict:
 
 
 def zones_request(by_sample: dict, rules: dict | None = None, req_id=None) -> dict:
-    """The ``zones`` request for the demo dam's zone sequence."""
-    req = {"schema": api.SCHEMA, "op": "zones", "id": req_id,
-           "zones": [{"name": name, "test": by_sample[key]["test"]} for name, key in ZONE_SEQUENCE]}
-    if rules is not None:
-        req["rules"] = rules
-    return req
+    """The ``zones`` request for the demo dam's zone sequence (demo rules by default)."""
+    return {"schema": api.SCHEMA, "op": "zones", "id": req_id,
+            "zones": [{"name": name, "test": by_sample[key]["test"]} for name, key in ZONE_SEQUENCE],
+            "rules": dict(RULES if rules is None else rules)}
+
+
+def stability_request(record: dict, req_id=None) -> dict:
+    """``evaluate`` of one gradation on its own with the internal-stability methods on."""
+    return {"schema": api.SCHEMA, "op": "evaluate", "id": req_id, "sample": record["test"],
+            "rules": {**RULES, "stability": True}}
 
 
 def call(request: dict) -> dict:
@@ -90,73 +92,106 @@ def failing(checks: list[dict]) -> list[dict]:
     return [c for c in checks if c.get("status") == "fail"]
 
 
-def _fmt(x, unit: str = "") -> str:
+def _num(x, unit: str = "") -> str:
+    """Display only: 3 significant figures below 10, one decimal above."""
     if x is None:
         return "n/a"
-    if isinstance(x, (int, float)):
-        s = f"{x:.3g}" if abs(x) < 10 else f"{x:.1f}"
-        return f"{s} {unit}".rstrip()
-    return str(x)
+    if unit == "%":
+        return f"{x:.1f} %"
+    s = f"{x:.3g}" if abs(x) < 10 else f"{x:.1f}"
+    return f"{s} {unit}".rstrip()
 
 
 def _reason(check: dict) -> str:
-    rel = check.get("relation") or ""
+    unit = check.get("unit") or ""
+    unit = "" if unit == "-" else unit
     if check.get("value") is not None and check.get("limit") is not None:
-        return (f"{check['id']} {_fmt(check['value'], check.get('unit', ''))} "
-                f"(needs {rel} {_fmt(check['limit'], check.get('unit', ''))})")
+        return (f"{check['id']} {_num(check['value'], unit)} "
+                f"(limit {check.get('relation') or ''} {_num(check['limit'], unit)})")
     return check["id"]
+
+
+def _zone_lines(by_sample: dict) -> list[str]:
+    out = ["1. Zone sequence of the dam: each zone checked as a filter of the finer one before it"]
+    z = call(zones_request(by_sample))
+    if not z.get("ok"):
+        return out + [f"   zones check not available: {z['error'].get('message')}"]
+    for it in z["result"]["interfaces"]:
+        lim = it.get("limits") or {}
+        ret = next((c for c in it["checks"] if c["id"] == "filter.retention"), {})
+        window = (f"D15 {_num(ret.get('value'), 'mm')} within {_num(lim.get('d15_min_mm'))} to "
+                  f"{_num(lim.get('d15_max_mm'), 'mm')}")
+        cat = it.get("base_category")
+        fails = failing(it["checks"])
+        why = "" if not fails else " | " + "; ".join(_reason(c) for c in fails)
+        out.append(f"   {it['base']} -> {it['filter']}: {it['verdict']} "
+                   f"(base category {cat if cat is not None else 'n/a'}, {window}){why}")
+    out.append(f"   whole sequence: {z['result']['verdict']}")
+    return out
+
+
+def _stability_lines(by_sample: dict) -> list[str]:
+    out = ["2. Internal stability of the filter zones (each method on its own; they often disagree)"]
+    for name, key in ZONE_SEQUENCE[1:3]:
+        r = call(stability_request(by_sample[key]))
+        if not r.get("ok"):
+            out.append(f"   {name}: not available: {r['error'].get('message')}")
+            continue
+        st = [c for c in r["result"]["checks"] if c["id"].startswith("stability.")]
+        out.append(f"   {name}: " + ", ".join(f"{c['id'].split('.', 1)[1]} {c['status']}" for c in st))
+    out.append("   (needs_data: the method needs the curve below the finest sieve, e.g. hydrometer points)")
+    return out
+
+
+def _delivery_lines(records: list[dict], by_id: dict) -> tuple[list[str], dict]:
+    out = ["3. Deliveries: verdict against the band and the base soil, and the failing checks"]
+    fines_by_lot: dict[str, list] = {}
+    for rec in deliveries(records):
+        meta = rec["meta"]
+        r = call(evaluate_request(rec, by_id))
+        head = f"   {meta['sample_id']:<10} {meta['sampled_at'][:10]} {meta.get('sampling_point', ''):<13}"
+        if not r.get("ok"):
+            out.append(f"{head} error: {r['error'].get('field')}: {r['error'].get('message')}")
+            continue
+        res = r["result"]
+        fines = res["sample"].get("fines_pct")
+        line = f"{head} {res['verdict']:<7} fines {_num(fines, '%'):<6}"
+        fails = failing(res["checks"])
+        if fails:
+            line += " " + "; ".join(_reason(c) for c in fails)
+        if meta.get("retest_of"):
+            line += f" [retest of {by_id[meta['retest_of']]['meta']['sample_id']}]"
+        out.append(line)
+        if meta.get("lot"):
+            fines_by_lot.setdefault(meta["lot"], []).append((meta.get("sampling_point"), fines))
+    return out, fines_by_lot
 
 
 def tour_lines(records: list[dict] | None = None) -> list[str]:
     """The tour, one line per entry; every number comes from ``tamis.api``."""
     records = load_records() if records is None else records
     by_id, by_sample = index(records)
-    out = [f"tamis demo project: {PROJECT}",
-           "An invented zoned embankment dam (clay core, fine filter chimney, drain gravel, sandy gravel shell)",
-           "on the invented Brannick river; pits, suppliers and people are invented too.", ""]
     bases = [r for r in records if r["kind"] == "base"]
     bands = [r for r in records if r["kind"] == "band"]
-    out.append(f"Records: {len(deliveries(records))} delivery tests, {len(bases)} reference gradations, "
-               f"{len(bands)} bands.")
-    out.append("")
-    out.append("1. Zone sequence (each zone checked as a filter of the finer one before it)")
-    z = call(zones_request(by_sample))
-    if not z.get("ok"):
-        out.append(f"   zones check not available: {z.get('error', {}).get('message')}")
-    else:
-        for it in z["result"].get("interfaces", []):
-            fails = failing(it.get("checks", []))
-            why = "" if not fails else ": " + "; ".join(_reason(c) for c in fails)
-            out.append(f"   {it.get('base')} -> {it.get('filter')}: {it.get('verdict')}{why}")
-        out.append(f"   overall: {z['result'].get('verdict')}")
-    out.append("")
-    out.append("2. Deliveries (sample, date, point, material: verdict, and why when not accepted)")
-    for rec in deliveries(records):
-        meta = rec["meta"]
-        r = call(evaluate_request(rec, by_id))
-        head = (f"   {meta['sample_id']:<10} {meta['sampled_at'][:10]} {meta.get('sampling_point', ''):<13} "
-                f"{meta.get('zone', ''):<11}")
-        if not r.get("ok"):
-            out.append(f"{head} error: {r['error'].get('field')}: {r['error'].get('message')}")
-            continue
-        res = r["result"]
-        fines = res["sample"].get("fines_pct")
-        line = f"{head} {res['verdict']:<7} fines {_fmt(fines, '%')}"
-        fails = failing(res["checks"])
-        if fails:
-            line += " | " + "; ".join(_reason(c) for c in fails)
-        if meta.get("retest_of"):
-            line += f" | retest of {by_id[meta['retest_of']]['meta']['sample_id']}"
-        out.append(line)
-    out.append("")
-    out.append(SCREENING_NOTICE)
+    out = [f"tamis demo project: {PROJECT}",
+           "An invented zoned embankment dam on the invented Brannick river: clay core, fine filter chimney,",
+           "drain gravel, coarse gravel shell. The pits, suppliers and people are invented too.",
+           f"{len(deliveries(records))} delivery tests, {len(bases)} reference gradations, {len(bands)} bands; "
+           f"rules {RULES['criteria']}.", ""]
+    out += _zone_lines(by_sample) + [""]
+    out += _stability_lines(by_sample) + [""]
+    lines, lots = _delivery_lines(records, by_id)
+    out += lines
+    for lot, seq in lots.items():
+        out.append(f"   lot {lot} fines: " + " -> ".join(f"{_num(f, '%')} ({p})" for p, f in seq))
+    out += ["", SCREENING_NOTICE]
     return out
 
 
 def add_arguments(name: str, parser) -> None:
     """``python -m tamis demo [--records]``."""
     parser.add_argument("--records", action="store_true",
-                        help="print the demo records as JSON (the same list the app loads) instead of the tour")
+                        help="print the demo records as JSON (the list the app loads) instead of the tour")
 
 
 def run(name: str, args) -> int:
