@@ -4,8 +4,7 @@ import json
 
 import pytest
 
-from conftest import EXAMPLE_29, call_api
-from malformed_cases import CASES
+from conftest import CASES, EXAMPLE_29, call_api
 from tamis import SCREENING_NOTICE, api
 
 GRADATION_KEYS = {"points", "d_mm", "cu", "cc", "gravel_pct", "sand_pct", "fines_pct", "uscs"}

@@ -10,8 +10,7 @@ import sys
 
 import pytest
 
-from conftest import EXAMPLE_29
-from malformed_cases import CASES
+from conftest import CASES, EXAMPLE_29
 
 
 def refuse_constant(name):
