@@ -70,31 +70,36 @@ def hazen_estimate(curve: Curve, c_h: float = 100.0) -> tuple[Check, list[Findin
 
 
 def effective_diameter_mm(curve: Curve, pan_lower_mm: float | None = None) -> tuple[float | None, str]:
-    """Carrier's effective diameter [mm]: 100 / sum(f_i / (D_l^0.404 D_s^0.595)).
+    """Carrier's effective diameter [mm]: D_eff = 100 / sum(f_i / (D_l^0.404 D_s^0.595)).
 
-    The fraction below the finest sieve is spread down to ``pan_lower_mm``
-    (default half the finest sieve). None when the coarsest sieve does not
-    pass 100 % (the fraction above it has no size range).
+    The sum is taken with sizes in cm, as Carrier (2003) writes it (the
+    exponents add up to 0.999, so the unit matters), and the result is
+    returned in mm. The fraction below the finest sieve is spread down to
+    ``pan_lower_mm`` (default half the finest sieve). None when the coarsest
+    sieve does not pass 100 % (the fraction above it has no size range).
     """
     pts = curve.points
     if pts[0][1] < 100.0:
         return None, "the coarsest sieve does not pass 100 %"
+
+    def term(f, d_l_mm, d_s_mm):
+        return f / ((d_l_mm / 10.0) ** KC["exp_large"] * (d_s_mm / 10.0) ** KC["exp_small"])
+
     total = 0.0
     for (d_l, p_l), (d_s, p_s) in zip(pts, pts[1:]):
-        f = p_l - p_s
-        if f > 0:
-            total += f / (d_l ** KC["exp_large"] * d_s ** KC["exp_small"])
+        if p_l - p_s > 0:
+            total += term(p_l - p_s, d_l, d_s)
     finest_mm, finest_pct = pts[-1]
     note = "no fraction below the finest sieve"
     if finest_pct > 0:
         low = pan_lower_mm if pan_lower_mm is not None else finest_mm / 2.0
         if low >= finest_mm:
             return None, f"kc_pan_lower_mm = {low:g} mm is not below the finest sieve {finest_mm:g} mm"
-        total += finest_pct / (finest_mm ** KC["exp_large"] * low ** KC["exp_small"])
+        total += term(finest_pct, finest_mm, low)
         note = f"the {finest_pct:.3g} % below {finest_mm:g} mm was spread down to {low:.3g} mm (assumed)"
     if total <= 0:
         return None, "the curve has no mass between sieves"
-    return 100.0 / total, note
+    return 100.0 / total * 10.0, note
 
 
 def kozeny_carman_k_cm_s(d_eff_mm: float, void_ratio: float, shape_factor: float) -> float:
