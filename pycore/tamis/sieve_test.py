@@ -28,12 +28,17 @@ Lab QA checks (``tamis.findings.Check``): ``qa.mass_balance``,
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass
 
 from .curve import GRAVEL_SAND_MM, SAND_FINES_MM, Curve, make_curve, same_size
 from .errors import InputError, boolean, join, number, require_list, require_mapping, text
 from .findings import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding, compare
 from .sieves import label_for, resolve_opening
+
+#: Relative size of float rounding noise in summed masses [-]: a cumulative mass
+#: above the dry mass by less than this is the same mass, not an excess.
+FLOAT_NOISE = 1e-12
 
 #: ASTM C136 §8.7 (C136/C136M-14 checklist item 9, read): the mass after sieving
 #: must agree with the mass put on the sieves within 0.3 % of the original dry mass.
@@ -193,20 +198,24 @@ def _entries(test: dict, path: str) -> list:
     return out
 
 
-def _retained_masses(entries: list, cumulative: bool) -> list[float]:
-    """Mass retained on each sieve [g], coarsest first, from either entry form."""
+def _retained_masses(entries: list, cumulative: bool) -> tuple[list[float], list[float]]:
+    """Mass retained on each sieve and cumulative mass retained down to it [g],
+    coarsest first, from either entry form. Cumulative sums use ``math.fsum``
+    so that masses that add up to the dry mass on paper do so in floats too."""
     if not cumulative:
-        return [_mass(s, "retained_g", ip) for _, s, ip, _ in entries]
-    out, prev, prev_path = [], 0.0, None
+        retained = [_mass(s, "retained_g", ip) for _, s, ip, _ in entries]
+        return retained, [math.fsum(retained[:k + 1]) for k in range(len(retained))]
+    retained, cums, prev, prev_path = [], [], 0.0, None
     for _, s, ip, _ in entries:
         c = _mass(s, "cumulative_retained_g", ip)
         if c < prev:
             p = join(ip, "cumulative_retained_g")
             raise InputError("cumulative_decreases", f"{p} = {c:g} g is less than {prev:g} g on the coarser "
                              f"sieve {prev_path}; cumulative mass retained cannot fall as sizes fall.", p)
-        out.append(c - prev)
+        retained.append(c - prev)
+        cums.append(c)
         prev, prev_path = c, ip
-    return out
+    return retained, cums
 
 
 def parse_masses(test: dict, path: str) -> SieveTest:
@@ -214,7 +223,7 @@ def parse_masses(test: dict, path: str) -> SieveTest:
     findings: list[Finding] = []
     entry = text(test, "entry", path, default="retained", choices=("retained", "cumulative"))
     entries = _entries(test, path)
-    retained = _retained_masses(entries, entry == "cumulative")
+    retained, cums = _retained_masses(entries, entry == "cumulative")
     dry, moisture = _dry_mass(test, path, findings)
     washed_mass = _mass(test, "washed_dry_mass_g", path, required=False)
     if washed_mass is not None and washed_mass > dry:
@@ -226,13 +235,13 @@ def parse_masses(test: dict, path: str) -> SieveTest:
     pan = _mass(test, "pan_g", path, required=False, default=0.0)
     on_sieves = dry if washed_mass is None else washed_mass
     rows, cum = [], 0.0
-    for (d, s, ip, i), r in zip(entries, retained):
-        cum += r
-        if cum > dry:
+    for (d, s, ip, i), r, cum in zip(entries, retained, cums):
+        if cum > dry * (1.0 + FLOAT_NOISE):
             key = "cumulative_retained_g" if entry == "cumulative" else "retained_g"
             raise InputError("retained_exceeds_mass", f"{join(ip, key)}: the mass retained down to this sieve, "
                              f"{cum:g} g, is more than the dry mass {dry:g} g; check the masses.", join(ip, key))
-        cum_pct = cum / dry * 100.0
+        # min() absorbs only float noise (at most FLOAT_NOISE relative); larger excesses were refused above.
+        cum_pct = min(cum / dry, 1.0) * 100.0
         rows.append(Row(d, label_for(d), r, r / dry * 100.0, cum_pct, 100.0 - cum_pct, i))
     curve = Curve(tuple((row.opening_mm, row.passing_pct) for row in rows))
     loss = on_sieves - cum - pan
