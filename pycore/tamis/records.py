@@ -133,8 +133,9 @@ def is_iso_utc(s) -> bool:
     m = _ISO_RE.match(s)
     if not m:
         return False
+    y, mo, d, h, mi, sec, _ = m.groups()
     try:
-        datetime(*(int(g) for g in m.groups()[:6]))
+        datetime(int(y), int(mo), int(d), int(h), int(mi), int(sec))
     except ValueError:
         return False
     return True
@@ -160,7 +161,7 @@ def _json_value(v, path: str):
 
 # ---------------------------------------------------------------- the record
 
-def check_record(rec, path: str = "record") -> dict:
+def check_record(rec, path: str = "record", *, check_json: bool = True) -> dict:
     """Validate one record and return it with every key of :data:`RECORD_KEYS`.
 
     Keys starting with ``_`` are device-local (for instance a cached result)
@@ -203,30 +204,46 @@ def check_record(rec, path: str = "record") -> dict:
     exported_at = _iso(rec, "exported_at", path, optional=True)
     meta = rec.get("meta") or {}
     require_mapping(meta, join(path, "meta"))
-    for k, v in meta.items():
-        _json_value(v, join(join(path, "meta"), k))
     out = {"record_id": rid, "kind": kind, "rev": rev, "updated_at": updated_at, "updated_by": by,
            "deleted": deleted, "exported_at": exported_at, "meta": meta}
     for key in ("test", "band"):
         v = rec.get(key)
         if v is not None:
             require_mapping(v, join(path, key))
-            _json_value(v, join(path, key))
         out[key] = v
     hist = rec.get("history")
     hist = [] if hist is None else require_list(hist, join(path, "history"))
     for i, h in enumerate(hist):
-        hp = join(join(path, "history"), i)
-        require_mapping(h, hp)
+        if not isinstance(h, dict):
+            require_mapping(h, join(join(path, "history"), i))
         hrev = h.get("rev")
         if isinstance(hrev, bool) or not isinstance(hrev, int) or hrev < 1:
+            hp = join(join(path, "history"), i)
             raise InputError("bad_rev", f"{join(hp, 'rev')} must be a whole number 1 or more.", join(hp, "rev"))
-        _iso(h, "at", hp)
+        if not is_iso_utc(h.get("at")):
+            _iso(h, "at", join(join(path, "history"), i))
         if not isinstance(h.get("by"), str):
+            hp = join(join(path, "history"), i)
             raise InputError("not_a_string", f"{join(hp, 'by')} must be text.", join(hp, "by"))
-        _json_value(h, hp)
     out["history"] = hist
+    if check_json:  # a record read from CSV holds parsed JSON and typed cells only
+        _plain_json(out, path)
     return out
+
+
+def _plain_json(rec: dict, path: str) -> None:
+    """Every nested value must be plain JSON (finite numbers, text, true/false/null,
+    lists, objects with text keys); the error names the first part that is not."""
+    try:
+        dump_json([rec["meta"], rec["test"], rec["band"], rec["history"]])
+        return
+    except (TypeError, ValueError):
+        pass
+    for key in ("meta", "test", "band", "history"):
+        part = rec[key]
+        items = part.items() if isinstance(part, dict) else enumerate(part or [])
+        for k, v in items:
+            _json_value(v, join(join(path, key), k))
 
 
 def content_key(rec: dict) -> str:
@@ -408,9 +425,14 @@ def write_csv(records, summaries=None, *, bom: bool = False) -> str:
         for r, c in zip(recs, cells):
             c.update(summaries.get(r["record_id"], {}))
     header = header_for(cells)
+    pos = {h: i for i, h in enumerate(header)}
     lines = [",".join(_quote(h) for h in header)]
+    blank = [""] * len(header)
     for c in cells:
-        lines.append(",".join(_quote(c.get(h, "")) for h in header))
+        row = blank[:]
+        for col, v in c.items():
+            row[pos[col]] = _quote(v)
+        lines.append(",".join(row))
     return ("\ufeff" if bom else "") + "\r\n".join(lines) + "\r\n"
 
 
@@ -443,13 +465,30 @@ def decode_csv_bytes(data: bytes, path: str = "csv") -> str:
                          f"{path}.row[{n}]") from None
 
 
+_WHERE_RE = re.compile(r"^(.*?)\.?row\[(\d+)\]\.?(.*)$")
+
+
+def where_text(field: str) -> str:
+    """``csv.row[3].rev`` -> ``Row 3, column rev`` (``files[1].row[3]`` -> ``files[1]: Row 3``)."""
+    m = _WHERE_RE.match(field)
+    if not m:
+        return field
+    head = f"{m.group(1)}: " if m.group(1) not in ("", "csv") else ""
+    return f"{head}Row {m.group(2)}" + (f", column {m.group(3)}" if m.group(3) else "")
+
+
+def cell_error(code: str, field: str, reason: str) -> InputError:
+    """An error located at a cell: the message starts with where it is."""
+    return InputError(code, f"{where_text(field)}: {reason}", field)
+
+
 def _parse_num(cell: str, field: str) -> float:
     if not _NUM_RE.match(cell):
         hint = " Use a point as the decimal mark." if "," in cell else ""
-        raise InputError("not_a_number", f"{field} must be a number, got {cell!r}.{hint}", field)
+        raise cell_error("not_a_number", field, f"must be a number, got {cell!r}.{hint}")
     v = float(cell)
     if not math.isfinite(v):
-        raise InputError("not_finite", f"{field} must be a finite number, got {cell!r}.", field)
+        raise cell_error("not_finite", field, f"must be a finite number, got {cell!r}.")
     return v
 
 
@@ -457,21 +496,21 @@ def _parse_bool(cell: str, field: str) -> bool:
     low = cell.lower()
     if low in ("true", "false"):
         return low == "true"
-    raise InputError("not_a_boolean", f"{field} must be true or false, got {cell!r}.", field)
+    raise cell_error("not_a_boolean", field, f"must be true or false, got {cell!r}.")
 
 
 def _parse_json(cell: str, field: str, want: type):
     try:
         v = json.loads(unescape_text(cell), parse_constant=_reject_constant)
     except ValueError as exc:
-        raise InputError("bad_json", f"{field} is not valid JSON ({exc}).", field) from None
+        raise cell_error("bad_json", field, f"is not valid JSON ({exc}).") from None
     if not isinstance(v, want):
-        raise InputError("bad_json", f"{field} must hold a JSON {'object' if want is dict else 'list'}.", field)
+        raise cell_error("bad_json", field, f"must hold a JSON {'object' if want is dict else 'list'}.")
     return v
 
 
 def parse_header(header: list[str], path: str) -> dict:
-    """Check the header row; return ``{"cols": [...], "families": {family: [(opening_mm, col), ...]}}``."""
+    """Check the header row; return ``{"cols": [...], "colinfo": {column: (family, opening_mm)}}``."""
     where = f"{path}.row[1]"
     if not header or header[0] != MARKER:
         raise InputError("not_tamis_csv", f"Row 1 must be the header of a tamis CSV file, starting with the "
@@ -496,9 +535,8 @@ def parse_header(header: list[str], path: str) -> dict:
     for col in REQUIRED_COLUMNS:
         if col not in seen:
             raise InputError("missing_column", f"Row 1: the required column {col!r} is missing.", f"{where}.{col}")
-    for f in FAMILIES:
-        fams[f].sort(key=lambda t: -t[0])
-    return {"cols": header, "families": fams}
+    colinfo = {col: (f, op) for f in FAMILIES for op, col in fams[f]}
+    return {"cols": header, "colinfo": colinfo}
 
 
 def _meta_from(cells: dict, where: str) -> dict:
@@ -515,7 +553,7 @@ def _meta_from(cells: dict, where: str) -> dict:
         elif col == "meta_extra_json":
             for k, v in _parse_json(cell, f, dict).items():
                 if k in meta:
-                    raise InputError("duplicate_field", f"{f} repeats meta.{k}, which has its own column.", f)
+                    raise cell_error("duplicate_field", f, f"repeats meta.{k}, which has its own column.")
                 meta[k] = v
         else:
             meta[col] = unescape_text(cell)
@@ -546,7 +584,7 @@ def _test_from(cells: dict, fams: dict, where: str):
         f = f"{where}.test_extra_json"
         for k, v in _parse_json(cells["test_extra_json"], f, dict).items():
             if k in test:
-                raise InputError("duplicate_field", f"{f} repeats test.{k}, which has its own columns.", f)
+                raise cell_error("duplicate_field", f, f"repeats test.{k}, which has its own columns.")
             test[k] = v
         return test
     return test or None
@@ -568,7 +606,7 @@ def _band_from(cells: dict, fams: dict, where: str):
         f = f"{where}.band_extra_json"
         for k, v in _parse_json(cells["band_extra_json"], f, dict).items():
             if k in band:
-                raise InputError("duplicate_field", f"{f} repeats band.{k}, which has its own columns.", f)
+                raise cell_error("duplicate_field", f, f"repeats band.{k}, which has its own columns.")
             band[k] = v
         return band
     return band or None
@@ -588,19 +626,25 @@ def _column_of(rel_field: str) -> str:
     return top
 
 
-def row_record(cells: dict, fams: dict, where: str) -> dict:
-    """One record from the non-blank cells of a row; ``where`` is ``csv.row[n]``."""
+def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = False) -> dict:
+    """One record from the non-blank cells of a row; ``where`` is ``csv.row[n]``;
+    ``colinfo`` maps each opening column to ``(family, opening_mm)``."""
+    fams = {f: [] for f in FAMILIES}
+    for col in cells:
+        info = colinfo.get(col)
+        if info is not None:
+            fams[info[0]].append((info[1], col))
+    for lst in fams.values():
+        lst.sort(key=lambda t: -t[0])
     if cells.get(MARKER) != CSV_VERSION:
-        raise InputError("unsupported_version", f"{where}.{MARKER} must be {CSV_VERSION} (this core reads "
-                                                f"version {CSV_VERSION}), got {cells.get(MARKER, '')!r}.",
-                         f"{where}.{MARKER}")
+        raise cell_error("unsupported_version", f"{where}.{MARKER}", f"must be {CSV_VERSION} (the CSV version "
+                         f"this core reads), got {cells.get(MARKER, '')!r}.")
     for col in ("record_id", "kind", "rev", "updated_at", "updated_by", "deleted", "history_json"):
         if not cells.get(col):
-            raise InputError("missing_value", f"{where}.{col} is empty; every row needs it.", f"{where}.{col}")
+            raise cell_error("missing_value", f"{where}.{col}", "is empty; every row needs it.")
     rev_cell = cells["rev"]
     if not rev_cell.isdigit() or not rev_cell.isascii():
-        raise InputError("bad_rev", f"{where}.rev must be a whole number 1 or more, got {rev_cell!r}.",
-                         f"{where}.rev")
+        raise cell_error("bad_rev", f"{where}.rev", f"must be a whole number 1 or more, got {rev_cell!r}.")
     rec = {
         "record_id": unescape_text(cells["record_id"]),
         "kind": cells["kind"],
@@ -615,10 +659,10 @@ def row_record(cells: dict, fams: dict, where: str) -> dict:
         "history": _parse_json(cells["history_json"], f"{where}.history_json", list),
     }
     try:
-        return check_record(rec, "")
+        return check_record(rec, "", check_json=check_json)
     except InputError as err:
         col = _column_of(err.field)
-        raise InputError(err.code, f"{where}.{col}: {err.message}", f"{where}.{col}") from None
+        raise cell_error(err.code, f"{where}.{col}", err.message) from None
 
 
 def read_csv(text: str, path: str = "csv") -> tuple[list[dict], list[dict]]:
@@ -674,14 +718,14 @@ def _read_rows(text: str, path: str):
                                                      f"{len(cols)}; the line may be truncated or hold an "
                                                      "unquoted comma.", where)
             cells = {c: v for c, v in zip(cols, row) if v}
-            rec = row_record(cells, hdr["families"], where)
+            rec = row_record(cells, hdr["colinfo"], where)
             prev = by_id.get(rec["record_id"])
             if prev is not None:
                 if content_key(prev[0]) == content_key(rec) and prev[0]["history"] == rec["history"] \
                         and prev[0]["exported_at"] == rec["exported_at"]:
                     continue
-                raise InputError("duplicate_id", f"Row {n}: record {rec['record_id']} is also on row {prev[1]} "
-                                                 "with different content.", f"{where}.record_id")
+                raise cell_error("duplicate_id", f"{where}.record_id", f"record {rec['record_id']} is also on row "
+                                 f"{prev[1]} with different content.")
             by_id[rec["record_id"]] = (rec, n)
             records.append(rec)
             rows.append({"row": n, "calc": {c: unescape_text(cells[c]) for c in CALC_COLUMNS if c in cells}})

@@ -1,0 +1,190 @@
+"""Office commands on CSV exchange files: ``merge``, ``report``, ``check``.
+
+``python -m tamis merge A.csv B.csv ... -o OUT.csv``
+    Merge files from several devices by record id and revision
+    (:func:`tamis.records.merge_all`); rows in a fixed order, so the same files
+    in any order give the same bytes. Exit 1 when conflicts remain (the kept
+    version is written, every other one is listed with ``--conflicts``).
+``python -m tamis report FILE.csv [--json]``
+    Recompute every test's verdict with the current core through
+    :func:`tamis.api.handle` and flag the rows whose stored verdict differs.
+    Exit 1 when a stored verdict differs.
+``python -m tamis check FILE.csv``
+    Validate the file; write nothing.
+
+Every command exits 2 when a file cannot be read, naming the file, the row
+(as a spreadsheet numbers it, header = 1) and the column.
+"""
+
+from __future__ import annotations
+
+import json
+import sys
+
+from . import SCREENING_NOTICE, __version__
+from . import records as R
+from .errors import InputError
+
+EXIT_OK, EXIT_FLAGGED, EXIT_BAD_INPUT = 0, 1, 2
+
+
+def add_arguments(name: str, parser) -> None:
+    if name == "merge":
+        parser.add_argument("files", nargs="+", help="CSV exchange files to merge")
+        parser.add_argument("-o", "--output", required=True, help="merged CSV file to write (- for standard output)")
+        parser.add_argument("--conflicts", metavar="FILE",
+                            help="write the conflicting versions, in full, to this JSON file")
+        parser.add_argument("--bom", action="store_true", help="start the output with a UTF-8 byte order mark")
+    elif name == "report":
+        parser.add_argument("file", help="CSV exchange file")
+        parser.add_argument("--json", action="store_true", help="print JSON for machines instead of a table")
+    elif name == "check":
+        parser.add_argument("file", help="CSV exchange file")
+    else:  # pragma: no cover - cli.py only sends the three names above
+        raise ValueError(name)
+
+
+def read_file(path: str) -> tuple[list[dict], list[dict]]:
+    """Read and validate one CSV exchange file: ``(records, rows)``."""
+    with open(path, "rb") as fh:
+        data = fh.read()
+    return R.read_csv(R.decode_csv_bytes(data))
+
+
+def describe_error(path: str, err: InputError) -> str:
+    """``FILE: Row N, column C: reason`` (the core's messages on a file start with their row)."""
+    return f"{path}: {err.message}"
+
+
+def _fail(path: str, err: InputError) -> int:
+    print(f"error: {describe_error(path, err)}", file=sys.stderr)
+    return EXIT_BAD_INPUT
+
+
+def run(name: str, args) -> int:
+    return {"merge": _merge, "report": _report, "check": _check}[name](args)
+
+
+def _check(args) -> int:
+    try:
+        recs, rows = read_file(args.file)
+    except InputError as err:
+        return _fail(args.file, err)
+    except OSError as err:
+        print(f"error: {args.file}: {err.strerror}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    counts = {k: sum(1 for r in recs if r["kind"] == k) for k in R.KINDS}
+    deleted = sum(1 for r in recs if r["deleted"])
+    print(f"{args.file}: valid tamis CSV version {R.CSV_VERSION}, {len(recs)} records "
+          f"({counts['test']} tests, {counts['band']} bands, {counts['base']} base soils; {deleted} deleted).")
+    return EXIT_OK
+
+
+def _merge(args) -> int:
+    lists = []
+    for path in args.files:
+        try:
+            lists.append(read_file(path)[0])
+        except InputError as err:
+            return _fail(path, err)
+        except OSError as err:
+            print(f"error: {path}: {err.strerror}", file=sys.stderr)
+            return EXIT_BAD_INPUT
+    merged, conflicts = R.merge_all(lists)
+    text = R.export_csv(merged, bom=args.bom)
+    if args.output == "-":
+        sys.stdout.buffer.write(text.encode("utf-8"))
+        sys.stdout.buffer.flush()
+    else:
+        with open(args.output, "wb") as fh:
+            fh.write(text.encode("utf-8"))
+    if args.conflicts:
+        with open(args.conflicts, "w", encoding="utf-8", newline="\n") as fh:
+            json.dump({"conflicts": conflicts}, fh, ensure_ascii=False, indent=1, allow_nan=False)
+            fh.write("\n")
+    total = sum(len(x) for x in lists)
+    print(f"merged {total} rows from {len(lists)} files into {len(merged)} records"
+          + ("" if args.output == "-" else f" in {args.output}"), file=sys.stderr)
+    for c in conflicts:
+        kept, other = c["local"], c["incoming"]
+        print(f"conflict: {c['record_id']} ({kept['meta'].get('sample_id', kept['kind'])}): kept rev {kept['rev']} "
+              f"of {kept['updated_at']} by {kept['updated_by']!r}; not kept rev {other['rev']} of "
+              f"{other['updated_at']} by {other['updated_by']!r}: {c['reason']}", file=sys.stderr)
+    if conflicts:
+        print(f"{len(conflicts)} conflict(s) remain; resolve them on a device and merge again"
+              + ("" if args.conflicts else " (--conflicts FILE writes both versions in full)"), file=sys.stderr)
+        return EXIT_FLAGGED
+    return EXIT_OK
+
+
+def report_rows(recs: list[dict], rows: list[dict]) -> list[dict]:
+    """One entry per live test record: recomputed summary beside the stored verdict."""
+    index = {r["record_id"]: r for r in recs}
+    out = []
+    for rec, row in zip(recs, rows):
+        if rec["kind"] != "test" or rec["deleted"]:
+            continue
+        s = R.compute_summary(rec, index)
+        stored = row["calc"].get("calc_verdict")
+        out.append({
+            "row": row["row"], "record_id": rec["record_id"], "sample_id": rec["meta"].get("sample_id"),
+            "d_mm": s["d_mm"], "cu": s["cu"], "fines_pct": s["fines_pct"],
+            "verdict": s["verdict"], "failing_checks": s["failing_checks"], "note": s["note"],
+            "stored_verdict": stored,
+            "differs": stored is not None and stored != s["verdict"],
+        })
+    return out
+
+
+def _show(x) -> str:
+    """Display rounding only (4 significant digits); the comparisons used unrounded values."""
+    return "-" if not isinstance(x, (int, float)) or isinstance(x, bool) else f"{x:.4g}"
+
+
+def render_table(entries: list[dict]) -> str:
+    head = ("row", "sample", "D10 mm", "D15 mm", "D60 mm", "D85 mm", "Cu", "fines %", "stored", "verdict", "")
+    lines = []
+    for e in entries:
+        d = e["d_mm"] or {}
+        flag = "DIFFERS" if e["differs"] else ""
+        lines.append((str(e["row"]), str(e["sample_id"] or e["record_id"][:8]),
+                      *(_show(d.get(k)) for k in ("D10", "D15", "D60", "D85")), _show(e["cu"]),
+                      _show(e["fines_pct"]), e["stored_verdict"] or "-", e["verdict"] or "-", flag))
+    widths = [max(len(r[i]) for r in [head] + lines) for i in range(len(head))]
+    fmt = lambda r: "  ".join(c.ljust(w) for c, w in zip(r, widths)).rstrip()  # noqa: E731
+    out = [fmt(head), fmt(tuple("-" * w for w in widths))] + [fmt(r) for r in lines]
+    notes = [f"row {e['row']}: {e['note']}" for e in entries if e["note"]]
+    notes += [f"row {e['row']}: fails {', '.join(e['failing_checks'])}" for e in entries if e["failing_checks"]]
+    return "\n".join(out + ([""] + notes if notes else []))
+
+
+def summarise(entries: list[dict]) -> dict:
+    return {"tests": len(entries),
+            "accept": sum(e["verdict"] == "accept" for e in entries),
+            "reject": sum(e["verdict"] == "reject" for e in entries),
+            "review": sum(e["verdict"] == "review" for e in entries),
+            "no_verdict": sum(e["verdict"] is None for e in entries),
+            "differs": sum(e["differs"] for e in entries)}
+
+
+def _report(args) -> int:
+    try:
+        recs, rows = read_file(args.file)
+    except InputError as err:
+        return _fail(args.file, err)
+    except OSError as err:
+        print(f"error: {args.file}: {err.strerror}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    entries = report_rows(recs, rows)
+    summary = summarise(entries)
+    if args.json:
+        print(json.dumps({"file": args.file, "core_version": __version__, "summary": summary, "tests": entries,
+                          "notice": SCREENING_NOTICE}, ensure_ascii=False, indent=1, allow_nan=False))
+    else:
+        print(render_table(entries))
+        print()
+        print(f"{summary['tests']} tests: {summary['accept']} accept, {summary['reject']} reject, "
+              f"{summary['review']} review, {summary['no_verdict']} without verdict; recomputed with tamis "
+              f"{__version__}; {summary['differs']} stored verdict(s) differ.")
+        print(SCREENING_NOTICE)
+    return EXIT_FLAGGED if summary["differs"] else EXIT_OK
