@@ -98,6 +98,7 @@ async function render() {
   }
   view.dataset.screen = route;
   delete view.dataset.evaluated;
+  delete view.dataset.busy;
   try {
     await ROUTES[route](arg ? decodeURIComponent(arg) : null);
   } catch (err) {

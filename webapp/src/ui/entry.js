@@ -88,7 +88,10 @@ export async function entryScreen(app, view, id = null, seed = null) {
 
   let timer = null;
   let last = null;
+  let asked = 0; // edits scheduled; view[data-busy] is set until the last one is shown
   function schedule() {
+    asked += 1;
+    view.dataset.busy = "1";
     clearTimeout(timer);
     timer = setTimeout(run, DEBOUNCE_MS);
     const { record } = current();
@@ -96,9 +99,12 @@ export async function entryScreen(app, view, id = null, seed = null) {
   }
 
   async function run() {
+    const mine = asked;
+    const done = () => { if (mine === asked) delete view.dataset.busy; };
     const { record, localErrors } = current();
     if (localErrors) {
       bar.firstChild.textContent = "… fix the highlighted entry";
+      done();
       return;
     }
     const band = bands.find((b) => b.record_id === record.meta.band_id)?.band || null;
@@ -120,6 +126,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
       renderDvalues(dvalBox, resp.result.sample);
       renderChart(chartBox, { sample: resp.result.sample, base: resp.result.base, band, limits: resp.result.limits }, app.settings.axis);
     }
+    done();
   }
 
   async function save() {

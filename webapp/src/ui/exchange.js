@@ -15,7 +15,11 @@ function fileName(at) {
 /** Export records through the core's CSV codec; returns {ok, message}. */
 export async function exportRecords(app, records, { share = false } = {}) {
   if (records.length === 0) return { ok: false, message: "Nothing to export." };
-  const resp = await ask("records_export_csv", { records, bom: false });
+  // Bands and base soils the tests point to travel as context, so the file's
+  // computed columns (verdict, D-values) are filled even for a selection.
+  const ids = new Set(records.map((r) => r.record_id));
+  const context = (await listRecords()).filter((r) => r.kind !== "test" && !ids.has(r.record_id));
+  const resp = await ask("records_export_csv", { records, bom: false, context });
   if (!resp.ok) return { ok: false, message: errorText(resp) };
   const at = nowIso();
   const name = fileName(at);

@@ -41,10 +41,13 @@ export async function quickScreen(app, view) {
   renderVerdict(verdictBox, null, { title: "Spot check verdict" });
 
   let timer = null;
-  function schedule() { clearTimeout(timer); timer = setTimeout(run, 120); }
+  let asked = 0; // edits scheduled; view[data-busy] is set until the last one is shown
+  function schedule() { asked += 1; view.dataset.busy = "1"; clearTimeout(timer); timer = setTimeout(run, 120); }
   async function run() {
+    const mine = asked;
+    const done = () => { if (mine === asked) delete view.dataset.busy; };
     const { test, localErrors } = editor.read();
-    if (localErrors) return;
+    if (localErrors) { done(); return; }
     const base = bases.find((b) => b.record_id === baseSel.value)?.test || null;
     const resp = await ask("evaluate", evaluateFields(test, { base, rules: { criteria: rulesSel.value } }), "quick");
     if (resp.superseded) return;
@@ -56,6 +59,7 @@ export async function quickScreen(app, view) {
       renderDvalues(dBox, resp.result.sample);
       renderChart(chartBox, { sample: resp.result.sample, base: resp.result.base, limits: resp.result.limits }, app.settings.axis);
     }
+    done();
   }
   function saveAs() {
     const { test, localErrors } = editor.read();

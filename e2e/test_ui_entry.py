@@ -1,0 +1,80 @@
+"""Entering a test through the UI gives the verdict and D-values CPython computes.
+
+The oracle is ``tamis.api.handle`` on CPython with the same input: the app must
+show exactly what the core computes (the UI computes no engineering number).
+Invented data (see ``test_ui_common``).
+"""
+
+from __future__ import annotations
+
+from test_ui_common import (add_base_soil, base_test, cpython, enter_sample, open_app, sample_test,
+                            SAMPLE_TYPED)
+
+
+def shown_js_precision3(v: float) -> float:
+    """The app shows D-values as Number(v.toPrecision(3)); the same rounding in Python."""
+    return float(f"{v:.3g}")
+
+
+def test_verdict_and_d_values_match_cpython(page, site):
+    open_app(page, site)
+    add_base_soil(page, "B-1")
+    enter_sample(page, base_label="B-1 · silty sand core")
+    expected = cpython("evaluate", sample=sample_test(), base=base_test(), rules={"criteria": "nrcs-1994"})["result"]
+
+    # Overall verdict, in the card and in the sticky bar.
+    assert page.get_attribute(".verdict-card .verdict", "data-verdict") == expected["verdict"]
+    assert page.get_attribute(".verdict-bar", "data-verdict") == expected["verdict"]
+    # Every check the core emitted, with its status, in the core's order.
+    shown = page.eval_on_selector_all(".verdict-card li.check", "els => els.map(e => [e.dataset.check, e.dataset.status])")
+    assert shown == [[c["id"], c["status"]] for c in expected["checks"]]
+    # The caution is shown with the verdict.
+    assert expected["notice"] in page.text_content(".verdict-card")
+    assert expected["notice"] in page.text_content(".verdict-bar")
+
+    # D-values of the sample, as displayed (rounded for display only).
+    for key, value in expected["sample"]["d_mm"].items():
+        text = page.text_content(f"tr[data-dvalue='{key}'] td")
+        if value is None:
+            assert text == "—", key
+        else:
+            assert float(text.replace(" mm", "")) == shown_js_precision3(value), key
+    assert float(page.text_content("td[data-key='cu']")) == shown_js_precision3(expected["sample"]["cu"])
+    assert page.text_content("td[data-key='uscs']").startswith(expected["sample"]["uscs"]["symbol"])
+
+    # Percent passing and cumulative retained beside each sieve come from the core's table.
+    table = cpython("gradation", test=sample_test())["result"]["table"]
+    for d, _ in SAMPLE_TYPED:
+        row = next(r for r in table if r["opening_mm"] == d)
+        passing = float(page.text_content(f"tr[data-opening='{d}'] .pass"))
+        assert abs(passing - row["passing_pct"]) <= 0.05 + 1e-9, d
+        cum = float(page.text_content(f"tr[data-opening='{d}'] .cum"))
+        assert abs(cum - row["cum_retained_pct"]) <= 0.05 + 1e-9, d
+
+    # The chart is drawn from the same points: one mark per sample point.
+    assert page.locator("svg.chart .sample-curve circle").count() == len(expected["sample"]["points"])
+    assert page.locator("svg.chart .base-curve rect").count() == len(expected["base"]["points"])
+
+
+def test_core_error_is_shown_next_to_its_field(page, site):
+    """A mass that makes the cumulative exceed the dry mass: the core names the field, the UI marks it."""
+    open_app(page, site)
+    enter_sample(page)
+    page.fill("input[data-field='sample.dry_mass_g']", "100")
+    page.wait_for_timeout(50)
+    page.wait_for_selector("#view:not([data-busy])")
+    t = sample_test()
+    t["dry_mass_g"] = 100.0
+    t.pop("washed_dry_mass_g")
+    page.fill("input[data-field='sample.washed_dry_mass_g']", "")
+    page.wait_for_timeout(50)
+    page.wait_for_selector("#view:not([data-busy])")
+    from tamis.api import handle
+    import json
+    resp = json.loads(handle(json.dumps({"op": "evaluate", "sample": t, "rules": {"criteria": "nrcs-1994"}})))
+    assert resp["ok"] is False
+    field = resp["error"]["field"]
+    marked = page.locator(f"[data-field='{field}']")
+    assert marked.get_attribute("aria-invalid") == "true"
+    assert resp["error"]["message"] in page.text_content(".core-field-error")
+    assert page.get_attribute(".verdict-bar", "data-verdict") == "none"
