@@ -2,6 +2,12 @@
 
 ``op_zones`` checks each adjacent pair of zones with the finer one as the base
 and the coarser as the filter, using :func:`tamis.criteria.run_filter_checks`.
+The first zone (role ``base``) is regraded on 4.75 mm when gravelly, as the
+rule set says; a later zone (role ``filter`` or ``shell``) used as the base of
+the next one is not regraded unless ``rules.regrade`` is given: it is a clean
+filter (<= 5 % fines), category 4 on its own curve (derived from the
+granular-filter notes on zone sequences; FEMA 2011 Step 2 exempts some sands
+and gravels from regrading, a passage read only in part).
 ``op_design_band`` runs the published design procedure (NRCS NEH 633-26,
 October 1994, design steps 1-10, from memory; the same in substance in FEMA
 2011 and USBR 2011) from one or more base soils and returns the control
@@ -100,7 +106,12 @@ def op_zones(req: dict):
         zone_out.append({"name": z["name"], "role": z["role"], "gradation": red.gradation,
                          "checks": [c.to_dict() for c in checks], "verdict": verdict(checks)})
     for fine, coarse in zip(zones, zones[1:]):
-        out = run_filter_checks(coarse["red"], fine["red"], rules, "rules")
+        pair_rules = rules
+        if fine["role"] != "base" and not (isinstance(rules, dict) and "regrade" in rules):
+            # a filter zone used as a base is clean (<= 5 % fines): category 4 on its own curve, not
+            # regraded (regrading a clean gravel on 4.75 mm would keep only its finest few percent)
+            pair_rules = {**(rules or {}), "regrade": False}
+        out = run_filter_checks(coarse["red"], fine["red"], pair_rules, "rules")
         checks = [c for c in out.checks if c.id in INTERFACE_IDS]
         findings += out.findings
         all_checks += checks
@@ -109,6 +120,7 @@ def op_zones(req: dict):
         if ret.status == FAIL:
             inter = intermediate_window(out.limits, size_at(coarse["red"].curve, 15.0), used)
         interfaces.append({"base": fine["name"], "filter": coarse["name"], **out.base_info,
+                           "base_regraded_on_4_75": out.base_info.get("base_regraded") is not None,
                            "limits": {k: out.limits[k] for k in ("d15_max_mm", "d15_min_mm", "d85b_mm", "d15b_mm")},
                            "checks": [c.to_dict() for c in checks], "verdict": verdict(checks),
                            "intermediate": inter})
@@ -152,7 +164,8 @@ def op_design_band(req: dict):
     findings, steps, per_base = [], [], []
     for name, red in bases:
         disp = r["dispersive"] if r["dispersive"] is not None else red.props.get("dispersive")
-        b = analyse_base(red.curve, disp, rs["regrade"], r["regrade_on_mm"], name)
+        b = analyse_base(red.curve, disp, rs["regrade"], r["regrade_on_mm"], name,
+                         regrade_wanted=rs["regrade"] and r["regrade"])
         findings += list(red.findings) + list(b.findings)
         ret = retention_limit(b, rs, r)
         pmin, prule = permeability_limit(b, rs, r)

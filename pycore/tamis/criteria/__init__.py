@@ -78,7 +78,8 @@ def run_filter_checks(sample, base=None, rules=None, path: str = "rules") -> Fil
     if base is not None:
         bprops = _props(base)
         disp = r["dispersive"] if r["dispersive"] is not None else bprops.get("dispersive")
-        b = analyse_base(base.curve, disp, rs["regrade"], r["regrade_on_mm"], "base")
+        b = analyse_base(base.curve, disp, rs["regrade"], r["regrade_on_mm"], "base",
+                         regrade_wanted=rs["regrade"] and r["regrade"])
         findings.extend(b.findings)
         ret, _ = retention_check(d15f, b, rs, r)
         perm = permeability_check(d15f, b, rs, r)

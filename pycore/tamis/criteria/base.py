@@ -59,10 +59,14 @@ class BaseAnalysis:
     findings: list = field(default_factory=list)
 
 
-def analyse_base(curve: Curve, dispersive: bool | None, regrade_wanted: bool, regrade_on_mm: float,
-                 path: str = "base") -> BaseAnalysis:
+def analyse_base(curve: Curve, dispersive: bool | None, categorise: bool, regrade_on_mm: float,
+                 path: str = "base", regrade_wanted: bool | None = None) -> BaseAnalysis:
     """Regrade (when ``regrade_wanted`` and the base has particles above
-    ``regrade_on_mm``), read A and the category, d85B and d15B."""
+    ``regrade_on_mm``), read A and the category (when ``categorise``), d85B
+    and d15B. ``regrade_wanted`` defaults to ``categorise`` (the NRCS family
+    regrades; the terzaghi set neither regrades nor categorises)."""
+    if regrade_wanted is None:
+        regrade_wanted = categorise
     findings: list[Finding] = []
     used, regraded, cf, on = curve, False, None, None
     if regrade_wanted:
@@ -86,7 +90,7 @@ def analyse_base(curve: Curve, dispersive: bool | None, regrade_wanted: bool, re
     near = False
     if used is not None:
         d85b = size_at(used, 85.0)
-        if regrade_wanted:
+        if categorise:
             a_pct = passing_at(used, NO_200_MM)
             if a_pct is None:
                 findings.append(Finding("warning", "base_fines_unknown",

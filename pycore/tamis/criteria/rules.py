@@ -8,6 +8,8 @@ key                    default      meaning
 criteria               nrcs-1994    rule set: nrcs-1994, usbr-2011, fema-2011, terzaghi
 terzaghi_ratio         4.0          ratio of the terzaghi set, 4 to 5 (error outside)
 dispersive             null         true/false overrides the base's own ``dispersive`` flag
+regrade                true         regrade a gravelly base on regrade_on_mm (NRCS/USBR/FEMA sets);
+                                    the zones op sets false for a filter zone used as a base
 regrade_on_mm          4.75         regrading sieve of the base (NRCS/USBR/FEMA sets)
 kenney_lau_boundary    1.0          1.0 (Kenney & Lau 1986) or 1.3 (1985)
 stability              true         run the internal-stability methods on the filter
@@ -27,7 +29,7 @@ from __future__ import annotations
 from ..errors import InputError, boolean, join, number, require_mapping, text
 from .tables import DEFAULT_RULE_SET, NO_4_MM, RULE_SETS
 
-KEYS = ("criteria", "terzaghi_ratio", "dispersive", "regrade_on_mm", "kenney_lau_boundary",
+KEYS = ("criteria", "terzaghi_ratio", "dispersive", "regrade", "regrade_on_mm", "kenney_lau_boundary",
         "stability", "hazen_c", "void_ratio", "shape_factor", "kc_pan_lower_mm")
 
 KENNEY_LAU_BOUNDARIES = (1.0, 1.3)
@@ -57,6 +59,7 @@ def parse_rules(rules: dict | None, path: str = "rules") -> dict:
         "criteria": crit,
         "terzaghi_ratio": ratio,
         "dispersive": boolean(rules, "dispersive", path, default=None),
+        "regrade": boolean(rules, "regrade", path, default=True),
         "regrade_on_mm": number(rules, "regrade_on_mm", path, required=False, default=NO_4_MM,
                                 exclusive_minimum=0.0),
         "kenney_lau_boundary": kl,
