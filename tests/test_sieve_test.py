@@ -125,14 +125,20 @@ def test_overload_check_lists_each_overloaded_sieve():
     assert reduce_test(t, "test").checks[1].status == "not_applicable"
 
 
-def test_specimen_mass_warning_by_largest_particle():
-    # ASTM C136 minimum masses (from memory): 300 g for fine aggregate, 1 kg for 9.5 mm.
+def test_specimen_mass_warning_by_nominal_maximum_size():
+    # ASTM C136 minimum masses (from memory): 300 g for fine aggregate, 1 kg for 9.5 mm; nominal
+    # maximum size one sieve above the first to retain more than 10 % (WAQTC FOP for AASHTO T 2, read).
     fine = mass_test({4.75: 0.0, 2.36: 50.0, 0.6: 150.0, 0.075: 60.0}, 290.0, pan_g=30.0)
     c = reduce_test(fine, "test").checks[2]
     assert c.id == "qa.specimen_mass" and c.status == WARN and c.limit == 300.0
     fine2 = mass_test({4.75: 0.0, 2.36: 50.0, 0.6: 160.0, 0.075: 60.0}, 300.0, pan_g=30.0)
     assert reduce_test(fine2, "test").checks[2].status == PASS
-    top_retains = mass_test({9.5: 10.0, 4.75: 500.0, 0.075: 400.0}, 1000.0, pan_g=90.0)
+    coarse = mass_test({12.5: 0.0, 9.5: 60.0, 4.75: 300.0, 0.075: 540.0}, 999.0, pan_g=99.0)
+    c = reduce_test(coarse, "test").checks[2]  # 9.5 mm retains 6 %, 4.75 mm 30 %: NMS 9.5 mm
+    assert c.status == WARN and c.limit == 1000.0 and c.extra["nominal_max_size_mm"] == 9.5
+    coarse["dry_mass_g"], coarse["pan_g"] = 1000.0, 100.0
+    assert reduce_test(coarse, "test").checks[2].status == PASS
+    top_retains = mass_test({9.5: 200.0, 4.75: 500.0, 0.075: 200.0}, 1000.0, pan_g=100.0)
     assert reduce_test(top_retains, "test").checks[2].status == NEEDS_DATA
 
 

@@ -73,7 +73,10 @@ SPECIMEN_MIN_G: tuple[tuple[float, float], ...] = (
     (125.0, 300000.0),
 )
 SRC_SPECIMEN = ("ASTM C136, minimum test-sample mass (fine aggregate 300 g; coarse aggregate by nominal maximum "
-                "size), from memory")
+                "size), from memory; nominal maximum size per WAQTC FOP for AASHTO T 2")
+#: Nominal maximum size: one sieve larger than the first sieve to retain more
+#: than 10 % (WAQTC FOP for AASHTO T 2, Oct 2014, read).
+NMS_RETAINED_PCT = 10.0
 
 
 @dataclass(frozen=True)
@@ -351,33 +354,34 @@ def specimen_min_g(largest_mm: float) -> float | None:
     return None
 
 
-def specimen_mass_check(rows, dry_mass_g: float) -> Check:
-    """``qa.specimen_mass``: warn when the dry mass is below the minimum for the
-    largest particle. The largest particle is taken as the finest sieve that
-    still passes 100 % (conservative: it is at or above the nominal maximum size)."""
-    first = next((k for k, r in enumerate(rows) if r.retained_g > 0), None)
+def nominal_max_size_mm(rows) -> tuple[float | None, str]:
+    """Nominal maximum size [mm] of a masses-form test: one sieve (of the stack)
+    larger than the first sieve to retain more than 10 % (WAQTC FOP for AASHTO
+    T 2, read). ``None`` when that first sieve is the top one; the finest
+    sieve when none retains more than 10 %."""
+    first = next((k for k, r in enumerate(rows) if r.retained_pct > NMS_RETAINED_PCT), None)
     if first is None:
-        return Check("qa.specimen_mass", NEEDS_DATA, "No material retained on any sieve: the largest particle "
-                     "size is not known.", unit="g", source=SRC_SPECIMEN)
+        return rows[-1].opening_mm, f"no sieve retains more than {NMS_RETAINED_PCT:g} %"
     if first == 0:
-        top = rows[0]
-        need = specimen_min_g(top.opening_mm)
-        if need is not None and dry_mass_g < need:
-            return Check("qa.specimen_mass", WARN, f"Material is retained on the top sieve {top.label}, so the "
-                         f"largest particle exceeds {top.opening_mm:g} mm; even for that size {need:g} g is "
-                         f"needed and the sample has {dry_mass_g:.1f} g.", dry_mass_g, need, ">=", "g",
-                         SRC_SPECIMEN)
-        return Check("qa.specimen_mass", NEEDS_DATA, f"Material is retained on the top sieve {top.label}: add "
-                     "a coarser sieve that passes 100 % to know the largest particle.", dry_mass_g, need, ">=",
-                     "g", SRC_SPECIMEN)
-    largest = rows[first - 1].opening_mm
-    need = specimen_min_g(largest)
+        return None, f"the top sieve {rows[0].label} retains more than {NMS_RETAINED_PCT:g} %"
+    return rows[first - 1].opening_mm, f"one sieve above {rows[first].label}, the first to retain more than " \
+        f"{NMS_RETAINED_PCT:g} %"
+
+
+def specimen_mass_check(rows, dry_mass_g: float) -> Check:
+    """``qa.specimen_mass``: warn when the dry mass is below the ASTM C136
+    minimum for the test's nominal maximum size (:func:`nominal_max_size_mm`)."""
+    nms, why = nominal_max_size_mm(rows)
+    if nms is None:
+        return Check("qa.specimen_mass", NEEDS_DATA, f"The nominal maximum size is not known: {why}; add a "
+                     "coarser sieve.", dry_mass_g, None, ">=", "g", SRC_SPECIMEN)
+    need = specimen_min_g(nms)
     if need is None:
-        return Check("qa.specimen_mass", NEEDS_DATA, f"Largest particle {largest:g} mm is beyond the table "
+        return Check("qa.specimen_mass", NEEDS_DATA, f"Nominal maximum size {nms:g} mm is beyond the table "
                      "(125 mm).", dry_mass_g, None, ">=", "g", SRC_SPECIMEN)
     ok = compare(dry_mass_g, ">=", need)
-    msg = (f"Dry mass {dry_mass_g:.1f} g for a largest particle of {largest:g} mm "
+    msg = (f"Dry mass {dry_mass_g:.1f} g for a nominal maximum size of {nms:g} mm ({why}) "
            + (f"meets the minimum {need:g} g." if ok else f"is below the minimum {need:g} g: the sample may not "
               "represent the material."))
     return Check("qa.specimen_mass", PASS if ok else WARN, msg, dry_mass_g, need, ">=", "g", SRC_SPECIMEN,
-                 {"largest_particle_mm": largest})
+                 {"nominal_max_size_mm": nms})
