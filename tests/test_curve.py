@@ -144,3 +144,15 @@ def test_make_curve_refuses_bad_points():
     with pytest.raises(InputError) as e:
         cv.make_curve([(1.0, 50.0), (-1.0, 10.0)], "p")
     assert e.value.field == "p[1].opening_mm"
+
+
+def test_platform_independent_ln_and_exp_agree_with_libm_to_a_few_ulps():
+    # curve.ln / curve.exp use only IEEE-754 basic operations so CPython and Pyodide give the same
+    # bits; here they are checked against the platform's math.log / math.exp (reference library).
+    rng = random.Random(7)
+    for _ in range(20000):
+        x = math.exp(rng.uniform(-12.0, 12.0))
+        assert cv.ln(x) == pytest.approx(math.log(x), rel=1e-15, abs=1e-15)
+        y = rng.uniform(-25.0, 25.0)
+        assert cv.exp(y) == pytest.approx(math.exp(y), rel=1e-15)
+    assert cv.ln(1.0) == 0.0 and cv.exp(0.0) == 1.0 and cv.ln(2.0) == math.log(2.0)

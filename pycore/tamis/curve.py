@@ -41,6 +41,44 @@ SAND_FINES_MM = 0.075
 FM_SIEVES_MM = (150.0, 75.0, 37.5, 19.0, 9.5, 4.75, 2.36, 1.18, 0.6, 0.3, 0.15)
 
 
+# --- Logarithm and exponential from IEEE-754 basic operations only ---------
+# The platform's libm (glibc under CPython, musl/emscripten under Pyodide) may
+# differ in the last bit of log and exp, which would make the browser and the
+# office disagree in the 16th digit of a D-value. These two functions use only
+# +, -, *, / and the exact frexp/ldexp, which every IEEE-754 engine evaluates
+# identically, so both engines return the same bits. Accuracy: a few units in
+# the last place (tested against math.log and math.exp).
+
+_LN2_HI = 6.93147180369123816490e-01   # high part of ln 2 (exact in 32 bits)
+_LN2_LO = 1.90821492927058770002e-10   # ln 2 - _LN2_HI
+_SQRT_HALF = 0.70710678118654752440
+_ATANH_COEFFS = tuple(1.0 / (2 * k + 1) for k in range(1, 13))
+_EXP_COEFFS = tuple(1.0 / math.factorial(n) for n in range(18))
+
+
+def ln(x: float) -> float:
+    """Natural logarithm of ``x`` > 0, platform-independent to the last bit."""
+    m, e = math.frexp(x)            # x = m * 2**e, 0.5 <= m < 1, exact
+    if m < _SQRT_HALF:
+        m, e = m * 2.0, e - 1       # m in [sqrt(1/2), sqrt(2)), exact
+    s = (m - 1.0) / (m + 1.0)       # ln m = 2 atanh s, |s| < 0.172
+    s2 = s * s
+    poly = 0.0
+    for c in reversed(_ATANH_COEFFS):
+        poly = (poly + c) * s2
+    return (e * _LN2_HI + 2.0 * s) + (2.0 * s * poly + e * _LN2_LO)
+
+
+def exp(y: float) -> float:
+    """Exponential of ``y`` (|y| < 700), platform-independent to the last bit."""
+    k = int(round(y / (_LN2_HI + _LN2_LO)))
+    r = (y - k * _LN2_HI) - k * _LN2_LO     # |r| <= ~0.347
+    acc = 0.0
+    for c in reversed(_EXP_COEFFS):
+        acc = acc * r + c
+    return math.ldexp(acc, k)
+
+
 def same_size(a_mm: float, b_mm: float) -> bool:
     """True when two openings [mm] denote the same sieve."""
     return abs(a_mm - b_mm) <= SAME_SIEVE_RTOL * max(a_mm, b_mm)
@@ -116,7 +154,7 @@ def make_curve(points, path: str = "passing") -> Curve:
 def _log_interp_size(x: float, d_l: float, p_l: float, d_s: float, p_s: float) -> float:
     """Size at ``x`` % between (d_s, p_s) below and (d_l, p_l) above, log-linear."""
     t = (x - p_s) / (p_l - p_s)
-    return math.exp(math.log(d_s) + t * (math.log(d_l) - math.log(d_s)))
+    return exp(ln(d_s) + t * (ln(d_l) - ln(d_s)))
 
 
 def size_at(curve: Curve, pct: float) -> float | None:
@@ -180,7 +218,7 @@ def passing_at(curve: Curve, size_mm: float) -> float | None:
         if same_size(size_mm, d_s):
             return p_s
         if d_s < size_mm < d_l:
-            t = (math.log(size_mm) - math.log(d_s)) / (math.log(d_l) - math.log(d_s))
+            t = (ln(size_mm) - ln(d_s)) / (ln(d_l) - ln(d_s))
             return p_s + t * (p_l - p_s)
     return None  # pragma: no cover - unreachable with a valid curve
 
