@@ -222,9 +222,13 @@ def _curve_d10_d90(d10, d90):
     return make_curve([(d90 * 4, 100), (d90, 90), (d10, 10), (d10 / 4, 0)])
 
 
-@pytest.mark.parametrize("d10,d90,status", [(0.4, 20.0, "pass"), (0.4, 20.0 * (1 + 1e-9), "fail"),
-                                            (0.8, 25.0, "pass"), (0.8, 25.1, "fail"), (3.0, 40.0, "pass"),
-                                            (12.0, 60.0, "pass"), (12.0, 61.0, "fail")])
+# D90 is read back from the curve through the core's ln/exp, which may be a few units in the last
+# place off an exact sieve value; "at the limit" is therefore tested on the pure table function above
+# and here only just inside (1e-12 relative) and just outside (1e-9 relative).
+@pytest.mark.parametrize("d10,d90,status", [(0.4, 20.0 * (1 - 1e-12), "pass"), (0.4, 20.0 * (1 + 1e-9), "fail"),
+                                            (0.8, 25.0 * (1 - 1e-12), "pass"), (0.8, 25.1, "fail"),
+                                            (3.0, 40.0 * (1 - 1e-12), "pass"), (12.0, 60.0 * (1 - 1e-12), "pass"),
+                                            (12.0, 61.0, "fail")])
 def test_segregation_check(d10, d90, status):
     assert segregation_check(_curve_d10_d90(d10, d90)).status == status
 

@@ -27,7 +27,7 @@ from .criteria.base import analyse_base
 from .criteria.pairs import permeability_limit, retention_limit
 from .criteria.rules import parse_rules
 from .criteria.tables import MATERIAL, NO_200_MM, RULE_SETS, segregation_d90_max_mm
-from .curve import make_curve, passing_at, size_at
+from .curve import exp, ln, make_curve, passing_at, size_at
 from .errors import InputError, join, require_list, require_mapping, text
 from .evaluation import reduce_test
 from .findings import FAIL, verdict
@@ -145,15 +145,15 @@ def _parse_bases(req: dict):
 
 
 def _round_in(x: float, up: bool) -> float:
-    """Round to 0.1 % toward the inside of the band (min up, max down)."""
-    v = math.ceil(x * 10.0 - 1e-9) / 10.0 if up else math.floor(x * 10.0 + 1e-9) / 10.0
+    """Round to 0.1 % toward the inside of the band (min up, max down); never widens it."""
+    v = math.ceil(x * 10.0) / 10.0 if up else math.floor(x * 10.0) / 10.0
     return min(100.0, max(0.0, v))
 
 
 def _extend(d_a: float, p_a: float, d_b: float, p_b: float, p: float) -> float:
     """Size [mm] at ``p`` % on the semi-log line through (d_a, p_a) and (d_b, p_b)."""
     t = (p - p_a) / (p_b - p_a)
-    return math.exp(math.log(d_a) + t * (math.log(d_b) - math.log(d_a)))
+    return exp(ln(d_a) + t * (ln(d_b) - ln(d_a)))
 
 
 def op_design_band(req: dict):

@@ -16,7 +16,7 @@ from __future__ import annotations
 
 import math
 
-from ..curve import Curve, coefficient_of_uniformity, size_at
+from ..curve import Curve, coefficient_of_uniformity, exp, ln, size_at
 from ..findings import NOT_APPLICABLE, Check, Finding
 from .checks import make_check
 
@@ -31,6 +31,12 @@ KC = {"constant": 1.99e4, "exp_large": 0.404, "exp_small": 0.595}
 SHAPE_FACTORS = {"spherical": 6.0, "rounded": 6.1, "worn": 6.4, "sharp": 7.0, "angular": 7.7}
 
 _SRC_HAZEN = "Carrier 2003, JGGE 129(11), Eq. 1 (Hazen); validity from memory"
+
+
+def _power(x: float, a: float) -> float:
+    """x ** a for x > 0 through the core's platform-independent ln/exp, so CPython
+    and Pyodide give the same bits."""
+    return exp(a * ln(x))
 
 
 def hazen_k_cm_s(d10_mm: float, c_h: float = 100.0) -> float:
@@ -83,7 +89,7 @@ def effective_diameter_mm(curve: Curve, pan_lower_mm: float | None = None) -> tu
         return None, "the coarsest sieve does not pass 100 %"
 
     def term(f, d_l_mm, d_s_mm):
-        return f / ((d_l_mm / 10.0) ** KC["exp_large"] * (d_s_mm / 10.0) ** KC["exp_small"])
+        return f / _power(d_l_mm / 10.0, KC["exp_large"]) / _power(d_s_mm / 10.0, KC["exp_small"])
 
     total = 0.0
     for (d_l, p_l), (d_s, p_s) in zip(pts, pts[1:]):
@@ -106,7 +112,7 @@ def kozeny_carman_k_cm_s(d_eff_mm: float, void_ratio: float, shape_factor: float
     """k [cm/s] = 1.99e4 x D_eff[cm]^2 x (1/SF^2) x e^3/(1+e) (Carrier 2003, from memory)."""
     d_cm = d_eff_mm / 10.0
     e = void_ratio
-    return KC["constant"] * d_cm * d_cm / (shape_factor * shape_factor) * e ** 3 / (1.0 + e)
+    return KC["constant"] * d_cm * d_cm / (shape_factor * shape_factor) * (e * e * e) / (1.0 + e)
 
 
 def kozeny_carman_estimate(curve: Curve, props: dict, rules: dict) -> tuple[Check, list[Finding]]:
@@ -141,7 +147,8 @@ def ratio_estimate(d15f_mm: float | None, d15b_mm: float | None) -> Check:
         return make_check("permeability.ratio", NOT_APPLICABLE,
                           "Filter/base permeability ratio not estimated: a D15 is outside its curve.", unit="-",
                           extra={"estimate": True})
-    r = (d15f_mm / d15b_mm) ** 2
+    q = d15f_mm / d15b_mm
+    r = q * q
     return make_check("permeability.ratio", NOT_APPLICABLE,
                       f"Estimate only: the filter is about {r:.3g} times as permeable as the base "
                       "((D15F/D15B)^2).", value=r, unit="-", extra={"estimate": True})

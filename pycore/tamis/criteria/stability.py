@@ -16,9 +16,7 @@ Istomina (1957).
 
 from __future__ import annotations
 
-import math
-
-from ..curve import Curve, coefficient_of_uniformity, passing_at, size_at
+from ..curve import Curve, coefficient_of_uniformity, exp, ln, passing_at, size_at
 from ..findings import FAIL, NEEDS_DATA, PASS, WARN, Check, Finding
 from .checks import make_check
 
@@ -137,9 +135,9 @@ def hf_scan(curve: Curve, f_max_pct: float) -> tuple[list[tuple[float, float, fl
     bs = sorted(breaks)
     samples = []
     for a, b in zip(bs, bs[1:]):
-        la, lb = math.log(a), math.log(b)
+        la, lb = ln(a), ln(b)
         for k in range(_GRID + 1):
-            d = math.exp(la + (lb - la) * k / _GRID)
+            d = exp(la + (lb - la) * k / _GRID)
             f = passing_at(curve, d)
             p4 = passing_at(curve, 4.0 * d)
             if f is None or f <= 0.0 or f > f_max_pct + 1e-9:
@@ -151,16 +149,27 @@ def hf_scan(curve: Curve, f_max_pct: float) -> tuple[list[tuple[float, float, fl
     return samples, complete
 
 
+def _hf_prepare(curve: Curve, check_id: str, name: str, limit=None, unit: str = "-"):
+    """The H/F scan shared by Kenney & Lau and Li & Fannin: (samples, complete,
+    extra, None), or a ``needs_data`` check in the last place when nothing can be scanned."""
+    f_max, basis = _kl_f_max(curve)
+    samples, complete = hf_scan(curve, f_max)
+    extra = {"f_max_pct": f_max, "f_range_basis": basis, "complete": complete}
+    if samples:
+        return samples, complete, extra, None
+    return samples, complete, extra, make_check(
+        check_id, NEEDS_DATA, f"{name}: the curve does not reach F <= {f_max:g} %; add finer points.",
+        limit=limit, relation=">=", unit=unit, extra=extra)
+
+
 def kenney_lau(curve: Curve, boundary: float = 1.0) -> Check:
     """Kenney & Lau: stable when (H/F)min >= boundary (1.0, 1986 reply; 1.3, 1985)
     over F <= 20 % (Cu > 3) or F <= 30 % (Cu <= 3)."""
-    f_max, basis = _kl_f_max(curve)
-    samples, complete = hf_scan(curve, f_max)
-    extra = {"f_max_pct": f_max, "f_range_basis": basis, "boundary": boundary, "complete": complete}
-    if not samples:
-        return make_check("stability.kenney_lau", NEEDS_DATA,
-                          f"Kenney & Lau: the curve does not reach F <= {f_max:g} %; add finer points.",
-                          limit=boundary, relation=">=", unit="-", extra=extra)
+    samples, complete, extra, missing = _hf_prepare(curve, "stability.kenney_lau", "Kenney & Lau",
+                                                    limit=boundary, unit="-")
+    if missing:
+        return missing
+    extra["boundary"] = boundary
     d, f, h = min(samples, key=lambda s: s[2] / s[1])
     r = h / f
     extra.update({"at_mm": d, "f_pct": f, "h_pct": h})
@@ -180,13 +189,9 @@ def kenney_lau(curve: Curve, boundary: float = 1.0) -> Check:
 def li_fannin_2008(curve: Curve) -> Check:
     """Li & Fannin: unstable when H < F for F < 15 %, or H < 15 % for F >= 15 %,
     over the Kenney & Lau F range."""
-    f_max, basis = _kl_f_max(curve)
-    samples, complete = hf_scan(curve, f_max)
-    extra = {"f_max_pct": f_max, "f_range_basis": basis, "complete": complete}
-    if not samples:
-        return make_check("stability.li_fannin", NEEDS_DATA,
-                          f"Li & Fannin: the curve does not reach F <= {f_max:g} %; add finer points.",
-                          relation=">=", unit="%", extra=extra)
+    samples, complete, extra, missing = _hf_prepare(curve, "stability.li_fannin", "Li & Fannin", unit="%")
+    if missing:
+        return missing
 
     def need(f):
         return f if f < LI_FANNIN_F_SPLIT_PCT else LI_FANNIN_F_SPLIT_PCT
@@ -209,9 +214,17 @@ def li_fannin_2008(curve: Curve) -> Check:
 
 
 # --------------------------------------------- Burenkova, Wan & Fell (h', h'')
+_LN10 = ln(10.0)
+
+
+def _log10(x: float) -> float:
+    """log10 through the core's platform-independent ln (same bits in CPython and Pyodide)."""
+    return ln(x) / _LN10
+
+
 def burenkova_bounds(h2: float) -> tuple[float, float]:
     """(lower, upper) bounds of h' for h'' (Burenkova 1993)."""
-    lg = math.log10(h2)
+    lg = _log10(h2)
     return BURENKOVA["lower_a"] * lg + BURENKOVA["b"], BURENKOVA["upper_a"] * lg + BURENKOVA["b"]
 
 
@@ -248,8 +261,8 @@ def burenkova_1993(curve: Curve) -> Check:
 
 def wan_fell_probability(h1: float, h2: float) -> float:
     """P(unstable) = e^Z / (1 + e^Z), Z = 2.378 log10(h'') - 3.648 h' + 3.701 (Wan & Fell 2008)."""
-    z = WAN_FELL["a"] * math.log10(h2) + WAN_FELL["b"] * h1 + WAN_FELL["c"]
-    return 1.0 / (1.0 + math.exp(-z)) if z >= 0 else math.exp(z) / (1.0 + math.exp(z))
+    z = WAN_FELL["a"] * _log10(h2) + WAN_FELL["b"] * h1 + WAN_FELL["c"]
+    return 1.0 / (1.0 + exp(-z)) if z >= 0 else exp(z) / (1.0 + exp(z))
 
 
 def wan_fell_2008(curve: Curve) -> tuple[Check, list[Finding]]:

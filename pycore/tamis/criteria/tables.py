@@ -62,6 +62,17 @@ _NRCS_RETENTION = {
     "cat4_multiplier": 4.0,
 }
 
+#: USBR 2011 and FEMA 2011 share every number (from memory).
+_FAMILY_2011 = {
+    "family": "nrcs",
+    "regrade": True,
+    "retention": _NRCS_RETENTION,
+    "permeability_multiplier": 5.0,
+    "permeability_floor_mm": 0.1,
+    "band_width_ratio": 5.0,
+    "band_width_up_to_pct": 60.0,
+}
+
 #: One table per rule set. ``permeability_multiplier`` x d15B (before
 #: regrading), not less than ``permeability_floor_mm``.
 RULE_SETS = _freeze({
@@ -79,24 +90,12 @@ RULE_SETS = _freeze({
     "usbr-2011": {
         "title": "US Bureau of Reclamation, Design Standards No. 13 Ch. 5, "
                  "Protective Filters, DS-13(5)-9 (November 2011)",
-        "family": "nrcs",
-        "regrade": True,
-        "retention": _NRCS_RETENTION,
-        "permeability_multiplier": 5.0,
-        "permeability_floor_mm": 0.1,
-        "band_width_ratio": 5.0,
-        "band_width_up_to_pct": 60.0,
+        **_FAMILY_2011,
     },
     "fema-2011": {
         "title": "FEMA, Filters for Embankment Dams: Best Practices for Design "
                  "and Construction (October 2011)",
-        "family": "nrcs",
-        "regrade": True,
-        "retention": _NRCS_RETENTION,
-        "permeability_multiplier": 5.0,
-        "permeability_floor_mm": 0.1,
-        "band_width_ratio": 5.0,
-        "band_width_up_to_pct": 60.0,
+        **_FAMILY_2011,
     },
     "terzaghi": {
         "title": "Terzaghi filter ratios, as given in Terzaghi & Peck, Soil "
