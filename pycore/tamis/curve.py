@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 from .errors import InputError, join
 
@@ -108,6 +109,11 @@ class Curve:
     def to_points(self) -> list[dict]:
         return [{"opening_mm": d, "passing_pct": p} for d, p in self.points]
 
+    @cached_property
+    def log_sizes(self) -> tuple[float, ...]:
+        """ln(opening_mm) of each point, computed once (:func:`ln`)."""
+        return tuple(ln(d) for d, _ in self.points)
+
 
 def make_curve(points, path: str = "passing") -> Curve:
     """Build a :class:`Curve` from ``(opening_mm, passing_pct)`` pairs in any order.
@@ -151,12 +157,6 @@ def make_curve(points, path: str = "passing") -> Curve:
     return Curve(tuple((d, p) for d, p, _ in pts))
 
 
-def _log_interp_size(x: float, d_l: float, p_l: float, d_s: float, p_s: float) -> float:
-    """Size at ``x`` % between (d_s, p_s) below and (d_l, p_l) above, log-linear."""
-    t = (x - p_s) / (p_l - p_s)
-    return exp(ln(d_s) + t * (ln(d_l) - ln(d_s)))
-
-
 def size_at(curve: Curve, pct: float) -> float | None:
     """Particle size [mm] at ``pct`` percent passing (D-value), or ``None``.
 
@@ -183,11 +183,14 @@ def size_at(curve: Curve, pct: float) -> float | None:
     0.632456
     """
     pts = curve.points
-    for (d_l, p_l), (d_s, p_s) in zip(pts, pts[1:]):
+    for k in range(1, len(pts)):
+        p_l, p_s = pts[k - 1][1], pts[k][1]
         if p_l == p_s:
             continue
         if p_s <= pct <= p_l:
-            return _log_interp_size(pct, d_l, p_l, d_s, p_s)
+            logs = curve.log_sizes
+            t = (pct - p_s) / (p_l - p_s)
+            return exp(logs[k] + t * (logs[k - 1] - logs[k]))
     if len(pts) and all(p == pts[0][1] for _, p in pts) and pts[0][1] == pct:
         return pts[-1][0]
     return None
@@ -205,22 +208,19 @@ def passing_at(curve: Curve, size_mm: float) -> float | None:
         return None
     pts = curve.points
     d0, p0 = pts[0]
-    if size_mm > d0 or same_size(size_mm, d0):
-        if same_size(size_mm, d0):
-            return p0
+    if same_size(size_mm, d0):
+        return p0
+    if size_mm > d0:
         return 100.0 if p0 >= 100.0 else None
-    dn, pn = pts[-1]
-    if size_mm < dn or same_size(size_mm, dn):
-        if same_size(size_mm, dn):
-            return pn
-        return 0.0 if pn <= 0.0 else None
-    for (d_l, p_l), (d_s, p_s) in zip(pts, pts[1:]):
+    for k in range(1, len(pts)):
+        d_s, p_s = pts[k]
         if same_size(size_mm, d_s):
             return p_s
-        if d_s < size_mm < d_l:
-            t = (ln(size_mm) - ln(d_s)) / (ln(d_l) - ln(d_s))
-            return p_s + t * (p_l - p_s)
-    return None  # pragma: no cover - unreachable with a valid curve
+        if size_mm > d_s:
+            logs = curve.log_sizes
+            t = (ln(size_mm) - logs[k]) / (logs[k - 1] - logs[k])
+            return p_s + t * (pts[k - 1][1] - p_s)
+    return 0.0 if pts[-1][1] <= 0.0 else None
 
 
 def d_values(curve: Curve, pcts=STANDARD_D_PCTS) -> dict[str, float | None]:
