@@ -5,6 +5,8 @@ set -euo pipefail
 need=()
 command -v chromium >/dev/null 2>&1 || need+=(chromium)
 command -v node >/dev/null 2>&1 || need+=(nodejs npm)
+# libreoffice-calc-nogui: soffice --headless --convert-to, for tests/test_csv_spreadsheet.py (CSV opened in Calc).
+command -v soffice >/dev/null 2>&1 || need+=(libreoffice-calc-nogui)
 if [ ${#need[@]} -eq 0 ]; then exit 0; fi
 if [ "$(id -u)" != 0 ]; then
   echo "missing Debian packages: ${need[*]}; run as root or install them: apt-get install ${need[*]}" >&2
