@@ -47,7 +47,7 @@ def test_table_output_for_gradation_and_evaluate(tmp_path):
     f.write_text(json.dumps({"test": EXAMPLE_29}))
     p = run(["gradation", str(f), "--table"], "")
     assert p.returncode == 0, p.stderr
-    assert "No. 200" in p.stdout and "qa.mass_balance" in p.stdout and "verdict: REJECT" in p.stdout
+    assert "No. 200" in p.stdout and "qa.mass_balance" in p.stdout and "lab QA verdict: REJECT" in p.stdout
     assert "Screening check only" in p.stdout
     # 4.4 % passing No. 200, shown rounded for display only.
     assert any(line.startswith("No. 200") and line.rstrip().endswith("4.4") for line in p.stdout.splitlines())

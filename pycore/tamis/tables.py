@@ -107,7 +107,10 @@ def render(command: str, response: dict) -> str:
         lines += _checks(res["checks"]) + [""]
     if response.get("findings"):
         lines += _findings(response["findings"]) + [""]
-    if res.get("verdict"):
+    if res.get("verdict") and command == "gradation":
+        lines.append(f"lab QA verdict: {res['verdict'].upper()} (lab QA checks only; a band and filter criteria "
+                     "are checked by evaluate)")
+    elif res.get("verdict"):
         lines.append(f"verdict: {res['verdict'].upper()}")
     lines.append(res.get("notice") or SCREENING_NOTICE)
     return "\n".join(lines)
