@@ -244,3 +244,18 @@ def test_run_filter_checks_without_base_has_no_pair_checks():
     ids = [c.id for c in out.checks]
     assert "filter.retention" not in ids and "filter.fines" in ids and "stability.kezdi" in ids
     assert out.base_info["base_category"] is None and out.rules_used["criteria"] == "nrcs-1994"
+
+
+def test_rules_dispersive_overrides_the_base_flag_and_stability_can_be_off():
+    # category-1 base (A > 85): 9 x d85B normally, 6.5 x d85B when dispersive (secondary source)
+    base = Stand([(0.425, 100), (0.075, 95), (0.005, 40), (0.001, 10)], dispersive=False)
+    sample = Stand([(4.75, 100), (1.18, 60), (0.3, 20), (0.15, 8), (0.075, 2)], nonplastic=True)
+    normal = run_filter_checks(sample, base, {"criteria": "nrcs-1994"})
+    disp = run_filter_checks(sample, base, {"criteria": "nrcs-1994", "dispersive": True})
+    d85b = normal.limits["d85b_mm"]
+    assert 6.5 * d85b > 0.2                                   # the 0.2 mm floor does not govern here
+    assert normal.limits["d15_max_mm"] == pytest.approx(9 * d85b, rel=1e-12)
+    assert disp.limits["d15_max_mm"] == pytest.approx(6.5 * d85b, rel=1e-12)
+    off = run_filter_checks(sample, base, {"stability": False})
+    assert not any(c.id.startswith("stability.") for c in off.checks)
+    assert off.rules_used["stability"] is False

@@ -135,3 +135,12 @@ def test_cli_gives_the_same_answer(tmp_path):
     assert out.returncode == 0, out.stderr
     assert json.loads(out.stdout) == json.loads(api.handle(json.dumps({"schema": 1, "op": "zones", "id": None,
                                                                        **REQUEST})))
+
+
+def test_findings_name_their_zone_and_are_not_repeated():
+    r = _call(REQUEST)
+    fs = r["findings"]
+    keys = [(f["code"], f["message"], f["field"]) for f in fs]
+    assert len(keys) == len(set(keys))
+    crit = [f for f in fs if f["code"] in ("wan_fell_range", "hazen_range")]
+    assert crit and all(f["field"].startswith("zones[") for f in crit)

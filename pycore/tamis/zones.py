@@ -20,6 +20,7 @@ engineer of record govern.
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 
 from . import SCREENING_NOTICE
 from .criteria import run_filter_checks
@@ -30,7 +31,7 @@ from .criteria.tables import MATERIAL, NO_200_MM, RULE_SETS, segregation_d90_max
 from .curve import exp, ln, make_curve, passing_at, size_at
 from .errors import InputError, join, require_list, require_mapping, text
 from .evaluation import reduce_test
-from .findings import FAIL, verdict
+from .findings import FAIL, Finding, verdict
 
 ROLES = ("base", "filter", "shell")
 INTERFACE_IDS = ("filter.retention", "filter.permeability", "permeability.ratio")
@@ -52,6 +53,11 @@ def _parse_zones(req: dict):
             raise InputError("missing_field", f"{join(p, 'test')} is required.", join(p, "test"))
         zones.append({"name": name, "role": role, "red": reduce_test(z["test"], join(p, "test"))})
     return zones
+
+
+def _at(f: Finding, path: str) -> Finding:
+    """The finding placed on a zone's input (criteria findings name "base" or nothing)."""
+    return replace(f, field=path) if f.field in ("", "base") else f
 
 
 def intermediate_window(finer_limits: dict, coarser_d15_mm: float | None, rules: dict) -> dict:
@@ -101,11 +107,11 @@ def op_zones(req: dict):
         if z["role"] == "filter":
             out = run_filter_checks(red, None, rules, "rules")
             checks += out.checks
-            findings += out.findings
+            findings += [_at(f, join(join("zones", i), "test")) for f in out.findings]
         all_checks += checks
         zone_out.append({"name": z["name"], "role": z["role"], "gradation": red.gradation,
                          "checks": [c.to_dict() for c in checks], "verdict": verdict(checks)})
-    for fine, coarse in zip(zones, zones[1:]):
+    for i, (fine, coarse) in enumerate(zip(zones, zones[1:])):
         pair_rules = rules
         if fine["role"] != "base" and not (isinstance(rules, dict) and "regrade" in rules):
             # a filter zone used as a base is clean (<= 5 % fines): category 4 on its own curve, not
@@ -113,7 +119,8 @@ def op_zones(req: dict):
             pair_rules = {**(rules or {}), "regrade": False}
         out = run_filter_checks(coarse["red"], fine["red"], pair_rules, "rules")
         checks = [c for c in out.checks if c.id in INTERFACE_IDS]
-        findings += out.findings
+        # the filter's own findings were reported with its zone; keep those about the base
+        findings += [_at(f, join(join("zones", i), "test")) for f in out.findings if f.field == "base"]
         all_checks += checks
         ret = next(c for c in checks if c.id == "filter.retention")
         inter = None

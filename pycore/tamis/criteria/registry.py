@@ -51,25 +51,37 @@ ENTRIES: tuple[Entry, ...] = (
     _E("qa.mass_balance", "", "Sieving mass balance",
        "The sum of the masses retained and in the pan agrees with the mass put on the sieves within 0.3 % "
        "of the original dry mass; otherwise the result is not used for acceptance.",
-       "Every sieve test entered as masses.",
-       "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates", "C136/C136M-14 and -19",
-       "Section 8.7 (checklist item 9)", "read in a secondary source (laboratory checklist of C136-14)"),
+       "Every sieve test entered as masses (computed in tamis.sieve_test).",
+       "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates", "C136/C136M-14",
+       "Section 8.7 (laboratory checklist item 9)", "read (C136/C136M-14 checklist item 9)"),
     _E("qa.sieve_overload", "", "Sieve overload",
-       "The mass retained on a sieve finer than 4.75 mm does not exceed 7 kg/m2 of sieving surface "
-       "(about 200 g on a 203 mm sieve); coarser sieves by the C136 table.",
-       "Every sieve test entered as masses with a sieve diameter.",
+       "The mass retained on a sieve finer than 4.75 mm does not exceed 7 kg/m2 of sieving surface; at and "
+       "above 4.75 mm, 2.5 x opening [mm] x sieving area [m2] kg.",
+       "Every sieve test entered as masses (computed in tamis.sieve_test).",
        "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates", "C136/C136M-19",
-       "Section 8.3", "read in a secondary source (excerpt of C136-19 Section 8.3)"),
+       "Section 8.3", "read (Section 8.3 excerpt); from memory (effective sieving areas of the frames)"),
     _E("qa.specimen_mass", "", "Minimum test specimen mass",
-       "The dry mass of the specimen is at least the minimum for its nominal maximum size.",
-       "Every sieve test entered as masses.",
-       "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates", "C136/C136M-19",
-       "Section 7.4 (minimum mass by nominal maximum size)", "from memory"),
+       "The dry mass of the specimen is at least the minimum for its nominal maximum size (fine aggregate "
+       "300 g; coarse aggregate by nominal maximum size).",
+       "Every sieve test entered as masses (computed in tamis.sieve_test).",
+       "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates; nominal maximum size per WAQTC FOP for "
+       "AASHTO T 2", "C136/C136M-19; WAQTC FOP October 2014", "minimum mass table; nominal maximum size "
+       "definition", "from memory (mass table); read (nominal maximum size definition)"),
     _E("band.compliance", "", "Specification band",
        "At every sieve of the band the percent passing lies between the band's minimum and maximum.",
-       "When a band is given.",
-       "The project specification (the band entered by the user)", "as entered", "the band limits",
-       "common practice, no source"),
+       "When a band is given (computed in tamis.bands).",
+       "The project specification (the band entered by the user), or a preset's own source", "as entered",
+       "the band limits", "common practice, no source"),
+    _E("band.fineness_modulus", "", "Fineness modulus within the band's range",
+       "The fineness modulus (ASTM C125 sieves) lies between the band's fm_min and fm_max (C33 fine "
+       "aggregate: 2.3 to 3.1).", "When the band gives fm_min or fm_max (computed in tamis.bands).",
+       "ASTM C33/C33M Table 1 notes; ASTM C125 definition", "edition of the reproduction not stated",
+       "fineness modulus limits", "read in a secondary source (published reproduction of C33)"),
+    _E("band.between_sieves", "", "Most passing one sieve and retained on the next",
+       "At most max_between_sieves_pct (C33 fine aggregate: 45 %) of the sample between two consecutive band "
+       "sieves.", "When the band gives max_between_sieves_pct (computed in tamis.bands).",
+       "ASTM C33/C33M Table 1 notes", "edition of the reproduction not stated",
+       "the 45 % rule", "read in a secondary source (published reproduction of C33)"),
     # ---- retention (maximum D15F) ----
     _E("filter.retention", "nrcs-1994", "Retention: maximum D15 of the filter",
        "Category 1 (A > 85 %): D15F <= 9 x d85B, not less than 0.2 mm (dispersive base: 6.5 x d85B, not less "

@@ -169,7 +169,8 @@ def kenney_lau(curve: Curve, boundary: float = 1.0) -> Check:
                                                     limit=boundary, unit="-")
     if missing:
         return missing
-    extra["boundary"] = boundary
+    extra = {"f_max_pct": extra["f_max_pct"], "f_range_basis": extra["f_range_basis"], "boundary": boundary,
+             "complete": complete}
     d, f, h = min(samples, key=lambda s: s[2] / s[1])
     r = h / f
     extra.update({"at_mm": d, "f_pct": f, "h_pct": h})
