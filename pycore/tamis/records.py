@@ -966,15 +966,27 @@ def compute_summary(rec: dict, index: dict) -> dict:
     return out
 
 
+#: Significant digits of the calc columns. They are for people (display
+#: rounding only; verdicts were decided on unrounded values), and rounding
+#: keeps the app (Pyodide) and the office (CPython) byte-identical although
+#: their ``math.log``/``math.exp`` may differ in the last binary digit.
+CALC_DIGITS = 6
+
+
+def display_num(v: float) -> str:
+    """``v`` rounded to :data:`CALC_DIGITS` significant digits, written shortest."""
+    return fmt_num(float(f"{v:.{CALC_DIGITS}g}"))
+
+
 def summary_cells(s: dict) -> dict:
     """The ``calc_*`` cells of a summary (blank cells left out)."""
     c = {}
     for k, v in (s["d_mm"] or {}).items():
         if _is_num(v):
-            c[f"calc_{k.lower()}_mm"] = fmt_num(v)
+            c[f"calc_{k.lower()}_mm"] = display_num(v)
     for k, col in (("cu", "calc_cu"), ("fines_pct", "calc_fines_pct")):
         if _is_num(s[k]):
-            c[col] = fmt_num(s[k])
+            c[col] = display_num(s[k])
     if s["verdict"]:
         c["calc_verdict"] = escape_text(s["verdict"])
     if s["failing_checks"]:
