@@ -77,6 +77,17 @@ def render() -> str:
     for en in ENTRIES:
         lines.append(f"| `{en.id}` | {en.variant or 'all'} | {_cell(en.rule)} | {_cell(en.applies)} | "
                      f"{_cell(en.source)} | {_cell(en.edition)} | {_cell(en.locator)} | {_cell(en.provenance)} |")
+    lines += ["", "## Adding a criterion", "",
+              "1. Put every threshold in a table of `pycore/tamis/criteria/tables.py` (or a module constant "
+              "beside the one function that uses it), with its provenance.",
+              "2. Write one pure function per published rule, named for it, in the module of its method family; "
+              "units in names or docstrings; `needs_data` instead of any extrapolation.",
+              "3. Register the check id in `registry.py` with rule, applicability, source, edition, table or "
+              "equation and provenance tag.",
+              "4. Call it from `run_filter_checks` (or `zones.py`) and add tests at, just inside and just outside "
+              "each threshold, naming the source beside each check.",
+              "5. Run `python scripts/gen_criteria_docs.py` and `python tests/golden/regenerate.py --only <prefix>`, "
+              "read the diffs, commit."]
     return "\n".join(lines) + "\n"
 
 

@@ -169,3 +169,50 @@ def test_cli_gives_the_same_answer(tmp_path):
     assert out.returncode == 0, out.stderr
     assert json.loads(out.stdout) == json.loads(api.handle(json.dumps({"schema": 1, "op": "design_band",
                                                                        "id": None, **req})))
+
+
+# ------------------------------------------------------------------ property
+from hypothesis import assume, given, settings  # noqa: E402
+from hypothesis import strategies as hst  # noqa: E402
+
+_SIEVES = (37.5, 19.0, 9.5, 4.75, 2.0, 0.85, 0.425, 0.25, 0.15, 0.075, 0.02, 0.005, 0.001)
+
+
+@hst.composite
+def _base_tests(draw):
+    drops = draw(hst.lists(hst.floats(min_value=0.0, max_value=30.0), min_size=len(_SIEVES) - 1,
+                           max_size=len(_SIEVES) - 1))
+    p, pts = 100.0, [{"opening_mm": _SIEVES[0], "passing_pct": 100.0}]
+    for d, dp in zip(_SIEVES[1:], drops):
+        p = max(0.0, p - dp)
+        pts.append({"opening_mm": d, "passing_pct": p})
+    assume(pts[-1]["passing_pct"] < 14.0)
+    return {"passing": pts, "dispersive": draw(hst.booleans())}
+
+
+@settings(max_examples=60, deadline=None)
+@given(hst.lists(_base_tests(), min_size=1, max_size=3), hst.sampled_from(["nrcs-1994", "usbr-2011"]))
+def test_a_filter_on_the_band_midline_meets_retention_and_permeability_for_every_base(bases, crit):
+    """The band's own logic, checked by evaluate (NEH 633-26 1994 steps 4-6, from memory)."""
+    r = json.loads(api.handle(json.dumps({"schema": 1, "op": "design_band", "id": 1, "bases": bases,
+                                          "rules": {"criteria": crit}})))
+    assume(r["ok"])
+    res = r["result"]
+    if not res["feasible"]:
+        assert res["band"] is None
+        return
+    cp = res["control_points"]
+    g = (cp["d15f_min_mm"] / cp["d15f_max_mm"]) ** 0.5
+    d15 = cp["d15f_max_mm"] * g
+    sample = {"passing": [{"opening_mm": 75.0 * g, "passing_pct": 100.0},
+                          {"opening_mm": cp["d90_max_mm"] * g, "passing_pct": 90.0},
+                          {"opening_mm": d15, "passing_pct": 15.0},
+                          {"opening_mm": d15 / 2, "passing_pct": 5.0}, {"opening_mm": d15 / 4, "passing_pct": 0.0}],
+              "plasticity": {"nonplastic": True}}
+    for base in bases:
+        ev = json.loads(api.handle(json.dumps({"schema": 1, "op": "evaluate", "id": 2, "sample": sample,
+                                               "base": base, "rules": {"criteria": crit}})))
+        assert ev["ok"], ev
+        st_ = {c["id"]: c["status"] for c in ev["result"]["checks"]}
+        assert st_["filter.retention"] in ("pass", "warn")
+        assert st_["filter.permeability"] == "pass"

@@ -256,9 +256,10 @@ def op_design_band(req: dict):
                              "width_ratio_15_to_90_pct": 1.0 / k, "width_ratio_max_below_15_pct": below},
                   "note": "Coarse limit through (D15F max, 15 %), (D90 max, 90 %), (75 mm, 100 %), extended on the "
                           "same line below 15 %. Fine limit: the coarse limit shifted by the constant size factor "
-                          "D15F min / D15F max from 15 to 100 %, so the width ratio stays <= 5 up to 60 % and "
-                          "beyond; below 15 % it runs through (0.075 mm, 5 %), where the fines limit governs and "
-                          "the width ratio is reported, not enforced (derived construction)."})
+                          f"D15F min / D15F max from 15 to 100 %, so the width ratio stays <= {ratio_max:g} up to "
+                          f"{rs['band_width_up_to_pct']:g} % and beyond; below 15 % it runs through (0.075 mm, 5 %), "
+                          "where the fines limit governs and the width ratio is reported, not enforced (derived "
+                          "construction)."})
     limits = []
     for s in BAND_SIEVES_MM:
         lo, hi = passing_at(coarse, s), passing_at(fine, s)
