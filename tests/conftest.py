@@ -58,6 +58,7 @@ def _passing(points) -> str:
 CASES = [
     ("not json", '{"schema": 1, "op": "gradation", "test": {', "bad_json", ""),
     ("not an object", '[{"op": "gradation"}]', "not_an_object", ""),
+    ("unknown op", '{"schema": 1, "op": "sieve_everything", "test": {}}', "unknown_op", "op"),
     ("test not an object", '{"schema": 1, "op": "gradation", "test": [1, 2]}', "not_an_object", "test"),
     ("missing test", '{"schema": 1, "op": "gradation"}', "missing_field", "test"),
     ("missing sieves", '{"schema": 1, "op": "gradation", "test": {"dry_mass_g": 5}}', "missing_field",
