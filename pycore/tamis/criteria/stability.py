@@ -43,6 +43,17 @@ def _size_inside(curve: Curve, pct: float) -> float | None:
     return size_at(curve, pct)
 
 
+def _three_way(check_id: str, failed: bool, complete: bool, fail_msg: str, incomplete_msg: str, pass_msg: str,
+               **kw) -> Check:
+    """fail when the measured part already fails; else needs_data when part of the
+    method's range was not measured; else pass."""
+    if failed:
+        return make_check(check_id, FAIL, fail_msg, **kw)
+    if not complete:
+        return make_check(check_id, NEEDS_DATA, incomplete_msg, **kw)
+    return make_check(check_id, PASS, pass_msg, **kw)
+
+
 # ----------------------------------------------------------------- Kezdi 1979
 def kezdi_1979(curve: Curve) -> Check:
     """Kezdi split test: at every split, D'15 of the coarse part / d'85 of the
@@ -81,19 +92,14 @@ def kezdi_1979(curve: Curve) -> Check:
                           limit=KEZDI_LIMIT, relation="<=", unit="-")
     r, ps, d = worst
     extra = {"split_passing_pct": ps, "split_mm": d, "complete": not incomplete}
-    if r > KEZDI_LIMIT:
-        return make_check("stability.kezdi", FAIL,
-                          f"Kezdi: D'15 coarse / d'85 fine reaches {r:.3g} (> {KEZDI_LIMIT:g}) at the split "
-                          f"{ps:.1f} % passing: the fine part could wash out of the coarse part.",
-                          value=r, limit=KEZDI_LIMIT, relation="<=", unit="-", extra=extra)
-    if incomplete:
-        return make_check("stability.kezdi", NEEDS_DATA,
-                          f"Kezdi: the largest ratio over the measured splits is {r:.3g} (<= {KEZDI_LIMIT:g}), but "
-                          "splits beyond the measured curve could not be read; add finer (hydrometer) or coarser "
-                          "points.", value=r, limit=KEZDI_LIMIT, relation="<=", unit="-", extra=extra)
-    return make_check("stability.kezdi", PASS,
-                      f"Kezdi: the largest D'15 coarse / d'85 fine is {r:.3g} (<= {KEZDI_LIMIT:g}).", value=r,
-                      limit=KEZDI_LIMIT, relation="<=", unit="-", extra=extra)
+    return _three_way("stability.kezdi", r > KEZDI_LIMIT, not incomplete,
+                      f"Kezdi: D'15 coarse / d'85 fine reaches {r:.3g} (> {KEZDI_LIMIT:g}) at the split "
+                      f"{ps:.1f} % passing: the fine part could wash out of the coarse part.",
+                      f"Kezdi: the largest ratio over the measured splits is {r:.3g} (<= {KEZDI_LIMIT:g}), but "
+                      "splits beyond the measured curve could not be read; add finer (hydrometer) or coarser "
+                      "points.",
+                      f"Kezdi: the largest D'15 coarse / d'85 fine is {r:.3g} (<= {KEZDI_LIMIT:g}).",
+                      value=r, limit=KEZDI_LIMIT, relation="<=", unit="-", extra=extra)
 
 
 # ------------------------------------------------ Kenney & Lau, Li & Fannin
@@ -174,16 +180,12 @@ def kenney_lau(curve: Curve, boundary: float = 1.0) -> Check:
     d, f, h = min(samples, key=lambda s: s[2] / s[1])
     r = h / f
     extra.update({"at_mm": d, "f_pct": f, "h_pct": h})
-    if r < boundary:
-        return make_check("stability.kenney_lau", FAIL,
-                          f"Kenney & Lau: (H/F)min = {r:.3g} < {boundary:g} at F = {f:.3g} % ({d:.3g} mm): "
-                          "internally unstable.", value=r, limit=boundary, relation=">=", unit="-", extra=extra)
-    if not complete:
-        return make_check("stability.kenney_lau", NEEDS_DATA,
-                          f"Kenney & Lau: (H/F)min = {r:.3g} over the measured range, but F below "
-                          f"{curve.points[-1][1]:.3g} % was not measured; add hydrometer points.",
-                          value=r, limit=boundary, relation=">=", unit="-", extra=extra)
-    return make_check("stability.kenney_lau", PASS, f"Kenney & Lau: (H/F)min = {r:.3g} >= {boundary:g}.",
+    return _three_way("stability.kenney_lau", r < boundary, complete,
+                      f"Kenney & Lau: (H/F)min = {r:.3g} < {boundary:g} at F = {f:.3g} % ({d:.3g} mm): "
+                      "internally unstable.",
+                      f"Kenney & Lau: (H/F)min = {r:.3g} over the measured range, but F below "
+                      f"{curve.points[-1][1]:.3g} % was not measured; add hydrometer points.",
+                      f"Kenney & Lau: (H/F)min = {r:.3g} >= {boundary:g}.",
                       value=r, limit=boundary, relation=">=", unit="-", extra=extra)
 
 
@@ -200,16 +202,11 @@ def li_fannin_2008(curve: Curve) -> Check:
     d, f, h = min(samples, key=lambda s: s[2] - need(s[1]))
     req = need(f)
     extra.update({"at_mm": d, "f_pct": f})
-    if h < req:
-        return make_check("stability.li_fannin", FAIL,
-                          f"Li & Fannin: H = {h:.3g} % < {req:.3g} % at F = {f:.3g} % ({d:.3g} mm): "
-                          "internally unstable.", value=h, limit=req, relation=">=", unit="%", extra=extra)
-    if not complete:
-        return make_check("stability.li_fannin", NEEDS_DATA,
-                          f"Li & Fannin: no shortfall over the measured range (tightest H = {h:.3g} % against "
-                          f"{req:.3g} %), but finer parts were not measured.", value=h, limit=req, relation=">=",
-                          unit="%", extra=extra)
-    return make_check("stability.li_fannin", PASS,
+    return _three_way("stability.li_fannin", h < req, complete,
+                      f"Li & Fannin: H = {h:.3g} % < {req:.3g} % at F = {f:.3g} % ({d:.3g} mm): "
+                      "internally unstable.",
+                      f"Li & Fannin: no shortfall over the measured range (tightest H = {h:.3g} % against "
+                      f"{req:.3g} %), but finer parts were not measured.",
                       f"Li & Fannin: H >= the boundary everywhere (tightest H = {h:.3g} % against {req:.3g} %).",
                       value=h, limit=req, relation=">=", unit="%", extra=extra)
 
