@@ -5,6 +5,7 @@ message naming the field, never a traceback and never NaN in the output.
 """
 
 import json
+import pathlib
 import subprocess
 import sys
 
@@ -58,3 +59,19 @@ def test_table_output_for_gradation_and_evaluate(tmp_path):
 def test_table_output_for_an_error_names_the_field():
     p = run(["gradation", "-", "--table"], json.dumps({"test": {"sieves": [{"opening_mm": 1, "retained_g": 1}]}}))
     assert p.returncode == 2 and "test.sieves" in p.stdout and "Traceback" not in p.stderr
+
+
+def test_table_renderer_shows_interfaces_and_designed_bands():
+    from tamis import api
+    from tamis.tables import render
+    golden = pathlib.Path(__file__).resolve().parent / "golden"
+    for name, must in (("design_band-three-bases", ["feasible:", "min %", "step 1:"]),
+                       ("zones-three-zone-usbr", ["->", "filter.retention"])):
+        req = golden / f"{name}.request.json"
+        if not req.exists():
+            pytest.skip(f"{name} golden case not present")
+        resp = json.loads(api.handle(req.read_text(encoding="utf-8")))
+        text = render(json.loads(req.read_text())["op"], resp)
+        for word in must:
+            assert word in text, (name, word)
+        assert "Screening check only" in text

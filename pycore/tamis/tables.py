@@ -73,6 +73,22 @@ def _findings(findings: list[dict]) -> list[str]:
             for f in findings]
 
 
+def _design_band(res: dict) -> list[str]:
+    out = [f"feasible: {_num(res.get('feasible'))}"]
+    cp = {k: v for k, v in (res.get("control_points") or {}).items() if v is not None}
+    if cp:
+        out.append("control points: " + ", ".join(f"{k} {_num(v, 3)}" for k, v in cp.items()))
+    band = res.get("band") or {}
+    if band.get("limits"):
+        out += ["", band.get("name") or "band"]
+        out += _grid(["opening mm", "min %", "max %"],
+                     [[_num(x.get("opening_mm"), 3), _num(x.get("min_pct"), 1), _num(x.get("max_pct"), 1)]
+                      for x in band["limits"]])
+    for st in res.get("steps") or []:
+        out.append(f"step {st.get('step')}: {st.get('title')}" + (f" - {st['note']}" if st.get("note") else ""))
+    return out + [""]
+
+
 def render(command: str, response: dict) -> str:
     """Human-readable text of one response of ``command`` (``gradation``, ``evaluate``...)."""
     if not response.get("ok"):
@@ -99,6 +115,8 @@ def render(command: str, response: dict) -> str:
         if lim:
             lines.append("limits: " + ", ".join(f"{k} {_num(v, 3)}" for k, v in lim.items()))
         lines.append("")
+    elif command == "design_band":
+        lines += _design_band(res)
     elif res.get("interfaces"):
         for it in res["interfaces"]:
             lines += [f"{it.get('base')} -> {it.get('filter')}: {it.get('verdict')}"]
