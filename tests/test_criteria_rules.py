@@ -259,3 +259,14 @@ def test_rules_dispersive_overrides_the_base_flag_and_stability_can_be_off():
     off = run_filter_checks(sample, base, {"stability": False})
     assert not any(c.id.startswith("stability.") for c in off.checks)
     assert off.rules_used["stability"] is False
+
+
+def test_dispersive_category_3_has_no_known_variant_so_a_pass_becomes_warn():
+    # NEH 633-26 1994 gives no dispersive category-3 limit in the notes read (from memory, low confidence)
+    base = analyse_base(make_curve([(4.75, 100), (0.425, 60), (0.075, 25), (0.002, 5)]), True, True, 4.75)
+    assert base.category == 3
+    r = parse_rules(None)
+    chk, lim = retention_check(0.5, base, NRCS, r)
+    assert chk.status == "warn" and lim["caveats"]
+    chk, _ = retention_check(lim["limit_mm"] * 1.01, base, NRCS, r)
+    assert chk.status == "fail"

@@ -216,3 +216,15 @@ def test_a_filter_on_the_band_midline_meets_retention_and_permeability_for_every
         st_ = {c["id"]: c["status"] for c in ev["result"]["checks"]}
         assert st_["filter.retention"] in ("pass", "warn")
         assert st_["filter.permeability"] == "pass"
+
+
+def test_terzaghi_band_on_a_very_fine_base_keeps_the_fine_limit_above_0075():
+    silt = {"passing": [{"opening_mm": 0.425, "passing_pct": 100}, {"opening_mm": 0.075, "passing_pct": 96},
+                        {"opening_mm": 0.02, "passing_pct": 60}, {"opening_mm": 0.005, "passing_pct": 30},
+                        {"opening_mm": 0.001, "passing_pct": 5}]}          # invented
+    r = json.loads(api.handle(json.dumps({"schema": 1, "op": "design_band", "id": 1, "bases": [silt],
+                                          "rules": {"criteria": "terzaghi"}})))
+    assert r["ok"], r
+    res = r["result"]
+    assert res["control_points"]["d15f_min_mm"] == 0.1
+    assert any(f["code"] == "band_fines_floor" for f in r["findings"])

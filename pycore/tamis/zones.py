@@ -217,6 +217,15 @@ def op_design_band(req: dict):
     ratio_max = rs["band_width_ratio"]
     floor = rs.get("permeability_floor_mm", 0.0)
     d15_min = max(d15_min0, d15_max / ratio_max, floor)
+    if d15_min <= NO_200_MM:
+        # only the terzaghi set has no floor: a fine limit through (0.075 mm, 5 %) needs D15 above 0.075 mm
+        floor = RULE_SETS["nrcs-1994"]["permeability_floor_mm"]
+        d15_min = max(d15_min, floor)
+        findings.append({"level": "warning", "code": "band_fines_floor",
+                         "message": f"D15F min fell at or below 0.075 mm, where the fines limit already governs; "
+                                    f"the NRCS floor {floor:g} mm (from memory) is used so that the band's fine "
+                                    "limit can pass through 0.075 mm at 5 %.",
+                         "field": "rules.criteria", "source": "NRCS NEH 633-26 (1994), 0.1 mm floor (from memory)"})
     steps.append({"step": 6, "title": f"Band width: D15F max / D15F min <= {ratio_max:g}",
                   "values": {"ratio_before": d15_max / d15_min0, "d15f_min_mm": d15_min,
                              "raised": d15_min > d15_min0},
