@@ -30,6 +30,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from decimal import Decimal
 
 from .curve import GRAVEL_SAND_MM, SAND_FINES_MM, Curve, make_curve, same_size
 from .errors import InputError, boolean, join, number, require_list, require_mapping, text
@@ -252,7 +253,9 @@ def parse_masses(test: dict, path: str) -> SieveTest:
                     loss / dry * 100.0, moisture)
     frame = frame_of(test, path)
     portions = boolean(test, "sieved_in_portions", path, default=False)
-    checks = (mass_balance_check(masses), sieve_overload_check(rows, frame, portions),
+    on_sieves_sum = cums[-1] if entry == "cumulative" else retained
+    within = balance_within_decimal(on_sieves_sum, pan, on_sieves, dry)
+    checks = (mass_balance_check(masses, within), sieve_overload_check(rows, frame, portions),
               specimen_mass_check(rows, dry))
     if washed_mass is None and any(same_size(row.opening_mm, SAND_FINES_MM) for row in rows):
         findings.append(Finding("warning", "not_washed",
@@ -297,11 +300,28 @@ def parse_test(test, path: str = "test") -> SieveTest:
     return parse_masses(test, path)
 
 
-def mass_balance_check(m: Masses) -> Check:
+def _dec(x: float) -> Decimal:
+    """The decimal number a float was typed as (its shortest repr), exactly."""
+    return Decimal(repr(float(x)))
+
+
+def balance_within_decimal(retained, pan_g: float, on_sieves_g: float, dry_mass_g: float) -> bool:
+    """True when |sum retained + pan - on sieves| <= 0.3 % of the dry mass, decided
+    in exact decimal arithmetic on the masses as entered (``retained`` is a list
+    of masses, or one cumulative total), so that a difference of exactly 0.3 %
+    is not pushed over the limit by binary rounding."""
+    total = _dec(retained) if isinstance(retained, (int, float)) else sum((_dec(r) for r in retained), Decimal(0))
+    diff = abs(total + _dec(pan_g) - _dec(on_sieves_g))
+    return diff * 1000 <= _dec(dry_mass_g) * 3
+
+
+def mass_balance_check(m: Masses, within: bool | None = None) -> Check:
     """``qa.mass_balance``: |sum retained + pan - mass put on the sieves| <= 0.3 %
-    of the original dry mass (ASTM C136). Compared unrounded."""
+    of the original dry mass (ASTM C136). Compared unrounded; ``within`` is the
+    exact decimal decision of :func:`balance_within_decimal` when the caller has
+    the masses as entered (otherwise the float comparison decides)."""
     diff_pct = abs(m.retained_sum_g + m.pan_g - m.on_sieves_g) / m.dry_mass_g * 100.0
-    ok = compare(diff_pct, "<=", MASS_BALANCE_LIMIT_PCT)
+    ok = compare(diff_pct, "<=", MASS_BALANCE_LIMIT_PCT) if within is None else within
     what = "dry mass after washing" if m.washed else "dry mass"
     msg = (f"Sieves and pan hold {m.retained_sum_g + m.pan_g:.1f} g against {m.on_sieves_g:.1f} g {what}: "
            f"a difference of {diff_pct:.2f} % of the original dry mass "
