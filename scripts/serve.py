@@ -66,7 +66,7 @@ MIME = {
 NO_CACHE = {"/sw.js", "/vendor/build.js", "/vendor/manifest.json"}
 
 
-def make_handler(root: Path, mounts: dict[str, Path], overrides: dict[str, tuple[bytes, str]],
+def make_handler(root: Path, mounts: dict[str, Path], overrides: dict[str, tuple],
                  requests: list, quiet: bool):
     """A request handler class bound to one server's folders, overrides and log."""
 
@@ -95,8 +95,8 @@ def make_handler(root: Path, mounts: dict[str, Path], overrides: dict[str, tuple
             requests.append((self.command, self.path))
             override = overrides.get(self._path_only())
             if override is not None:
-                body, ctype = override
-                self.send_response(200)
+                body, ctype, code = (*override, 200)[:3]
+                self.send_response(code)
                 self.send_header("Content-Type", ctype)
                 self.send_header("Content-Length", str(len(body)))
                 self.end_headers()
@@ -128,8 +128,9 @@ class StaticServer:
     """The static server as a library: start on a port (0 = free), log requests, stop.
 
     ``mounts`` maps a URL prefix ("/__e2e__/") to another folder (tests only);
-    ``overrides`` maps a URL path to ``(body_bytes, content_type)`` served instead
-    of the file (tests only: e.g. a build manifest with a new version).
+    ``overrides`` maps a URL path to ``(body_bytes, content_type[, status])``
+    served instead of the file (tests only: a build manifest with a new
+    version, a missing runtime file).
     """
 
     def __init__(self, root: Path = WEBAPP, host: str = "127.0.0.1", port: int = 0,
@@ -137,7 +138,7 @@ class StaticServer:
         self.root = Path(root)
         self.host = host
         self.requests: list[tuple[str, str]] = []
-        self.overrides: dict[str, tuple[bytes, str]] = {}
+        self.overrides: dict[str, tuple] = {}
         handler = make_handler(self.root, dict(mounts or {}), self.overrides, self.requests, quiet)
         self.httpd = http.server.ThreadingHTTPServer((host, port), handler)
         self.httpd.daemon_threads = True

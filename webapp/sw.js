@@ -12,6 +12,7 @@
 // Messages to pages: {type: "tamis-precache", version, total, done, bytes,
 // total_bytes, complete, error}. A page may ask {type: "tamis-status"}; the
 // answer (same shape) checks that every manifest file is in the cache.
+// vendor/manifest.json is answered from TAMIS_BUILD, the build this worker serves.
 
 /* global TAMIS_BUILD */
 importScripts("./vendor/build.js");
@@ -118,6 +119,12 @@ self.addEventListener("fetch", (event) => {
   if (url.origin !== SCOPE.origin) {
     // The page's CSP already forbids this; never fetch another origin for it.
     event.respondWith(Response.error());
+    return;
+  }
+  if (url.pathname === new URL("vendor/manifest.json", SCOPE).pathname) {
+    // The manifest of the build this worker serves, so pages and the Python
+    // worker always see the file list that matches the cached files.
+    event.respondWith(new Response(JSON.stringify(BUILD), { headers: { "Content-Type": "application/json" } }));
     return;
   }
   event.respondWith((async () => {

@@ -48,6 +48,7 @@ function pump() {
 function onMessage(event) {
   const msg = event.data || {};
   if (msg.type === "status") {
+    if (status.error) return;  // a failed boot stays failed
     if (msg.error) fail(msg.error);
     else setStatus(msg);
     pump();

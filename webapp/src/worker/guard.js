@@ -1,8 +1,9 @@
 // Wraps the worker's fetch so that nothing is ever requested from another
 // origin (the app is offline-first and has no third-party requests), and so
-// that boot stages can follow the runtime's own downloads.
+// that boot stages can follow the runtime's own downloads (onFetched for a
+// response with an ok status, onFailed for an error status or a network error).
 
-export function prepareFetchGuard(scope, origin, { onFetch = () => {}, onFetched = () => {} } = {}) {
+export function prepareFetchGuard(scope, origin, { onFetch = () => {}, onFetched = () => {}, onFailed = () => {} } = {}) {
   const nativeFetch = scope.fetch.bind(scope);
   scope.fetch = (input, init) => {
     const url = new URL(typeof input === "string" || input instanceof URL ? input : input.url, scope.location.href);
@@ -14,8 +15,12 @@ export function prepareFetchGuard(scope, origin, { onFetch = () => {}, onFetched
     }
     onFetch(url);
     return nativeFetch(input, init).then((response) => {
-      onFetched(url, response);
+      if (response.ok) onFetched(url, response);
+      else onFailed(url, `HTTP ${response.status}`);
       return response;
+    }, (err) => {
+      onFailed(url, err.message || String(err));
+      throw err;
     });
   };
   return { nativeFetch };

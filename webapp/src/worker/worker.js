@@ -30,6 +30,7 @@ function post(msg) {
 }
 
 function status(stage, detail, progress, extra = {}) {
+  if (broken) return;
   post({ type: "status", stage, detail, progress, ready: false, error: null, ...extra });
 }
 
@@ -148,7 +149,19 @@ async function boot() {
   // loadPyodide fetches the wasm runtime and the stdlib zip in parallel; once
   // both have arrived, CPython starts and imports its modules from the zip.
   const pending = new Set(["pyodide.asm.wasm", "python_stdlib.zip"]);
+  // Pyodide does not always reject when a runtime file is missing (a failed
+  // wasm compile leaves loadPyodide pending), so a failed download of a file
+  // listed in the build manifest ends the boot at once, loudly.
+  let abortBoot;
+  const aborted = new Promise((_, reject) => { abortBoot = reject; });
   prepareFetchGuard(self, SITE.origin, {
+    onFailed(url, why) {
+      const path = url.pathname.slice(SITE.pathname.length);
+      if (handle || broken) return;  // after boot, a failed fetch is the caller's business
+      broken = `${path} could not be loaded`;
+      abortBoot(new Error(`${path} could not be loaded (${why}): the app's files on this device are ` +
+        "incomplete; open the app once with the network on, or rebuild it (make build)"));
+    },
     onFetched(url) {
       const name = url.pathname.split("/").pop();
       if (!pending.delete(name)) return;
@@ -158,23 +171,23 @@ async function boot() {
     },
   });
   status("runtime", "loading the Python runtime", 0.02);
-  const [manifest, pyodideModule] = await Promise.all([
+  const [manifest, pyodideModule] = await Promise.race([aborted, Promise.all([
     loadManifest(),
     import(new URL("pyodide.mjs", PYODIDE_DIR).href).catch((err) => {
       throw new Error(`the Python runtime (vendor/pyodide/pyodide.mjs) could not be loaded: ${err.message}; ` +
         "rebuild the app (make build)");
     }),
-  ]);
-  const py = await pyodideModule.loadPyodide({
+  ])]);
+  const py = await Promise.race([aborted, pyodideModule.loadPyodide({
     indexURL: PYODIDE_DIR.href,
     lockFileURL: new URL("pyodide-lock.json", PYODIDE_DIR).href,
     packageBaseUrl: PYODIDE_DIR.href,
     stdout: () => {},
     stderr: (line) => console.warn("python:", line),
-  });
+  })]);
   mark("python_started_ms");
   status("core", `installing the tamis core (${INSTALL_MODE})`, 0.7);
-  await installCore(py, manifest);
+  await Promise.race([aborted, installCore(py, manifest)]);
   handle = py.pyimport("tamis.api").handle;
   mark("core_installed_ms");
   status("selftest", "checking the core", 0.9);
