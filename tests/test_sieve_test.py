@@ -89,16 +89,17 @@ def test_c136_mass_balance_on_each_side_of_0_3_percent(diff_g, status):
 
 
 @pytest.mark.parametrize("masses, dry, status", [
-    ((219.08, 4716.07), 4950.0, PASS),   # 14.85 g short of 4950.0 g: exactly 0.3 %
-    ((219.08, 4716.06), 4950.0, FAIL),   # 14.86 g: just over
-    ((733.78, 1708.87), 2450.0, PASS),   # 7.35 g: exactly 0.3 %
-    ((733.78, 1715.78), 2442.65, PASS),  # 6.91 g gained: 0.283 %
+    ((219.08, 4716.07, 0.0), 4950.0, PASS),   # 14.85 g short of 4950.0 g: exactly 0.3 %
+    ((219.08, 4716.06, 0.0), 4950.0, FAIL),   # 14.86 g: just over
+    ((733.78, 1708.87, 0.0), 2450.0, PASS),   # 7.35 g: exactly 0.3 %
+    ((733.78, 1700.0, 15.78), 2442.65, PASS),  # 6.91 g gained (pan included): 0.283 %
+    ((733.78, 1700.0, 16.2), 2442.65, FAIL),   # 7.33 g gained: 0.3001 %
 ])
 def test_exactly_0_3_percent_passes_and_just_over_fails(masses, dry, status):
     # C136: a difference of "more than 0.3 %" fails, so exactly 0.3 % passes. In binary floats
     # 219.08 + 4716.07 - 4950.0 gives 0.3000000000000073 %: the decision is made on the masses as
     # typed (exact decimals), never tipped over by float rounding.
-    t = mass_test({4.75: masses[0], 0.075: masses[1]}, dry)
+    t = mass_test({4.75: masses[0], 0.075: masses[1]}, dry, pan_g=masses[2])
     c = reduce_test(t, "test").checks[0]
     exact = abs(sum(Decimal(repr(m)) for m in masses) - Decimal(repr(dry))) * 1000 <= Decimal(repr(dry)) * 3
     assert (PASS if exact else FAIL) == status
