@@ -2,8 +2,8 @@
 outside each threshold.
 
 Sources (provenance as in docs/criteria.md):
-- NRCS NEH 633-26 (210-vi-NEH, October 1994) Table 26-1 categories, Table 26-2
-  maximum D15F, minimum D15F 4 x d15B / 0.1 mm, Table 26-3 segregation, design
+- NRCS NEH 633-26 (210-vi-NEH, October 1994) base-soil category table, table of
+  maximum D15F, minimum D15F 4 x d15B / 0.1 mm, segregation table, design
   step 8 fines and D100: FROM MEMORY (the manual's tables were not read).
 - USBR DS-13(5)-9 (Nov 2011) and FEMA (Oct 2011): 5 x d15B, FROM MEMORY.
 - Dispersive category-1 limit 6.5 x d85B: READ IN A SECONDARY SOURCE.
@@ -39,14 +39,14 @@ class Stand:
         self.gradation = {}
 
 
-# ---------------- categories (NEH 633-26 1994 Table 26-1, from memory; edges derived)
+# ---------------- categories (NEH 633-26 1994 category table, from memory; edges derived)
 @pytest.mark.parametrize("a,cat", [(85 + EPS, 1), (85.0, 2), (85 - EPS, 2), (40 + EPS, 2), (40.0, 2),
                                    (40 - EPS, 3), (15 + EPS, 3), (15.0, 3), (15 - EPS, 4), (0.0, 4), (100.0, 1)])
 def test_category_edges(a, cat):
     assert nrcs.base_category(a) == cat
 
 
-# ---------------- maximum D15F (NEH 633-26 1994 Table 26-2, from memory)
+# ---------------- maximum D15F (NEH 633-26 1994 maximum-D15F table, from memory)
 @pytest.mark.parametrize("d85b,expected", [
     (0.2 / 9 - 1e-4, 0.2),           # just below the floor: floor governs
     (0.2 / 9, 0.2),                  # at the floor

@@ -2,7 +2,7 @@
 
 Sources (registry ids ``filter.fines``, ``filter.plasticity``,
 ``filter.max_size``, ``filter.segregation``): NRCS NEH 633-26 (October 1994)
-design step 8 and Table 26-3, same values in FEMA 2011 and USBR 2011; from
+design step 8 and the segregation table, same values in FEMA 2011 and USBR 2011; from
 memory. Thresholds in :mod:`tamis.criteria.tables`.
 """
 

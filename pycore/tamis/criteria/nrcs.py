@@ -16,7 +16,7 @@ from .tables import CATEGORY_EDGES_PCT
 
 
 def base_category(a_pct: float) -> int:
-    """Base-soil category 1-4 from A [%] (NEH 633-26 1994 Table 26-1, from memory).
+    """Base-soil category 1-4 from A [%] (NEH 633-26 1994 category table, from memory).
 
     Category 1 if A > 85; 2 if 40 <= A <= 85; 3 if 15 <= A < 40; 4 if A < 15.
     The edges at 40 and 15 are continuous in the D15F limit; only 85 is not.
@@ -43,7 +43,7 @@ def d15f_max_cat1_mm(d85b_mm: float, multiplier: float, floor_mm: float) -> floa
 def d15f_max_cat3_mm(a_pct: float, d85b_mm: float, multiplier: float, floor_mm: float,
                      cat2_from_pct: float = 40.0, cat3_from_pct: float = 15.0) -> float:
     """Category 3: D15F max = ((40 - A)/(40 - 15)) x (4 x d85B - 0.7) + 0.7 [mm];
-    when 4 x d85B < 0.7 mm the limit is 0.7 mm (NEH 633-26 1994 Table 26-2, from memory).
+    when 4 x d85B < 0.7 mm the limit is 0.7 mm (NEH 633-26 1994 maximum-D15F table, from memory).
 
     >>> round(d15f_max_cat3_mm(25.0, 1.0, 4.0, 0.7), 6)
     2.68

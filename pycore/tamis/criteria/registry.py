@@ -92,7 +92,7 @@ ENTRIES: tuple[Entry, ...] = (
        "4.75 mm. Within 2 points of A = 85 % both neighbouring limits are computed and the check warns "
        "unless both pass.",
        "A filter placed against a base soil; base curve reaching 0.075 mm.",
-       NEH_1994, "210-vi-NEH, October 1994", "Table 26-1 (categories), Table 26-2 (D15F max), Step 3 (regrading)",
+       NEH_1994, "210-vi-NEH, October 1994", "base-soil category table, maximum D15F table (table numbers not verified), design steps 3-5",
        "from memory (categories, non-dispersive limits); read in a secondary source (cat 1 and 4 multipliers, "
        "6.5 x d85B dispersive)"),
     _E("filter.retention", "usbr-2011", "Retention: maximum D15 of the filter",
@@ -111,7 +111,7 @@ ENTRIES: tuple[Entry, ...] = (
     _E("filter.permeability", "nrcs-1994", "Permeability: minimum D15 of the filter",
        "D15F >= 4 x d15B of the base before regrading, and not less than 0.1 mm.",
        "A filter placed against a base soil.", NEH_1994, "210-vi-NEH, October 1994",
-       "Table 26-2 note / design step 6", "from memory"),
+       "minimum D15F criterion, design step 6", "from memory"),
     _E("filter.permeability", "usbr-2011", "Permeability: minimum D15 of the filter",
        "D15F >= 5 x d15B of the base before regrading, and not less than 0.1 mm.",
        "A filter placed against a base soil.", USBR_2011, "Phase 4 (Final), November 2011",
@@ -140,7 +140,7 @@ ENTRIES: tuple[Entry, ...] = (
        "D90 at most 20 / 25 / 30 / 40 / 50 / 60 mm for D10 up to 0.5 / 1 / 2 / 5 / 10 / above 10 mm. A D10 on "
        "a row edge takes the stricter row (our choice). When D10 lies below the finest sieve and that sieve "
        "is at most 0.5 mm, the first row applies without D10.", "Every filter sample.", NEH_1994,
-       "210-vi-NEH, October 1994", "Table 26-3 (segregation); same values in FEMA 2011 and USBR 2011",
+       "210-vi-NEH, October 1994", "segregation table (D10 to maximum D90); same values in FEMA 2011 and USBR 2011",
        "from memory"),
     # ---- internal stability ----
     _E("stability.kezdi", "", "Internal stability: Kezdi split test",

@@ -115,15 +115,15 @@ DEFAULT_RULE_SET = "nrcs-1994"
 
 #: Provenance of each number group, carried into the registry and the docs.
 PROVENANCE = _freeze({
-    "categories": "from memory (NEH 633-26 1994 Table 26-1; Sherard & Dunnigan 1989 groups)",
-    "retention_nondispersive": "from memory (NEH 633-26 1994 Table 26-2); cat 1 and cat 4 multipliers "
+    "categories": "from memory (NEH 633-26 1994 category table; Sherard & Dunnigan 1989 groups)",
+    "retention_nondispersive": "from memory (NEH 633-26 1994 maximum-D15F table); cat 1 and cat 4 multipliers "
                                "also read in a secondary summary",
     "retention_dispersive": "read in a secondary summary (cat 1, 6.5 x d85B, 0.2 mm); from memory "
                             "(cat 2, 0.5 mm); edition of first appearance not verified",
     "permeability_nrcs_1994": "from memory (NEH 633-26 1994, 4 x d15B, 0.1 mm)",
     "permeability_2011": "from memory (USBR DS-13(5) 2011 and FEMA 2011, 5 x d15B, 0.1 mm)",
     "material": "from memory (NEH 633-26 1994; FEMA 2011)",
-    "segregation": "from memory (NEH 633-26 1994 Table 26-3; FEMA 2011; USBR 2011)",
+    "segregation": "from memory (NEH 633-26 1994 segregation table; FEMA 2011; USBR 2011)",
     "terzaghi": "from memory (Terzaghi & Peck)",
 })
 
