@@ -127,7 +127,6 @@ def op_zones(req: dict):
         if ret.status == FAIL:
             inter = intermediate_window(out.limits, size_at(coarse["red"].curve, 15.0), used)
         interfaces.append({"base": fine["name"], "filter": coarse["name"], **out.base_info,
-                           "base_regraded_on_4_75": out.base_info.get("base_regraded") is not None,
                            "limits": {k: out.limits[k] for k in ("d15_max_mm", "d15_min_mm", "d85b_mm", "d15b_mm")},
                            "checks": [c.to_dict() for c in checks], "verdict": verdict(checks),
                            "intermediate": inter})
