@@ -254,13 +254,13 @@ def content_key(rec: dict) -> str:
 
 
 def _floats(obj):
-    if isinstance(obj, bool) or obj is None or isinstance(obj, str):
-        return obj
-    if isinstance(obj, int):
+    """``obj`` with every int (not bool) turned into a float, for comparisons only."""
+    t = type(obj)
+    if t is int:
         return float(obj)
-    if isinstance(obj, dict):
+    if t is dict:
         return {k: _floats(v) for k, v in obj.items()}
-    if isinstance(obj, list):
+    if t is list:
         return [_floats(v) for v in obj]
     return obj
 
@@ -758,22 +758,57 @@ def descends(a: dict, b: dict) -> bool:
     return any((h["rev"], h["at"], h["by"]) == mark for h in a["history"])
 
 
-def _history_key(h: dict):
-    return (h["rev"], h["at"], dump_json(_floats(h)))
-
-
-def merge_history(*histories) -> list:
-    """Union of history entries (an entry once), ordered by rev, time, content."""
-    seen = {}
+def merge_history(*histories, memo=None) -> list:
+    """Union of history entries (an entry once, whatever the key order or int/float
+    spelling of its numbers), ordered by rev, time, content."""
+    if histories and _ordered(histories[0]) and all(
+            h is histories[0] or dump_json(h) == dump_json(histories[0]) for h in histories[1:]):
+        return list(histories[0])  # copies of one history: already its own union, in order
+    memo = {} if memo is None else memo
+    best = {}
     for hist in histories:
         for h in hist:
-            seen.setdefault(dump_json(_floats(h)), h)
-    return sorted(seen.values(), key=_history_key)
+            keys = memo.get(id(h))
+            if keys is None:
+                spelled = dump_json(h)
+                keys = memo[id(h)] = (dump_json(_floats(h)), spelled, h)
+            prev = best.get(keys[0])
+            if prev is None or keys[1] < prev[1]:
+                best[keys[0]] = keys
+    return [k[2] for k in sorted(best.values(), key=lambda k: (k[2]["rev"], k[2]["at"], k[0]))]
+
+
+def _ordered(hist: list) -> bool:
+    """Entries strictly increasing by (rev, time), so no two can be the same entry."""
+    return all((a["rev"], a["at"]) < (b["rev"], b["at"]) for a, b in zip(hist, hist[1:]))
 
 
 def _latest(values):
     vals = [v for v in values if v is not None]
     return max(vals) if vals else None
+
+
+def _content_groups(versions: list[dict]) -> dict:
+    """Versions of one id grouped by content: ``{sort key: [versions]}``, each
+    group's first version the one of smallest spelling. The keys and the first
+    versions are the same whatever the order of ``versions``."""
+    buckets = {}
+    for v in versions:
+        buckets.setdefault((v["rev"], v["updated_at"], v["updated_by"], v["deleted"], v["kind"]), []).append(v)
+    groups = {}
+    for pre, vs in buckets.items():
+        if len(vs) == 1:
+            groups[(pre, "")] = vs
+            continue
+        spelled = {}
+        for v in vs:  # identical text is identical content (the usual case: copies of one row)
+            spelled.setdefault(dump_json({k: v[k] for k in CONTENT_KEYS}), []).append(v)
+        canon = {}
+        for text in sorted(spelled):  # other spellings are compared canonically (key order, 12 vs 12.0)
+            canon.setdefault(content_key(spelled[text][0]) if len(spelled) > 1 else "", []).extend(spelled[text])
+        for ck, group in canon.items():
+            groups[(pre, ck)] = group
+    return groups
 
 
 def merge_versions(versions: list[dict]) -> tuple[dict, list[dict]]:
@@ -791,16 +826,16 @@ def merge_versions(versions: list[dict]) -> tuple[dict, list[dict]]:
     -------
     (kept, others) : the record to keep, and the versions that conflict with it.
     """
-    groups = {}
-    for v in versions:
-        groups.setdefault(content_key(v), []).append(v)
+    memo = {}
     merged = {}
-    for key, vs in groups.items():
+    for key, vs in _content_groups(versions).items():
         rep = dict(vs[0])
-        rep["history"] = merge_history(*(v["history"] for v in vs))
+        rep["history"] = merge_history(*(v["history"] for v in vs), memo=memo)
         rep["exported_at"] = _latest(v["exported_at"] for v in vs)
         merged[key] = rep
     keys = sorted(merged)
+    if len(keys) == 1:
+        return merged[keys[0]], []
     below = {k: {j for j in keys if j != k and descends(merged[k], merged[j])} for k in keys}
     heads = [k for k in keys if not any(k in below[j] for j in keys)]
     heads.sort(key=lambda k: (merged[k]["rev"], merged[k]["updated_at"], k), reverse=True)
@@ -812,7 +847,7 @@ def merge_versions(versions: list[dict]) -> tuple[dict, list[dict]]:
                 reach.add(j)
                 todo.append(j)
     kept = dict(merged[top])
-    kept["history"] = merge_history(*(merged[k]["history"] for k in sorted(reach)))
+    kept["history"] = merge_history(*(merged[k]["history"] for k in sorted(reach)), memo=memo)
     return kept, [merged[k] for k in heads[1:]]
 
 

@@ -1,0 +1,117 @@
+"""Merge N invented records spread over F CSV files, on one core (printed, never asserted).
+
+    python bench/bench_merge.py [--n 100000] [--files 50] [--calc-n 2000]
+
+Each record is in one to three files; a fifth of the copies are older
+revisions of the same record, so the merge has real work to do. The files are
+written without calc columns (a reader ignores them anyway). Timed phases:
+
+1. read: decode, parse and validate every file (tamis.records.read_csv);
+2. merge: by id and revision (tamis.records.merge_all);
+3. write: the merged CSV without calc columns (tamis.records.write_csv);
+4. calc: recomputing the calc columns (evaluate/gradation through
+   tamis.api.handle) for ``--calc-n`` realistic tests derived from the demo
+   project, printed as a rate; ``python -m tamis merge`` does this for every
+   record unless ``--no-calc`` is given.
+"""
+
+from __future__ import annotations
+
+import argparse
+import copy
+import pathlib
+import random
+import sys
+import time
+
+HERE = pathlib.Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE.parent / "pycore"))
+sys.path.insert(0, str(HERE.parent / "tests"))
+
+from tamis import demo, records as R  # noqa: E402
+from test_records_gen import make_records  # noqa: E402
+
+
+def older(rec: dict) -> dict:
+    """The previous revision of ``rec`` as another device still holds it."""
+    old = copy.deepcopy(rec)
+    old["rev"] = rec["rev"] - 1
+    old["history"] = [h for h in rec["history"] if h["rev"] <= old["rev"]]
+    head = old["history"][-1]
+    old["updated_at"], old["updated_by"] = head["at"], head["by"]
+    return old
+
+
+def build_files(n: int, n_files: int, seed: int = 5) -> list[str]:
+    rng = random.Random(seed)
+    recs = [R.check_record(r) for r in make_records(n, seed=seed)]
+    files: list[list[dict]] = [[] for _ in range(n_files)]
+    for r in recs:
+        copies = rng.choice((1, 1, 2, 3))
+        for i, f in enumerate(rng.sample(range(n_files), copies)):
+            v = r
+            if i > 0 and r["rev"] > 1 and len(r["history"]) == r["rev"] and rng.random() < 0.6:
+                v = older(r)
+            files[f].append(v)
+    return [R.write_csv(f) for f in files]
+
+
+def realistic_tests(n: int, seed: int = 9) -> list[dict]:
+    """Demo deliveries with their masses varied by up to 2 %, plus the demo bands and bases."""
+    rng = random.Random(seed)
+    pool = [R.check_record(r) for r in demo.load_records()]
+    refs = [r for r in pool if r["kind"] != "test"]
+    tests = [r for r in pool if r["kind"] == "test"]
+    out = []
+    for i in range(n):
+        t = copy.deepcopy(rng.choice(tests))
+        t["record_id"] = f"{i:08x}-0000-4000-8000-{rng.getrandbits(48):012x}"
+        for s in (t["test"] or {}).get("sieves", []):
+            s["retained_g"] = s["retained_g"] * (1 + rng.uniform(-0.02, 0.02))
+        out.append(t)
+    return out + refs
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--n", type=int, default=100_000, help="records (default 100000)")
+    ap.add_argument("--files", type=int, default=50, help="files (default 50)")
+    ap.add_argument("--calc-n", type=int, default=2000, help="tests whose calc columns are recomputed")
+    args = ap.parse_args(argv)
+
+    t0 = time.perf_counter()
+    texts = build_files(args.n, args.files)
+    rows = sum(t.count("\r\n") - 1 for t in texts)  # an upper bound: quoted line breaks count too
+    mb = sum(len(t.encode("utf-8")) for t in texts) / 1e6
+    print(f"setup: {args.files} files, {mb:.1f} MB, built in {time.perf_counter() - t0:.1f} s")
+
+    t0 = time.perf_counter()
+    lists = [R.read_csv(t, f"files[{i}]")[0] for i, t in enumerate(texts)]
+    t_read = time.perf_counter() - t0
+    n_rows = sum(len(x) for x in lists)
+    t0 = time.perf_counter()
+    merged, conflicts = R.merge_all(lists)
+    t_merge = time.perf_counter() - t0
+    t0 = time.perf_counter()
+    out = R.write_csv(merged)
+    t_write = time.perf_counter() - t0
+    total = t_read + t_merge + t_write
+    print(f"read+validate: {t_read:.2f} s ({n_rows / t_read:,.0f} rows/s, {n_rows} rows; line count {rows})")
+    print(f"merge: {t_merge:.2f} s ({len(merged)} records, {len(conflicts)} conflicts)")
+    print(f"write: {t_write:.2f} s ({len(out.encode('utf-8')) / 1e6:.1f} MB)")
+    print(f"merge of {len(merged)} records from {args.files} files without calc columns: {total:.2f} s, "
+          f"{len(merged) / total:,.0f} records/s")
+
+    if args.calc_n > 0:
+        sample = realistic_tests(args.calc_n)
+        t0 = time.perf_counter()
+        sums = R.summaries_for(sample)
+        t_calc = time.perf_counter() - t0
+        verdicts = sum(1 for s in sums.values() if s.get("calc_verdict"))
+        print(f"calc columns: {len(sums)} records in {t_calc:.2f} s ({len(sums) / t_calc:,.0f} records/s, "
+              f"{verdicts} verdicts); for {len(merged)} records about {len(merged) * t_calc / len(sums):.0f} s")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
