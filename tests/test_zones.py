@@ -144,3 +144,13 @@ def test_findings_name_their_zone_and_are_not_repeated():
     assert len(keys) == len(set(keys))
     crit = [f for f in fs if f["code"] in ("wan_fell_range", "hazen_range")]
     assert crit and all(f["field"].startswith("zones[") for f in crit)
+
+
+def test_gravelly_filter_zone_base_is_not_regraded_but_the_regraded_limit_is_reported():
+    r = _call(REQUEST)
+    notes = [f for f in r["findings"] if f["code"] == "zone_base_not_regraded"]
+    assert len(notes) == 1 and notes[0]["field"] == "zones[2].test"     # the drain gravel under the shell
+    forced = _call({**REQUEST, "rules": {"criteria": "nrcs-1994", "regrade": True}})["result"]
+    outer = forced["interfaces"][2]
+    assert outer["base_regraded"] is not None
+    assert f"{outer['limits']['d15_max_mm']:.4g} mm" in notes[0]["message"]

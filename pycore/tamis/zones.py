@@ -60,6 +60,26 @@ def _at(f: Finding, path: str) -> Finding:
     return replace(f, field=path) if f.field in ("", "base") else f
 
 
+def _not_regraded_note(fine: dict, coarse: dict, rules, out, path: str) -> list[Finding]:
+    """A note when a gravelly filter zone was used as a base without regrading,
+    with the maximum D15F that regrading on 4.75 mm would give."""
+    p_on = passing_at(fine["red"].curve, 4.75)
+    if p_on is None or p_on >= 100.0:
+        return []
+    alt = run_filter_checks(coarse["red"], fine["red"], {**(rules or {}), "regrade": True}, "rules")
+    lim, alt_lim = out.limits.get("d15_max_mm"), alt.limits.get("d15_max_mm")
+    if lim is None or alt_lim is None:
+        return []
+    d15 = size_at(coarse["red"].curve, 15.0)
+    verdict_alt = "" if d15 is None else (" (" + coarse["name"] + " would " + ("pass" if d15 <= alt_lim else "fail")
+                                          + " it)")
+    return [Finding("note", "zone_base_not_regraded",
+                    f"{fine['name']} was taken as a category-4 base on its own curve (maximum D15F "
+                    f"{lim:.4g} mm). Regrading it on 4.75 mm, as the NRCS procedure does for gravelly base soils, "
+                    f"would give {alt_lim:.4g} mm{verdict_alt}; set rules.regrade to true to apply that reading.",
+                    path, "NEH 633-26 (1994) step 3 regrading; FEMA 2011 step 2 exception (read in part)")]
+
+
 def intermediate_window(finer_limits: dict, coarser_d15_mm: float | None, rules: dict) -> dict:
     """The D15 window [mm] (and minimum D85) an intermediate zone must meet.
 
@@ -118,6 +138,8 @@ def op_zones(req: dict):
             # regraded (regrading a clean gravel on 4.75 mm would keep only its finest few percent)
             pair_rules = {**(rules or {}), "regrade": False}
         out = run_filter_checks(coarse["red"], fine["red"], pair_rules, "rules")
+        if pair_rules is not rules:
+            findings += _not_regraded_note(fine, coarse, rules, out, join(join("zones", i), "test"))
         checks = [c for c in out.checks if c.id in INTERFACE_IDS]
         # the filter's own findings were reported with its zone; keep those about the base
         findings += [_at(f, join(join("zones", i), "test")) for f in out.findings if f.field == "base"]
