@@ -83,6 +83,16 @@ def test_merge_is_deterministic_and_matches_the_op(tmp_path):
     assert p.returncode == 0 and p.stdout == b"\xef\xbb\xbf" + ab
 
 
+def test_merge_without_calc_columns_holds_the_same_records(tmp_path):
+    recs, a, b = demo_files(tmp_path)
+    assert run("merge", a, b, "-o", tmp_path / "calc.csv", cwd=tmp_path).returncode == 0
+    assert run("merge", a, b, "-o", tmp_path / "raw.csv", "--no-calc", cwd=tmp_path).returncode == 0
+    with_calc, rows = R.read_csv((tmp_path / "calc.csv").read_text(encoding="utf-8"))
+    without, rows2 = R.read_csv((tmp_path / "raw.csv").read_text(encoding="utf-8"))
+    assert with_calc == without
+    assert any(r["calc"] for r in rows) and not any(r["calc"] for r in rows2)
+
+
 def test_merge_with_conflicts_exits_1_and_writes_both_versions(tmp_path):
     f1 = write(tmp_path / "1.csv", csv_of(V3))
     f2 = write(tmp_path / "2.csv", csv_of(V3_FORK))

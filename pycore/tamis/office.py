@@ -35,6 +35,9 @@ def add_arguments(name: str, parser) -> None:
         parser.add_argument("--conflicts", metavar="FILE",
                             help="write the conflicting versions, in full, to this JSON file")
         parser.add_argument("--bom", action="store_true", help="start the output with a UTF-8 byte order mark")
+        parser.add_argument("--no-calc", action="store_true",
+                            help="leave the calc_* columns blank (faster for very large merges; "
+                                 "report recomputes them anyway)")
     elif name == "report":
         parser.add_argument("file", help="CSV exchange file")
         parser.add_argument("--json", action="store_true", help="print JSON for machines instead of a table")
@@ -91,7 +94,7 @@ def _merge(args) -> int:
             print(f"error: {path}: {err.strerror}", file=sys.stderr)
             return EXIT_BAD_INPUT
     merged, conflicts = R.merge_all(lists)
-    text = R.export_csv(merged, bom=args.bom)
+    text = R.write_csv(merged, bom=args.bom) if args.no_calc else R.export_csv(merged, bom=args.bom)
     if args.output == "-":
         sys.stdout.buffer.write(text.encode("utf-8"))
         sys.stdout.buffer.flush()
