@@ -60,7 +60,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
     form);
   form.append(
     h("section", { class: "card" }, h("h2", { text: "Checked against" }), h("div", { class: "grid2" }, bandF.wrap, baseF.wrap, rulesF.wrap),
-      bases.length === 0 ? h("p", { class: "hint", text: "No base soil stored yet: add one under References to get the filter checks." }) : null),
+      bases.length === 0 ? h("p", { class: "hint", text: "No base soil stored yet: add one under Bands & bases to get the filter checks." }) : null),
     h("details", { class: "card" },
       h("summary", { text: `Sample details: ${rec.meta.sample_id} (project, place, date…)` }), metaBox),
     h("section", { class: "card" }, h("h2", { text: "Sieve masses" }), testBox),

@@ -31,7 +31,7 @@ export async function quickScreen(app, view) {
     h("h1", { text: "Spot check" }),
     h("p", { class: "hint", text: "Retention and permeability against a stored base soil, from percent passing at a few sizes (a delivery ticket, a supplier's sheet). Typing only the base soil's D15 and D85 is not offered: the core needs the base soil's curve." }),
     h("section", { class: "card" }, h("div", { class: "grid2" }, field("Base soil", baseSel).wrap, field("Filter criteria", rulesSel).wrap),
-      bases.length === 0 ? h("p", {}, "Add a base soil under ", h("a", { href: "#/base", text: "References" }), " first.") : null),
+      bases.length === 0 ? h("p", {}, h("a", { href: "#/base", text: "Add a base soil" }), " first.") : null),
     h("section", { class: "card" }, h("h2", { text: "Delivered material, percent passing" }), editorBox),
     verdictBox, dBox, chartBox,
     h("div", { class: "actions" }, h("button", { type: "button", class: "btn primary", text: "Save as a test record", onclick: saveAs })),

@@ -12,7 +12,7 @@ export async function refsScreen(app, view) {
   const [bands, bases] = await Promise.all([listRecords({ kind: "band" }), listRecords({ kind: "base" })]);
   const presetBox = h("div");
   fill(view, h("div", { class: "screen" },
-    h("h1", { text: "References" }),
+    h("h1", { text: "Bands and base soils" }),
     h("p", { class: "hint", text: "Bands and base soils are stored as records: tests point to them, and they travel in the CSV exchange like tests." }),
     h("section", { class: "card" }, h("h2", { text: "Specification bands" }),
       h("ul", { class: "record-list", "aria-label": "Bands" }, bands.map((b) => h("li", { class: "record-item" },
