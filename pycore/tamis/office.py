@@ -68,14 +68,22 @@ def run(name: str, args) -> int:
     return {"merge": _merge, "report": _report, "check": _check}[name](args)
 
 
-def _check(args) -> int:
+def _load(path: str):
+    """``(records, rows)`` of a file, or the exit status after printing why it cannot be read."""
     try:
-        recs, rows = read_file(args.file)
+        return read_file(path)
     except InputError as err:
-        return _fail(args.file, err)
+        return _fail(path, err)
     except OSError as err:
-        print(f"error: {args.file}: {err.strerror}", file=sys.stderr)
+        print(f"error: {path}: {err.strerror}", file=sys.stderr)
         return EXIT_BAD_INPUT
+
+
+def _check(args) -> int:
+    loaded = _load(args.file)
+    if isinstance(loaded, int):
+        return loaded
+    recs, rows = loaded
     counts = {k: sum(1 for r in recs if r["kind"] == k) for k in R.KINDS}
     deleted = sum(1 for r in recs if r["deleted"])
     print(f"{args.file}: valid tamis CSV version {R.CSV_VERSION}, {len(recs)} records "
@@ -86,13 +94,10 @@ def _check(args) -> int:
 def _merge(args) -> int:
     lists = []
     for path in args.files:
-        try:
-            lists.append(read_file(path)[0])
-        except InputError as err:
-            return _fail(path, err)
-        except OSError as err:
-            print(f"error: {path}: {err.strerror}", file=sys.stderr)
-            return EXIT_BAD_INPUT
+        loaded = _load(path)
+        if isinstance(loaded, int):
+            return loaded
+        lists.append(loaded[0])
     merged, conflicts = R.merge_all(lists)
     text = R.write_csv(merged, bom=args.bom) if args.no_calc else R.export_csv(merged, bom=args.bom)
     if args.output == "-":
@@ -171,13 +176,10 @@ def summarise(entries: list[dict]) -> dict:
 
 
 def _report(args) -> int:
-    try:
-        recs, rows = read_file(args.file)
-    except InputError as err:
-        return _fail(args.file, err)
-    except OSError as err:
-        print(f"error: {args.file}: {err.strerror}", file=sys.stderr)
-        return EXIT_BAD_INPUT
+    loaded = _load(args.file)
+    if isinstance(loaded, int):
+        return loaded
+    recs, rows = loaded
     entries = report_rows(recs, rows)
     summary = summarise(entries)
     if args.json:

@@ -272,39 +272,36 @@ def row_order(rec: dict):
 
 # ---------------------------------------------------------------- record -> cells
 
-def _pairs_fit(v, value_key: str) -> bool:
-    """A non-empty list of ``{"opening_mm", value_key}`` with openings strictly falling."""
+def _falling_fit(v, entry_fits) -> bool:
+    """A non-empty list of dicts that ``entry_fits`` accepts, openings strictly falling."""
     if not isinstance(v, list) or not v:
         return False
     last = math.inf
     for e in v:
-        if not isinstance(e, dict) or len(e) != 2 or not _is_num(e.get("opening_mm")) \
-                or not _is_num(e.get(value_key)):
+        if not isinstance(e, dict) or not _is_num(e.get("opening_mm")) or not entry_fits(e):
             return False
         op = float(e["opening_mm"])
         if not (0 < op < last):
             return False
         last = op
     return True
+
+
+def _pairs_fit(v, value_key: str) -> bool:
+    """``[{"opening_mm", value_key}, ...]`` of numbers, coarsest first."""
+    return _falling_fit(v, lambda e: len(e) == 2 and _is_num(e.get(value_key)))
+
+
+def _limit_fits(e: dict) -> bool:
+    if set(e) != {"opening_mm", "min_pct", "max_pct"}:
+        return False
+    lo, hi = e["min_pct"], e["max_pct"]
+    return (lo is not None or hi is not None) and (lo is None or _is_num(lo)) and (hi is None or _is_num(hi))
 
 
 def _limits_fit(v) -> bool:
-    if not isinstance(v, list) or not v:
-        return False
-    last = math.inf
-    for e in v:
-        if not isinstance(e, dict) or set(e) != {"opening_mm", "min_pct", "max_pct"}:
-            return False
-        lo, hi = e["min_pct"], e["max_pct"]
-        if not _is_num(e["opening_mm"]) or (lo is None and hi is None):
-            return False
-        if not (lo is None or _is_num(lo)) or not (hi is None or _is_num(hi)):
-            return False
-        op = float(e["opening_mm"])
-        if not (0 < op < last):
-            return False
-        last = op
-    return True
+    """``[{"opening_mm", "min_pct", "max_pct"}, ...]``, a limit a number or null, coarsest first."""
+    return _falling_fit(v, _limit_fits)
 
 
 def _plasticity_fit(v) -> bool:
