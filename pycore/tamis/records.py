@@ -547,14 +547,23 @@ def _meta_from(cells: dict, where: str) -> dict:
             meta[col] = _parse_num(cell, f)
         elif col == "rules_json":
             meta["rules"] = _parse_json(cell, f, dict)
-        elif col == "meta_extra_json":
-            for k, v in _parse_json(cell, f, dict).items():
-                if k in meta:
-                    raise cell_error("duplicate_field", f, f"repeats meta.{k}, which has its own column.")
-                meta[k] = v
-        else:
+        elif col != "meta_extra_json":
             meta[col] = unescape_text(cell)
+    _add_extra(meta, cells, "meta_extra_json", "meta", where)
     return meta
+
+
+def _add_extra(obj: dict, cells: dict, col: str, group: str, where: str) -> bool:
+    """Add the keys of the JSON object in cell ``col`` to ``obj``; False when the cell is blank."""
+    cell = cells.get(col)
+    if not cell:
+        return False
+    f = f"{where}.{col}"
+    for k, v in _parse_json(cell, f, dict).items():
+        if k in obj:
+            raise cell_error("duplicate_field", f, f"repeats {group}.{k}, which has its own column.")
+        obj[k] = v
+    return True
 
 
 def _test_from(cells: dict, fams: dict, where: str):
@@ -577,12 +586,7 @@ def _test_from(cells: dict, fams: dict, where: str):
         test["plasticity"] = plast
     if cells.get("dispersive"):
         test["dispersive"] = _parse_bool(cells["dispersive"], f"{where}.dispersive")
-    if cells.get("test_extra_json"):
-        f = f"{where}.test_extra_json"
-        for k, v in _parse_json(cells["test_extra_json"], f, dict).items():
-            if k in test:
-                raise cell_error("duplicate_field", f, f"repeats test.{k}, which has its own columns.")
-            test[k] = v
+    if _add_extra(test, cells, "test_extra_json", "test", where):
         return test
     return test or None
 
@@ -599,12 +603,7 @@ def _band_from(cells: dict, fams: dict, where: str):
                     _parse_num(cells[col], f"{where}.{col}")
     if lims:
         band["limits"] = [lims[op] for op in sorted(lims, reverse=True)]
-    if cells.get("band_extra_json"):
-        f = f"{where}.band_extra_json"
-        for k, v in _parse_json(cells["band_extra_json"], f, dict).items():
-            if k in band:
-                raise cell_error("duplicate_field", f, f"repeats band.{k}, which has its own columns.")
-            band[k] = v
+    if _add_extra(band, cells, "band_extra_json", "band", where):
         return band
     return band or None
 
