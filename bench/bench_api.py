@@ -7,7 +7,8 @@ Each invented test has masses retained on one fixed filter-sand stack
 
 1. one JSON request string at a time through ``tamis.api.handle`` (the code
    the web app and the CLI run), timed on the handle calls alone;
-2. all at once with numpy: cumulative sums, percent passing on the dry mass,
+2. all at once with numpy: cumulative sums (binary floats, where tamis sums the
+   masses as exact decimals), percent passing on the dry mass,
    and log-linear D-values (first bracketing pair from coarse to fine, flat
    segments skipped, never extrapolated), as an independent implementation.
 
@@ -123,7 +124,10 @@ def main(argv=None) -> int:
         for x in D_PCTS:
             a, b = g["d_mm"][f"D{x}"], dvals[x][i]
             if a is None or math.isnan(b):
-                null_mismatch += (a is None) != bool(math.isnan(b))
+                # numpy sums binary floats, tamis exact decimals: at a point passing exactly x % the two
+                # may fall either side of the measured range; count only mismatches away from that edge.
+                edge = any(abs(pt["passing_pct"] - x) <= 1e-9 for pt in g["points"])
+                null_mismatch += ((a is None) != bool(math.isnan(b))) and not edge
                 continue
             worst_d = max(worst_d, abs(a - b) / b)
     rate_api, rate_np = n / t_api, n / t_np

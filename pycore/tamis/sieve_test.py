@@ -28,9 +28,8 @@ Lab QA checks (``tamis.findings.Check``): ``qa.mass_balance``,
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass
-from decimal import Decimal
+from decimal import Context, Decimal
 
 from .curve import GRAVEL_SAND_MM, SAND_FINES_MM, Curve, make_curve, same_size
 from .errors import InputError, boolean, join, number, require_list, require_mapping, text
@@ -202,23 +201,43 @@ def _entries(test: dict, path: str) -> list:
     return out
 
 
-def _retained_masses(entries: list, cumulative: bool) -> tuple[list[float], list[float]]:
-    """Mass retained on each sieve and cumulative mass retained down to it [g],
-    coarsest first, from either entry form. Cumulative sums use ``math.fsum``
-    so that masses that add up to the dry mass on paper do so in floats too."""
+def _dec(x: float) -> Decimal:
+    """The decimal number a float was typed as (its shortest repr), exactly."""
+    return Decimal(repr(float(x)))
+
+
+#: Decimal context for the bookkeeping: 40 digits hold any sum or ratio of masses
+#: typed with up to 17 significant digits, so the sums are exact and each ratio
+#: is rounded once, when it becomes a float. Never modified.
+_CTX = Context(prec=40)
+
+
+def _pct(part: Decimal, whole: Decimal) -> float:
+    """100 * part / whole as the float nearest the exact decimal ratio [%]."""
+    return float(_CTX.divide(_CTX.multiply(part, Decimal(100)), whole))
+
+
+def _retained_masses(entries: list, cumulative: bool) -> tuple[list[float], list[Decimal]]:
+    """Mass retained on each sieve [g] and cumulative mass retained down to it
+    (exact decimals of the masses as typed), coarsest first, from either entry form."""
     if not cumulative:
         retained = [_mass(s, "retained_g", ip) for _, s, ip, _ in entries]
-        return retained, [math.fsum(retained[:k + 1]) for k in range(len(retained))]
-    retained, cums, prev, prev_path = [], [], 0.0, None
+        cums, acc = [], Decimal(0)
+        for r in retained:
+            acc = _CTX.add(acc, _dec(r))
+            cums.append(acc)
+        return retained, cums
+    retained, cums, prev, prev_path = [], [], Decimal(0), None
     for _, s, ip, _ in entries:
         c = _mass(s, "cumulative_retained_g", ip)
-        if c < prev:
+        dc = _dec(c)
+        if dc < prev:
             p = join(ip, "cumulative_retained_g")
-            raise InputError("cumulative_decreases", f"{p} = {c:g} g is less than {prev:g} g on the coarser "
+            raise InputError("cumulative_decreases", f"{p} = {c:g} g is less than {float(prev):g} g on the coarser "
                              f"sieve {prev_path}; cumulative mass retained cannot fall as sizes fall.", p)
-        retained.append(c - prev)
-        cums.append(c)
-        prev, prev_path = c, ip
+        retained.append(float(_CTX.subtract(dc, prev)))
+        cums.append(dc)
+        prev, prev_path = dc, ip
     return retained, cums
 
 
@@ -238,24 +257,27 @@ def parse_masses(test: dict, path: str) -> SieveTest:
         findings.append(Finding("note", "pan_missing", "No pan mass given; taken as 0 g.", join(path, "pan_g")))
     pan = _mass(test, "pan_g", path, required=False, default=0.0)
     on_sieves = dry if washed_mass is None else washed_mass
-    rows, cum = [], 0.0
+    ddry = _dec(dry)
+    rows = []
     for (d, s, ip, i), r, cum in zip(entries, retained, cums):
-        if cum > dry * (1.0 + FLOAT_NOISE):
+        if cum > ddry:
             key = "cumulative_retained_g" if entry == "cumulative" else "retained_g"
-            raise InputError("retained_exceeds_mass", f"{join(ip, key)}: the mass retained down to this sieve, "
-                             f"{cum:g} g, is more than the dry mass {dry:g} g; check the masses.", join(ip, key))
-        # min() absorbs only float noise (at most FLOAT_NOISE relative); larger excesses were refused above.
-        cum_pct = min(cum / dry, 1.0) * 100.0
-        rows.append(Row(d, label_for(d), r, r / dry * 100.0, cum_pct, 100.0 - cum_pct, i))
+            if float(cum) > dry * (1.0 + FLOAT_NOISE):
+                raise InputError("retained_exceeds_mass", f"{join(ip, key)}: the mass retained down to this "
+                                 f"sieve, {float(cum):g} g, is more than the dry mass {dry:g} g; check the masses.",
+                                 join(ip, key))
+            cum = ddry  # only float noise of a dry mass computed elsewhere (at most FLOAT_NOISE relative)
+        rows.append(Row(d, label_for(d), r, _pct(_dec(r), ddry), _pct(cum, ddry), _pct(ddry - cum, ddry), i))
     curve = Curve(tuple((row.opening_mm, row.passing_pct) for row in rows))
-    loss = on_sieves - cum - pan
-    masses = Masses(dry, washed_mass is not None, washed_mass, dry - on_sieves, pan, cum, on_sieves, loss,
-                    loss / dry * 100.0, moisture)
+    total = cums[-1]
+    loss = _CTX.subtract(_CTX.subtract(_dec(on_sieves), total), _dec(pan))
+    masses = Masses(dry, washed_mass is not None, washed_mass, float(_CTX.subtract(ddry, _dec(on_sieves))), pan,
+                    float(total), on_sieves, float(loss), _pct(loss, ddry), moisture)
+    diff = abs(_CTX.add(total, _dec(pan)) - _dec(on_sieves))
     frame = frame_of(test, path)
     portions = boolean(test, "sieved_in_portions", path, default=False)
-    on_sieves_sum = cums[-1] if entry == "cumulative" else retained
-    within = balance_within_decimal(on_sieves_sum, pan, on_sieves, dry)
-    checks = (mass_balance_check(masses, within), sieve_overload_check(rows, frame, portions),
+    checks = (mass_balance_check(masses, _pct(diff, ddry), diff * 1000 <= ddry * 3),
+              sieve_overload_check(rows, frame, portions),
               specimen_mass_check(rows, dry))
     if washed_mass is None and any(same_size(row.opening_mm, SAND_FINES_MM) for row in rows):
         findings.append(Finding("warning", "not_washed",
@@ -300,27 +322,16 @@ def parse_test(test, path: str = "test") -> SieveTest:
     return parse_masses(test, path)
 
 
-def _dec(x: float) -> Decimal:
-    """The decimal number a float was typed as (its shortest repr), exactly."""
-    return Decimal(repr(float(x)))
-
-
-def balance_within_decimal(retained, pan_g: float, on_sieves_g: float, dry_mass_g: float) -> bool:
-    """True when |sum retained + pan - on sieves| <= 0.3 % of the dry mass, decided
-    in exact decimal arithmetic on the masses as entered (``retained`` is a list
-    of masses, or one cumulative total), so that a difference of exactly 0.3 %
-    is not pushed over the limit by binary rounding."""
-    total = _dec(retained) if isinstance(retained, (int, float)) else sum((_dec(r) for r in retained), Decimal(0))
-    diff = abs(total + _dec(pan_g) - _dec(on_sieves_g))
-    return diff * 1000 <= _dec(dry_mass_g) * 3
-
-
-def mass_balance_check(m: Masses, within: bool | None = None) -> Check:
+def mass_balance_check(m: Masses, diff_pct: float | None = None, within: bool | None = None) -> Check:
     """``qa.mass_balance``: |sum retained + pan - mass put on the sieves| <= 0.3 %
-    of the original dry mass (ASTM C136). Compared unrounded; ``within`` is the
-    exact decimal decision of :func:`balance_within_decimal` when the caller has
-    the masses as entered (otherwise the float comparison decides)."""
-    diff_pct = abs(m.retained_sum_g + m.pan_g - m.on_sieves_g) / m.dry_mass_g * 100.0
+    of the original dry mass (ASTM C136), compared unrounded.
+
+    :func:`parse_masses` passes ``diff_pct`` and ``within`` computed in exact
+    decimals of the masses as typed, so that exactly 0.3 % passes (C136 fails
+    "more than 0.3 %") whatever the binary rounding; without them the float
+    values of ``m`` decide."""
+    if diff_pct is None:
+        diff_pct = abs(m.retained_sum_g + m.pan_g - m.on_sieves_g) / m.dry_mass_g * 100.0
     ok = compare(diff_pct, "<=", MASS_BALANCE_LIMIT_PCT) if within is None else within
     what = "dry mass after washing" if m.washed else "dry mass"
     msg = (f"Sieves and pan hold {m.retained_sum_g + m.pan_g:.1f} g against {m.on_sieves_g:.1f} g {what}: "

@@ -77,9 +77,15 @@ def _mm_label(opening_mm: float) -> str:
     return f"{opening_mm:g} mm"
 
 
+_E11_EXACT: dict[float, str] = dict(ASTM_E11)
+
+
 def label_for(opening_mm: float) -> str:
     """Display label of a sieve: the ASTM E11 designation where one exists
     (``0.425`` -> ``"No. 40"``), else the opening itself (``"4 mm"``, ``"63 um"``)."""
+    exact = _E11_EXACT.get(opening_mm)
+    if exact is not None:
+        return exact
     for d, name in ASTM_E11:
         if same_size(d, opening_mm):
             return name
