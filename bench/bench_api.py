@@ -1,6 +1,6 @@
 """Benchmark: invented sieve tests through tamis.api.handle, beside numpy.
 
-    python bench/bench_api.py [--n 100000] [--op gradation|evaluate] [--seed 1]
+    python bench/bench_api.py [--n 100000] [--op gradation|evaluate] [--seed 1] [--max-seconds 100]
 
 Each invented test has masses retained on one fixed filter-sand stack
 (3/8 in to No. 200), a pan and a wash loss. The same tests are reduced twice:
