@@ -258,3 +258,15 @@ def test_no_percentage_is_ever_negative_or_nan():
     red = reduce_test(t, "test")
     assert red.table[-1]["passing_pct"] == 0.0
     assert all(math.isfinite(r["passing_pct"]) and r["passing_pct"] >= 0 for r in red.table)
+
+
+def test_percentages_are_the_exact_decimal_ratios_rounded_once():
+    # 55.8 g of 1500.0 g is exactly 3.72 %; 150.0 g of 1000.0 g leaves exactly 10 % passing, so the
+    # finest sieve is D10 (no binary-rounding drift pushes 10 % outside the measured range).
+    red = reduce_test(EXAMPLE_29, "test")
+    assert red.table[-1]["retained_pct"] == 3.72 and red.table[-1]["passing_pct"] == 4.44
+    assert red.mass["sieving_loss_g"] == 1.5 and red.mass["sieving_loss_pct"] == 0.1
+    t = mass_test({4.75: 0.0, 0.6: 350.1, 0.3: 399.9, 0.075: 150.0}, 1000.0, pan_g=100.0)
+    red = reduce_test(t, "test")
+    assert red.table[-1]["passing_pct"] == 10.0
+    assert red.gradation["d_mm"]["D10"] == 0.075
