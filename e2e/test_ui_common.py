@@ -129,3 +129,16 @@ def test_enter_moves_to_the_next_mass(page, site):
     page.focus("input[data-field='sample.sieves[2].retained_g']")
     page.keyboard.press("Enter")
     assert page.evaluate("() => document.activeElement.dataset.field") == "sample.sieves[3].retained_g"
+
+
+def test_typed_masses_survive_a_reload_before_saving(page, site):
+    """The form is kept on the device as it is typed (an app update reloads the page)."""
+    open_app(page, site)
+    enter_sample(page)
+    page.wait_for_timeout(300)
+    page.reload()
+    page.wait_for_selector("body[data-core-ready]")
+    wait_screen(page)
+    values = [page.input_value(f"input[data-field='sample.sieves[{i}].retained_g']") for i in range(len(SAMPLE_TYPED))]
+    assert values == [m.replace(",", ".") for _, m in SAMPLE_TYPED]  # restored with a point as the mark
+    assert page.get_attribute(".verdict-bar", "data-verdict") in ("accept", "reject", "review")

@@ -7,7 +7,7 @@ Invented data (see ``test_ui_common``).
 
 from __future__ import annotations
 
-from test_ui_common import (add_base_soil, base_test, cpython, enter_sample, open_app, sample_test,
+from test_ui_common import (add_base_soil, base_test, cpython, enter_sample, go, open_app, sample_test, settle,
                             SAMPLE_TYPED)
 
 
@@ -78,3 +78,37 @@ def test_core_error_is_shown_next_to_its_field(page, site):
     assert marked.get_attribute("aria-invalid") == "true"
     assert resp["error"]["message"] in page.text_content(".core-field-error")
     assert page.get_attribute(".verdict-bar", "data-verdict") == "none"
+
+
+#: An invented delivery ticket: percent passing at a few sizes.
+SPOT = [(9.5, "100"), (4.75, "97,5"), (1.18, "60"), (0.3, "16"), (0.075, "2,5")]
+
+
+def test_spot_check_gives_cpython_verdict_and_saves_as_a_record(page, site):
+    open_app(page, site)
+    add_base_soil(page, "B-9")
+    go(page, "#/quick")
+    page.get_by_label("Base soil").select_option(label="B-9 · silty sand core")
+    for i, (d, p) in enumerate(SPOT):
+        if i >= 3:
+            page.get_by_role("button", name="Add a size").click()
+        page.fill(f"input[data-field='sample.passing[{i}].opening_mm']", str(d))
+        page.fill(f"input[data-field='sample.passing[{i}].passing_pct']", p)
+    settle(page)
+    sample = {"passing": [{"opening_mm": d, "passing_pct": float(p.replace(",", "."))} for d, p in SPOT]}
+    expected = cpython("evaluate", sample=sample, base=base_test(), rules={"criteria": "nrcs-1994"})["result"]
+    assert page.get_attribute(".verdict-card .verdict", "data-verdict") == expected["verdict"]
+    shown = dict(page.eval_on_selector_all(".verdict-card li.check", "els => els.map(e => [e.dataset.check, e.dataset.status])"))
+    for cid in ("filter.retention", "filter.permeability"):
+        assert shown[cid] == next(c["status"] for c in expected["checks"] if c["id"] == cid)
+    assert expected["notice"] in page.text_content(".verdict-card")
+
+    page.get_by_role("button", name="Save as a test record").click()
+    page.wait_for_selector("#view[data-screen='entry']")
+    settle(page)
+    assert page.get_attribute(".verdict-bar", "data-verdict") == expected["verdict"]
+    page.get_by_role("button", name="Save test").click()
+    page.wait_for_selector("#view[data-screen='record']")
+    rid = page.get_attribute(".detail", "data-id")
+    rec = page.evaluate("async (id) => (await import('/src/storage/records.js')).getRecord(id)", rid)
+    assert rec["test"] == sample and rec["meta"]["base_id"]

@@ -26,7 +26,10 @@ export async function entryScreen(app, view, id = null, seed = null) {
   const [presets, bands, bases] = await Promise.all([
     sievePresets(), listRecords({ kind: "band" }), listRecords({ kind: "base" })]);
   const stored = id ? await getRecord(id) : null;
-  const draft = await loadDraft("entry");
+  // One draft for the new test and one per stored test being edited, so
+  // opening one never overwrites what was typed in the other.
+  const draftName = stored ? `edit:${stored.record_id}` : "new";
+  const draft = await loadDraft(draftName);
   let rec;
   if (seed) rec = seed;
   else if (stored) rec = draft && draft.record_id === stored.record_id && draft.rev === stored.rev ? draft : structuredClone(stored);
@@ -95,7 +98,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
     clearTimeout(timer);
     timer = setTimeout(run, DEBOUNCE_MS);
     const { record } = current();
-    saveDraft("entry", record).catch(() => {});
+    saveDraft(draftName, record).catch(() => {});
   }
 
   async function run() {
@@ -134,7 +137,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
     if (localErrors) { saveStatus.textContent = "Not saved: fix the highlighted entries first."; return; }
     const { record: saved, changed } = await saveRecord(record, { by: app.settings.tester || "", summary: stored ? "edited" : "created" });
     rec = structuredClone(saved);
-    await clearDraft("entry");
+    await clearDraft(draftName);
     if (last && last.ok) await storeResult(saved, last.core_version, { verdict: last.result.verdict });
     const msg = changed ? `Saved ${saved.meta.sample_id || ""} (revision ${saved.rev}).` : "Nothing changed since the last save.";
     saveStatus.textContent = msg;
@@ -144,7 +147,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
   }
 
   async function startNew() {
-    await clearDraft("entry");
+    await clearDraft("new");
     app.go("#/entry", { force: true });
   }
 
