@@ -90,3 +90,29 @@ def test_json_output_never_holds_nan_or_infinity(t):
         out = api.handle(json.dumps({"schema": 1, "op": op, **fields}))
         r = json.loads(out, parse_constant=refuse)
         assert r["ok"] is True or r["error"]["code"] != "internal_error", r
+
+
+@settings(max_examples=200, deadline=None)
+@given(mass_tests(), st.sampled_from([None, {"nonplastic": True}, {"liquid_limit": 40, "plasticity_index": 20},
+                                      {"liquid_limit": 60, "plasticity_index": 10}]))
+def test_uscs_symbol_is_consistent_with_the_fractions(t, plasticity):
+    # ASTM D2487 structure: G/S by the larger coarse fraction; 2 letters below 5 % fines, a dual
+    # symbol at 5-12 %, GM/GC/SM/SC (or GC-GM/SC-SM) above 12 %; fine-grained from 50 % fines.
+    if plasticity:
+        t = dict(t, plasticity=plasticity)
+    g = reduce_test(t, "test").gradation
+    sym = g["uscs"]["symbol"]
+    if sym is None:
+        assert g["uscs"]["needs"]
+        return
+    fines, gravel, sand = g["fines_pct"], g["gravel_pct"], g["sand_pct"]
+    if fines >= 50:
+        assert sym in ("CL", "ML", "CL-ML", "CH", "MH")
+        return
+    assert sym[0] == ("G" if gravel > sand else "S")
+    if fines < 5:
+        assert len(sym) == 2 and sym[1] in "WP"
+    elif fines <= 12:
+        assert len(sym) == 5 and sym[1] in "WP" and sym[3:] in ("GM", "GC", "SM", "SC")
+    else:
+        assert sym[1] in "MC" and "W" not in sym and "P" not in sym
