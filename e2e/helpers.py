@@ -22,8 +22,6 @@ import hashlib
 import importlib.util
 import json
 import os
-import subprocess
-import sys
 import urllib.parse
 from pathlib import Path
 
@@ -39,14 +37,15 @@ LOCAL_SCHEMES = {"data", "blob", "about", "chrome-error"}
 BOOT_TIMEOUT_MS = 60_000
 
 
-def _load_serve():
-    spec = importlib.util.spec_from_file_location("tamis_serve", ROOT / "scripts" / "serve.py")
+def _load_script(name: str):
+    spec = importlib.util.spec_from_file_location(f"tamis_{name}", ROOT / "scripts" / f"{name}.py")
     module = importlib.util.module_from_spec(spec)
     spec.loader.exec_module(module)
     return module
 
 
-serve = _load_serve()
+serve = _load_script("serve")
+build_webapp = _load_script("build_webapp")
 
 
 def read_manifest() -> dict:
@@ -192,13 +191,7 @@ def wait_controlled(page, timeout_ms: int = 30_000) -> None:
 
 def cpython_handle(requests: list[str]) -> list[str]:
     """Answer request strings with CPython running the *built* wheel (the bytes the browser got)."""
-    wheel = WEBAPP / read_manifest()["wheel"]
-    code = (f"import sys; sys.path.insert(0, {str(wheel)!r}); import json, tamis.api; "
-            "print(json.dumps([tamis.api.handle(r) for r in json.load(sys.stdin)]))")
-    # -I -S: no site-packages, so the editable checkout cannot shadow the wheel.
-    proc = subprocess.run([sys.executable, "-I", "-S", "-c", code], input=json.dumps(requests),
-                          capture_output=True, text=True, check=True)
-    return json.loads(proc.stdout)
+    return build_webapp.cpython_answers(WEBAPP / read_manifest()["wheel"], requests)
 
 
 def golden_cases() -> list[tuple[str, str, str]]:

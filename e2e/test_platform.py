@@ -132,8 +132,15 @@ def test_golden_files_replayed_in_the_worker_are_byte_identical(page, site):
     answers = page.evaluate(
         "(reqs) => Promise.all(reqs.map((r) => window.tamisTest.bridge.callJSON(r)))",
         [req for _, req, _ in cases])
-    differing = [name for (name, _, want), got in zip(cases, answers) if got != want]
-    assert not differing, f"{len(differing)} of {len(cases)} golden cases differ in the worker: {differing}"
+    differing = [i for i, ((_, _, want), got) in enumerate(zip(cases, answers)) if got != want]
+    if differing:
+        # Say which side moved: Pyodide against CPython (same wheel), or the golden file against the sources.
+        cpython = helpers.cpython_handle([cases[i][1] for i in differing])
+        engine = [cases[i][0] for i, cp in zip(differing, cpython) if answers[i] != cp]
+        stale = [cases[i][0] for i, cp in zip(differing, cpython) if answers[i] == cp]
+        pytest.fail(f"{len(differing)} of {len(cases)} golden cases differ in the worker; "
+                    f"Pyodide differs from CPython on the same wheel: {engine}; "
+                    f"golden file differs from CPython too (regenerate tests/golden): {stale}")
 
 
 # --- offline ----------------------------------------------------------------------------------------
@@ -243,3 +250,12 @@ def test_whole_boot_requests_only_the_origin(page, site, guard):
     guard.assert_clean()
     served = {path.split("?")[0] for _, path in site.requests}
     assert "/vendor/pyodide/python_stdlib.zip" in served and "/sw.js" in served
+
+
+def test_axe_helper_runs_under_the_csp(page, site):
+    page.goto(site.page_url())
+    helpers.wait_worker_ready(page)
+    results = helpers.run_axe(page)
+    assert results["testEngine"]["name"] == "axe-core" and results["passes"], "axe did not run"
+    assert helpers.axe_violations(results) == []
+    assert page.evaluate("() => window.tamisTest.violations") == []  # injecting axe broke no CSP rule

@@ -12,7 +12,7 @@ After ``make build``, ``webapp/`` is everything a static server needs:
         wheels/tamis-<version>-py3-none-any.whl                              freshly built core wheel
         idb/                                                                 the IndexedDB wrapper (npm idb)
         demo/*.csv                                                           copies of demo_data/*.csv
-        selftest.json                                                        one golden gradation request/response
+        selftest.json                                                        a golden gradation request, CPython's answer
         manifest.json, build.js                                              every file of the site, sha256, size, version
 
 The build is idempotent: a file is rewritten only when its content changes, the
@@ -76,6 +76,46 @@ with zipfile.ZipFile('/tmp/stdlib-pyc.zip', 'w', zipfile.ZIP_DEFLATED, compressl
             out.writestr(zi, be._code_to_hash_pyc(code, importlib.util.source_hash(data), checked=False))
 `);
 writeFileSync(out, py.FS.readFile("/tmp/stdlib-pyc.zip"));
+"""
+
+# Adds unchecked-hash .pyc files (tamis/__pycache__/*.cpython-314.pyc) to the
+# tamis wheel, compiled by Pyodide itself, and lists them in the wheel's RECORD.
+# Importing the core from bytecode instead of source saves most of its import
+# time at every boot (docs/webapp.md). Arguments: pyodide dir, wheel in, wheel out.
+PYC_WHEEL_MJS = r"""
+import { pathToFileURL } from "node:url";
+import { readFileSync, writeFileSync } from "node:fs";
+const [dir, src, out] = process.argv.slice(2);
+const { loadPyodide } = await import(pathToFileURL(dir + "/pyodide.mjs").href);
+const py = await loadPyodide({ indexURL: dir + "/" });
+py.FS.writeFile("/tmp/in.whl", new Uint8Array(readFileSync(src)));
+py.runPython(`
+import base64, hashlib, importlib.util, importlib._bootstrap_external as be, zipfile
+def digest(data):
+    return 'sha256=' + base64.urlsafe_b64encode(hashlib.sha256(data).digest()).rstrip(b'=').decode()
+with zipfile.ZipFile('/tmp/in.whl') as zin, zipfile.ZipFile('/tmp/out.whl', 'w', zipfile.ZIP_DEFLATED) as zout:
+    record_name = next(n for n in zin.namelist() if n.endswith('.dist-info/RECORD'))
+    added = []
+    for info in zin.infolist():
+        if info.filename == record_name:
+            continue
+        data = zin.read(info)
+        zout.writestr(info, data)
+        if info.filename.endswith('.py'):
+            code = compile(data, '/lib/python3/site-packages/' + info.filename, 'exec', dont_inherit=True)
+            pyc = be._code_to_hash_pyc(code, importlib.util.source_hash(data), checked=False)
+            name = importlib.util.cache_from_source(info.filename)
+            zi = zipfile.ZipInfo(name, info.date_time)
+            zi.compress_type = zipfile.ZIP_DEFLATED
+            zout.writestr(zi, pyc)
+            added.append('%s,%s,%d' % (name, digest(pyc), len(pyc)))
+    record = zin.read(record_name).decode().rstrip('\\n').split('\\n')
+    record = record[:-1] + added + record[-1:]
+    zi = zipfile.ZipInfo(record_name, zin.getinfo(record_name).date_time)
+    zi.compress_type = zipfile.ZIP_DEFLATED
+    zout.writestr(zi, '\\n'.join(record) + '\\n')
+`);
+writeFileSync(out, py.FS.readFile("/tmp/out.whl"));
 """
 
 
@@ -171,18 +211,10 @@ def stdlib_with_pyc(pyodide_dir: Path, version: str) -> Path:
     out = CACHE / f"python_stdlib-pyc-{key}.zip"
     if out.is_file():
         return out
-    node = shutil.which("node")
-    if not node:
-        raise BuildError("node is not on PATH; it is needed once per Pyodide version to precompile the stdlib")
-    CACHE.mkdir(parents=True, exist_ok=True)
-    script = CACHE / "pyc_stdlib.mjs"
-    script.write_text(PYC_STDLIB_MJS, encoding="utf-8")
     tmp = out.with_name(out.name + ".tmp")
     log(f"precompiling the Pyodide {version} stdlib to .pyc (once per version, ~15 s)")
     t0 = time.monotonic()
-    proc = subprocess.run([node, str(script), str(pyodide_dir), str(tmp)], capture_output=True, text=True)
-    if proc.returncode != 0 or not tmp.is_file():
-        raise BuildError("precompiling the stdlib failed:\n" + (proc.stderr or proc.stdout)[-3000:])
+    run_node(PYC_STDLIB_MJS, "pyc_stdlib.mjs", [str(pyodide_dir), str(tmp)], "precompile the stdlib")
     os.replace(tmp, out)
     log(f"stdlib precompiled in {time.monotonic() - t0:.1f} s ({out.stat().st_size:,} bytes)")
     return out
@@ -243,9 +275,36 @@ def tamis_wheel() -> Path:
         raise BuildError("building the tamis wheel failed (setuptools and wheel must be in the venv: "
                          f"`make setup`):\n{(proc.stderr or proc.stdout)[-3000:]}")
     shutil.rmtree(src_dir)
-    shutil.rmtree(out_dir, ignore_errors=True)
+    for old in CACHE.glob("tamis-*"):  # keep one cached wheel: the sources move on
+        if old != tmp_dir:
+            shutil.rmtree(old, ignore_errors=True)
     os.replace(tmp_dir, out_dir)
     return out_dir / found[0].name
+
+
+def run_node(script_text: str, name: str, args: list[str], what: str) -> None:
+    node = shutil.which("node")
+    if not node:
+        raise BuildError(f"node is not on PATH; it is needed to {what}")
+    CACHE.mkdir(parents=True, exist_ok=True)
+    script = CACHE / name
+    script.write_text(script_text, encoding="utf-8")
+    proc = subprocess.run([node, str(script), *args], capture_output=True, text=True)
+    if proc.returncode != 0:
+        raise BuildError(f"could not {what}:\n" + (proc.stderr or proc.stdout)[-3000:])
+
+
+def wheel_with_bytecode(wheel: Path, pyodide_dir: Path, pyodide_version: str) -> Path:
+    """The tamis wheel plus .pyc for Pyodide's CPython, cached by wheel hash and Pyodide version."""
+    out = wheel.parent / "pyodide" / pyodide_version / wheel.name
+    if out.is_file():
+        return out
+    out.parent.mkdir(parents=True, exist_ok=True)
+    tmp = out.with_name(out.name + ".tmp")
+    run_node(PYC_WHEEL_MJS, "pyc_wheel.mjs", [str(pyodide_dir), str(wheel), str(tmp)],
+             "compile the tamis wheel to Pyodide bytecode")
+    os.replace(tmp, out)
+    return out
 
 
 def trimmed_lock(stock_lock: Path, wheels: dict[str, Path]) -> bytes:
@@ -267,15 +326,36 @@ def trimmed_lock(stock_lock: Path, wheels: dict[str, Path]) -> bytes:
     return (json.dumps(lock, indent=1, sort_keys=True) + "\n").encode()
 
 
-def golden_selftest() -> bytes | None:
-    """One golden gradation request and its exact response, for the worker's boot self-test."""
+def cpython_answers(wheel: Path, requests: list[str]) -> list[str]:
+    """tamis.api.handle on CPython, importing the core from the built wheel only."""
+    code = (f"import sys; sys.path.insert(0, {str(wheel)!r}); import json, tamis.api; "
+            "print(json.dumps([tamis.api.handle(r) for r in json.load(sys.stdin)]))")
+    proc = subprocess.run([sys.executable, "-I", "-S", "-c", code], input=json.dumps(requests),
+                          capture_output=True, text=True)
+    if proc.returncode != 0:
+        raise BuildError("the built tamis wheel does not run on CPython:\n" + proc.stderr[-3000:])
+    return json.loads(proc.stdout)
+
+
+def golden_selftest(wheel: Path) -> bytes | None:
+    """One golden gradation request and CPython's exact answer to it, for the worker's boot self-test.
+
+    The expected string is computed here from the built wheel (so the self-test
+    checks that Pyodide reproduces CPython byte for byte on these sources); a
+    golden response file that no longer matches is reported as stale.
+    """
     golden = ROOT / "tests" / "golden"
     for req in sorted(golden.glob("gradation-*.request.json")):
-        resp = req.with_name(req.name.replace(".request.json", ".response.json"))
-        if resp.is_file():
-            return json.dumps({"name": req.name[: -len(".request.json")],
-                               "request": req.read_text(encoding="utf-8"),
-                               "response": resp.read_text(encoding="utf-8")}, indent=1).encode() + b"\n"
+        request = req.read_text(encoding="utf-8")
+        answer = cpython_answers(wheel, [request])[0]
+        if not json.loads(answer).get("ok"):
+            continue
+        name = req.name[: -len(".request.json")]
+        resp = golden / f"{name}.response.json"
+        if resp.is_file() and resp.read_text(encoding="utf-8") != answer:
+            log(f"warning: tests/golden/{name}.response.json differs from what the sources answer now "
+                "(regenerate the golden files: tests/golden/regenerate.py)")
+        return json.dumps({"name": name, "request": request, "response": answer}, indent=1).encode() + b"\n"
     return None
 
 
@@ -378,7 +458,7 @@ def build() -> dict:
         layout.put_file(f"pyodide/{path.name}", path)
     layout.put_bytes("pyodide/pyodide-lock.json", trimmed_lock(pyodide_dir / "pyodide-lock.json", wheels))
 
-    wheel = tamis_wheel()
+    wheel = wheel_with_bytecode(tamis_wheel(), pyodide_dir, pyodide_version)
     wheel_rel = f"vendor/wheels/{wheel.name}"
     layout.put_file(f"wheels/{wheel.name}", wheel)
 
@@ -387,7 +467,7 @@ def build() -> dict:
     layout.put_file("idb/LICENSE", idb_dir / "LICENSE")
     for src in sorted((ROOT / "demo_data").glob("*.csv")):
         layout.put_file(f"demo/{src.name}", src)
-    selftest = golden_selftest()
+    selftest = golden_selftest(wheel)
     if selftest is not None:
         layout.put_bytes("selftest.json", selftest)
     else:

@@ -13,13 +13,13 @@ document.addEventListener("securitypolicyviolation", (e) => {
 });
 
 bridge.onStatus((s) => {
-  statuses.push(s);
+  statuses.push({ ...s, at_ms: performance.now() });
   document.getElementById("py-status").textContent = s.error ? `failed: ${s.error}` : `${s.stage}: ${s.detail}`;
 });
 
 const offline = startOffline({
   onState(s) {
-    offlineStates.push(s);
+    offlineStates.push({ ...s, at_ms: performance.now() });
     document.getElementById("offline-status").textContent =
       s.error ? `error: ${s.error}` : s.precached ? `ready offline (${s.version})` : `saving ${s.done}/${s.total}`;
   },

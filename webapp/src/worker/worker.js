@@ -108,6 +108,33 @@ async function selfTestGolden(manifest) {
   return golden.name;
 }
 
+// Imports every op's module right after "ready" (once the requests already
+// queued are answered), so the first evaluate is not slowed by imports.
+// Modules that fail to import are reported on the console; their ops answer
+// with an error response, the others still work.
+const WARM_UP = `
+import importlib, json, tamis.api
+_failed = []
+for _module in sorted({target.split(":")[0] for target in tamis.api.OPS.values()}):
+    try:
+        importlib.import_module(_module)
+    except Exception as exc:
+        _failed.append("%s (%s: %s)" % (_module, type(exc).__name__, exc))
+json.dumps(_failed)
+`;
+
+function warmUp(py) {
+  const namespace = py.globals.get("dict")();
+  let failed;
+  try {
+    failed = JSON.parse(py.runPython(WARM_UP, { globals: namespace }));
+  } finally {
+    namespace.destroy();
+  }
+  for (const line of failed) console.warn(`tamis: a core module did not import: ${line}`);
+  return failed;
+}
+
 function isRuntimeFailure(err) {
   // A Python exception surfaces as a PythonError; anything else (a wasm trap,
   // an out-of-memory abort, a fatal error) means the interpreter is unusable.
@@ -204,6 +231,13 @@ async function boot() {
     const msg = queue.shift();
     answer(msg.n, msg.json);
   }
+  setTimeout(() => {
+    try {
+      warmUp(py);
+    } catch (err) {
+      console.warn(`tamis: warming up the core failed: ${err && err.message ? err.message : err}`);
+    }
+  }, 0);
 }
 
 boot().catch((err) => {
