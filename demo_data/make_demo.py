@@ -239,8 +239,8 @@ INTENDED = {
 
 #: Zone sequence of the demo dam, finest first, and the verdict intended at
 #: each interface (core|fine filter, fine filter|drain, drain|shell).
-ZONES = (("Zone 1 core", "base-core"), ("Zone 2 fine filter", "base-fine-filter"),
-         ("Zone 3 drain gravel", "base-drain"), ("Zone 4 shell", "base-shell"))
+ZONES = (("Zone 1 core", "CORE-C1"), ("Zone 2 fine filter", "F1-MEAN"),
+         ("Zone 3 drain gravel", "F2-MEAN"), ("Zone 4 shell", "SHELL-D1"))
 INTENDED_INTERFACES = ("accept", "accept", "accept")
 
 
@@ -330,19 +330,19 @@ def build_records() -> list[dict]:
                              "notes": notes},
                             test=_passing_test(points, plasticity, dispersive))
 
-    band("band-fine-filter", "Zone 2 fine filter band (spec. TD-02)", FINE_BAND, "2")
-    band("band-drain", "Zone 3 drain gravel band (spec. TD-03)", DRAIN_BAND, "3")
-    base("base-core", "Zone 1 core, sandy lean clay", "1", CORE, "Borrow area C",
+    band("TD-02", "Zone 2 fine filter band (spec. TD-02)", FINE_BAND, "2")
+    band("TD-03", "Zone 3 drain gravel band (spec. TD-03)", DRAIN_BAND, "3")
+    base("CORE-C1", "Zone 1 core, sandy lean clay", "1", CORE, "Borrow area C",
          "Composite of three borrow pits; hydrometer below 0.075 mm. LL 38, PI 18; crumb test non-dispersive.",
          plasticity={"liquid_limit": 38.0, "plasticity_index": 18.0}, dispersive=False)
-    base("base-foundation", "Foundation silty sand alluvium", "foundation", FOUNDATION, "Downstream toe",
+    base("FDN-T1", "Foundation silty sand alluvium", "foundation", FOUNDATION, "Downstream toe",
          "Under the downstream blanket; hydrometer below 0.075 mm; nonplastic.",
          plasticity={"nonplastic": True}, dispersive=False)
-    base("base-fine-filter", "Zone 2 fine filter, production mean", "2", FINE_FILTER_REFERENCE, QUELLBROOK,
+    base("F1-MEAN", "Zone 2 fine filter, production mean", "2", FINE_FILTER_REFERENCE, QUELLBROOK,
          "Mean of the pre-delivery tests; the base of the drain gravel.", plasticity={"nonplastic": True})
-    base("base-drain", "Zone 3 drain gravel, production mean", "3", DRAIN_REFERENCE, SARNET,
+    base("F2-MEAN", "Zone 3 drain gravel, production mean", "3", DRAIN_REFERENCE, SARNET,
          "Mean of the pre-delivery tests.", plasticity={"nonplastic": True})
-    base("base-shell", "Zone 4 shell, processed coarse gravel", "4", SHELL, "Shell borrow, terrace gravels",
+    base("SHELL-D1", "Zone 4 shell, processed coarse gravel", "4", SHELL, "Shell borrow, terrace gravels",
          "Design gradation of the downstream shell.", plasticity={"nonplastic": True})
 
     def delivery(row, stack, band_key, base_key_for_zone):
@@ -367,10 +367,10 @@ def build_records() -> list[dict]:
         recs[sid] = _record(next(ids), "test", at, by, meta, test=test)
 
     for row in FINE_FILTER_TESTS:
-        delivery(row, FINE_STACK_MM, "band-fine-filter",
-                 lambda zone: "base-foundation" if zone.startswith("2B") else "base-core")
+        delivery(row, FINE_STACK_MM, "TD-02",
+                 lambda zone: "FDN-T1" if zone.startswith("2B") else "CORE-C1")
     for row in DRAIN_TESTS:
-        delivery(row, DRAIN_STACK_MM, "band-drain", lambda zone: "base-fine-filter")
+        delivery(row, DRAIN_STACK_MM, "TD-03", lambda zone: "F1-MEAN")
 
     # Lot L11 was followed from the stockpile to the compacted lift.
     for sid in ("Q-L11-SP", "Q-L11-DL", "Q-L11-CP"):

@@ -141,8 +141,9 @@ def _take(browser, site, out_dir: Path, log) -> list[Path]:
         _open_record(page, ids[sid])
         if sid == "Q-0907-1":  # the chart card, whole
             page.eval_on_selector("#view svg", "(el) => el.closest('section').scrollIntoView({block: 'start'})")
-        else:  # the failing check, with the verdict above it where it fits
-            _scroll_to(page, "#view .verdict-card li[data-status='fail']", "center")
+        else:  # the check the scenario is about, failing
+            cid = {"S-0918-T": "filter.retention", "Q-L11-CP": "filter.fines"}[sid]
+            _scroll_to(page, f"#view .verdict-card li[data-check='{cid}'][data-status='fail']", "center")
         shot(name)
     _go(page, "#/refs")
     _scroll_to(page, "#view h1")

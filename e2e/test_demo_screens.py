@@ -50,6 +50,14 @@ def test_demo_opens_with_its_verdicts_and_is_removed_in_one_tap(page, site):
     assert dict(shown) == want
     assert sorted(set(want.values())) == ["accept", "reject"]
 
+    # the reason is on the record's screen: the scenario's check fails there
+    ids = {r["meta"]["sample_id"]: r["record_id"] for r in RECORDS}
+    for sid, cid in (("S-0918-T", "filter.retention"), ("Q-L11-CP", "filter.fines"), ("Q-0916-1", "qa.mass_balance"),
+                     ("D-0922-1", "filter.segregation")):
+        page.evaluate("(r) => { location.hash = r; }", f"#/record/{ids[sid]}")
+        page.wait_for_selector(f"#view .verdict-card li[data-check='{cid}'][data-status='fail']")
+        assert page.get_attribute("#view .verdict-card .verdict", "data-verdict") == "reject"
+
     page.evaluate("() => { location.hash = '#/exchange'; }")
     page.once("dialog", lambda d: d.accept())
     page.get_by_role("button", name=f"Remove the demo ({len(RECORDS)} records)").click()
