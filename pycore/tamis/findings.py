@@ -49,6 +49,9 @@ class Check:
     unit: str = ""
     source: str = ""
     extra: dict = field(default_factory=dict)
+    #: An indicator reported beside the verdict but not deciding it (internal-
+    #: stability methods, permeability estimates); see docs/decisions.md.
+    advisory: bool = False
 
     def __post_init__(self) -> None:
         if self.status not in STATUSES:
@@ -64,6 +67,7 @@ class Check:
             "unit": self.unit,
             "source": self.source,
             "message": self.message,
+            "advisory": self.advisory,
         }
         for k, v in self.extra.items():
             d.setdefault(k, v)
@@ -100,9 +104,10 @@ def compare(value: float, relation: str, limit: float) -> bool:
 
 def verdict(checks: Iterable[Check]) -> str:
     """``reject`` if any check fails, ``review`` if any warns or lacks data,
-    else ``accept``. Checks that do not apply are ignored; with no applicable
-    check at all the verdict is ``review`` (nothing was shown to pass)."""
-    statuses = [c.status for c in checks]
+    else ``accept``. Checks that do not apply are ignored, and so are advisory
+    checks (indicators reported beside the verdict); with no applicable check
+    at all the verdict is ``review`` (nothing was shown to pass)."""
+    statuses = [c.status for c in checks if not c.advisory]
     if FAIL in statuses:
         return REJECT
     if WARN in statuses or NEEDS_DATA in statuses:

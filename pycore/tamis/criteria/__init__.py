@@ -18,9 +18,10 @@ the engineer of record govern.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 from ..curve import size_at
+from ..findings import FAIL, Finding
 from .base import analyse_base, base_info
 from .material import material_checks, material_limits
 from .pairs import permeability_check, retention_check
@@ -60,6 +61,17 @@ def _props(reduced) -> dict:
     return dict(getattr(reduced, "props", None) or {})
 
 
+def _advisory_flags(checks) -> list:
+    """A warning for each advisory internal-stability method that finds the
+    filter unstable, so that the flag is seen even though it does not decide
+    the verdict."""
+    return [Finding("warning", "stability_flag",
+                    f"{c.message} This internal-stability indicator is not part of the verdict "
+                    "(rules.stability_in_verdict is false); the engineer should consider it.",
+                    source=c.source)
+            for c in checks if c.status == FAIL]
+
+
 def run_filter_checks(sample, base=None, rules=None, path: str = "rules") -> FilterOutcome:
     """Run the filter criteria on ``sample`` (a ``Reduced``), against ``base`` when given.
 
@@ -89,14 +101,16 @@ def run_filter_checks(sample, base=None, rules=None, path: str = "rules") -> Fil
         binfo = base_info(b, bprops)
     if r["stability"]:
         st, st_find = stability_checks(curve, r["kenney_lau_boundary"])
+        if not r["stability_in_verdict"]:
+            st = [replace(c, advisory=True) for c in st]
+            findings.extend(_advisory_flags(st))
         checks.extend(st)
         findings.extend(st_find)
     hz, hz_find = hazen_estimate(curve, r["hazen_c"])
     kc, kc_find = kozeny_carman_estimate(curve, props, r)
-    checks.extend([hz, kc])
+    estimates = [hz, kc] + ([ratio_estimate(d15f, limits["d15b_mm"])] if base is not None else [])
+    checks.extend(replace(c, advisory=True) for c in estimates)
     findings.extend(hz_find + kc_find)
-    if base is not None:
-        checks.append(ratio_estimate(d15f, limits["d15b_mm"]))
     return FilterOutcome(checks=checks, limits=limits, base_info=binfo, findings=findings, rules_used=r)
 
 

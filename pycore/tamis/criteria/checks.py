@@ -7,10 +7,10 @@ from .registry import source_text
 
 
 def make_check(check_id: str, status: str, message: str, *, variant: str = "", value=None, limit=None,
-               relation=None, unit: str = "", extra: dict | None = None) -> Check:
+               relation=None, unit: str = "", extra: dict | None = None, advisory: bool = False) -> Check:
     """A :class:`~tamis.findings.Check` whose ``source`` comes from the registry."""
     return Check(id=check_id, status=status, message=message, value=value, limit=limit, relation=relation,
-                 unit=unit, source=source_text(check_id, variant), extra=dict(extra or {}))
+                 unit=unit, source=source_text(check_id, variant), extra=dict(extra or {}), advisory=advisory)
 
 
 def limit_check(check_id: str, value, relation: str, limit, unit: str, what: str, *, variant: str = "",

@@ -13,6 +13,8 @@ regrade                true         regrade a gravelly base on regrade_on_mm (NR
 regrade_on_mm          4.75         regrading sieve of the base (NRCS/USBR/FEMA sets)
 kenney_lau_boundary    1.0          1.0 (Kenney & Lau 1986) or 1.3 (1985)
 stability              true         run the internal-stability methods on the filter
+stability_in_verdict   false        let the internal-stability methods decide the verdict; by
+                                    default they are advisory indicators (docs/decisions.md)
 hazen_c                100.0        Hazen coefficient C_H [cm^-1 s^-1], > 0
 void_ratio             null         void ratio e for Kozeny-Carman (no estimate without it)
 shape_factor           7.0          Kozeny-Carman shape factor SF (Fair & Hatch: 6.0 to 7.7)
@@ -30,7 +32,7 @@ from ..errors import InputError, boolean, join, number, require_mapping, text
 from .tables import DEFAULT_RULE_SET, NO_4_MM, RULE_SETS
 
 KEYS = ("criteria", "terzaghi_ratio", "dispersive", "regrade", "regrade_on_mm", "kenney_lau_boundary",
-        "stability", "hazen_c", "void_ratio", "shape_factor", "kc_pan_lower_mm")
+        "stability", "stability_in_verdict", "hazen_c", "void_ratio", "shape_factor", "kc_pan_lower_mm")
 
 KENNEY_LAU_BOUNDARIES = (1.0, 1.3)
 
@@ -64,6 +66,7 @@ def parse_rules(rules: dict | None, path: str = "rules") -> dict:
                                 exclusive_minimum=0.0),
         "kenney_lau_boundary": kl,
         "stability": stability,
+        "stability_in_verdict": boolean(rules, "stability_in_verdict", path, default=False),
         "hazen_c": number(rules, "hazen_c", path, required=False, default=100.0, exclusive_minimum=0.0),
         "void_ratio": number(rules, "void_ratio", path, required=False, default=None, exclusive_minimum=0.0),
         "shape_factor": number(rules, "shape_factor", path, required=False, default=7.0, exclusive_minimum=0.0),
