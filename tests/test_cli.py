@@ -54,6 +54,10 @@ def test_table_output_for_gradation_and_evaluate(tmp_path):
     assert any(line.startswith("No. 200") and line.rstrip().endswith("4.4") for line in p.stdout.splitlines())
     p = run(["evaluate", "-", "--table"], json.dumps({"sample": EXAMPLE_29}))
     assert p.returncode == 0 and "sample:" in p.stdout and "USCS SP" in p.stdout
+    band = {"name": "F1", "limits": [{"sieve": "No. 200", "min_pct": 0, "max_pct": 4.4}]}
+    p = run(["evaluate", "-", "--table"], json.dumps({"sample": EXAMPLE_29, "band": band}))
+    row = next(line for line in p.stdout.splitlines() if line.startswith("No. 200") and "fail" in line)
+    assert "-0.04" in row  # 4.44 % against a 4.4 % maximum: fails, margin shown to 0.01
 
 
 def test_table_output_for_an_error_names_the_field():

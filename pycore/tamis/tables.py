@@ -73,6 +73,11 @@ def _findings(findings: list[dict]) -> list[str]:
             for f in findings]
 
 
+def _least(*xs):
+    vals = [x for x in xs if x is not None]
+    return min(vals) if vals else None
+
+
 def _design_band(res: dict) -> list[str]:
     out = [f"feasible: {_num(res.get('feasible'))}"]
     cp = {k: v for k, v in (res.get("control_points") or {}).items() if v is not None}
@@ -111,6 +116,15 @@ def render(command: str, response: dict) -> str:
                 lines += [f"{who}:"] + ["  " + x for x in _gradation_summary(res[who])]
         if res.get("base_category") is not None:
             lines.append(f"base category {res['base_category']} (A = {_num(res.get('a_pct'), 1)} %)")
+        bc = next((c for c in res.get("checks") or [] if c.get("id") == "band.compliance"), None)
+        if bc and bc.get("sieves"):
+            lines += ["", f"band {bc.get('band') or ''}:"]
+            lines += _grid(["sieve", "passing %", "min %", "max %", "margin %", "status"],
+                           [[r.get("label") or "", _num(r.get("passing_pct"), 1), _num(r.get("min_pct"), 1),
+                             _num(r.get("max_pct"), 1),
+                             _num(_least(r.get("margin_min_pct"), r.get("margin_max_pct")), 2),
+                             r.get("status", "") + ("" if r.get("measured", True) else " (interpolated)")]
+                            for r in bc["sieves"]])
         lim = {k: v for k, v in (res.get("limits") or {}).items() if v is not None}
         if lim:
             lines.append("limits: " + ", ".join(f"{k} {_num(v, 3)}" for k, v in lim.items()))
