@@ -211,3 +211,34 @@ def test_field_to_office_to_another_device():
     assert not line["differs"]
     cells = dict(zip(*[r for r in parse_rfc4180(office_file["csv"]) if r[1] in ("record_id", UID)]))
     assert cells["calc_verdict"] == shown_on_phone
+
+
+def test_a_resolved_conflict_supersedes_both_versions_everywhere():
+    file_text = csv_of(V2_OTHER)
+    res = call("records_import_csv", csv=file_text, existing=[V2], resolve={UID: "incoming"},
+               at="2026-12-05T07:00:00Z", by="AB")
+    assert res["conflicts"] == [] and res["resolved"] == [UID] and res["updated"] == [UID]
+    (done,) = res["records"]
+    assert done["rev"] == 3 and done["updated_at"] == "2026-12-05T07:00:00Z" and done["updated_by"] == "AB"
+    assert done["test"] == V2_OTHER["test"]  # the content chosen
+    marks = {(h["rev"], h["at"], h["by"]) for h in done["history"]}
+    assert {(2, V2["updated_at"], "AB"), (2, V2_OTHER["updated_at"], "CD"),
+            (3, "2026-12-05T07:00:00Z", "AB")} <= marks
+    assert R.descends(done, V2) and R.descends(done, V2_OTHER)
+    # The same file again: nothing to decide any more.
+    again = call("records_import_csv", csv=file_text, existing=[done])
+    assert again["conflicts"] == [] and again["unchanged"] == [UID]
+    # In the office, the resolved revision wins over both old versions, in any order.
+    for files in ([csv_of(V2), csv_of(V2_OTHER), csv_of(done)], [csv_of(done), csv_of(V2_OTHER), csv_of(V2)]):
+        merged = call("records_merge", files=files)
+        assert merged["conflicts"] == []
+        assert call("records_import_csv", csv=merged["csv"], existing=[])["records"] == [done]
+
+
+def test_resolve_needs_a_known_choice_and_an_author():
+    for fields, where in (({"resolve": {UID: "mine"}, "at": "2026-12-05T07:00:00Z", "by": "AB"}, f"resolve.{UID}"),
+                          ({"resolve": {UID: "local"}, "by": "AB"}, "at"),
+                          ({"resolve": {UID: "local"}, "at": "2026-12-05T07:00:00Z"}, "by")):
+        out = json.loads(api.handle(json.dumps({"schema": 1, "op": "records_import_csv", "id": 1,
+                                                "csv": csv_of(V2_OTHER), "existing": [V2], **fields})))
+        assert out["ok"] is False and out["error"]["field"] == where

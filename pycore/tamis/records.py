@@ -880,16 +880,43 @@ def _conflict_reason(a: dict, b: dict) -> str:
     return f"the history of rev {hi['rev']} does not show that it was made from rev {lo['rev']}"
 
 
-def import_records(incoming: list[dict], existing: list[dict]) -> dict:
+def resolve_conflict(local: dict, incoming: dict, keep: str, at: str, by: str) -> dict:
+    """A new revision that settles a conflict: the content of the version ``keep``
+    names (``"local"`` or ``"incoming"``), ``rev`` one above both, and a history
+    holding both versions' entries plus one saying what was decided. Because its
+    history holds both head entries, it descends from (:func:`descends`) and so
+    supersedes both versions wherever they turn up later."""
+    chosen, other = (local, incoming) if keep == "local" else (incoming, local)
+    rev = max(local["rev"], incoming["rev"]) + 1
+    hist = merge_history(local["history"], incoming["history"])
+    marks = {(h["rev"], h["at"], h["by"]) for h in hist}
+    for v in (local, incoming):
+        if _head_mark(v) not in marks:  # a version saved without its history entry: record its mark
+            hist.append({"rev": v["rev"], "at": v["updated_at"], "by": v["updated_by"],
+                         "summary": "revision known from the record only", "changes": []})
+    hist.append({"rev": rev, "at": at, "by": by,
+                 "summary": f"conflict resolved: kept rev {chosen['rev']} of {chosen['updated_at']} by "
+                            f"{chosen['updated_by']}; set aside rev {other['rev']} of {other['updated_at']} by "
+                            f"{other['updated_by']}", "changes": []})
+    out = dict(chosen, rev=rev, updated_at=at, updated_by=by, history=merge_history(hist))
+    out["exported_at"] = None  # a new revision that has not left this device
+    return out
+
+
+def import_records(incoming: list[dict], existing: list[dict], resolve=None, at=None, by=None) -> dict:
     """Merge a file's records into a device's records (both checked).
 
     ``added``: ids new to the device; ``updated``: records whose stored form
     changes (a newer revision, or history entries gained); ``unchanged``;
-    ``conflicts``: both changed, the device's version kept untouched.
+    ``conflicts``: both changed, the device's version kept untouched, unless
+    ``resolve`` (record id -> ``"local"`` or ``"incoming"``) settles it with
+    :func:`resolve_conflict` at time ``at`` by ``by``: then it is in
+    ``updated`` and ``resolved``.
     """
+    resolve = resolve or {}
     local = {r["record_id"]: r for r in existing}
     out = dict(local)
-    added, updated, unchanged, conflicts = [], [], [], []
+    added, updated, unchanged, conflicts, resolved = [], [], [], [], []
     for inc in incoming:
         rid = inc["record_id"]
         loc = local.get(rid)
@@ -898,17 +925,21 @@ def import_records(incoming: list[dict], existing: list[dict]) -> dict:
             added.append(rid)
             continue
         kept, others = merge_versions([loc, inc])
-        if others:
+        if others and rid in resolve:
+            out[rid] = resolve_conflict(loc, inc, resolve[rid], at, by)
+            updated.append(rid)
+            resolved.append(rid)
+        elif others:
             conflicts.append({"record_id": rid, "local": loc, "incoming": inc,
                               "reason": _conflict_reason(loc, inc)})
-            continue
-        if kept == loc:
+        elif kept == loc:
             unchanged.append(rid)
         else:
             out[rid] = kept
             updated.append(rid)
     return {"records": sorted(out.values(), key=row_order), "added": sorted(added), "updated": sorted(updated),
-            "unchanged": sorted(unchanged), "conflicts": sorted(conflicts, key=lambda c: c["record_id"])}
+            "unchanged": sorted(unchanged), "conflicts": sorted(conflicts, key=lambda c: c["record_id"]),
+            "resolved": sorted(resolved)}
 
 
 def check_records(recs, path: str) -> list[dict]:
@@ -1058,10 +1089,25 @@ def op_export_csv(req: dict):
 
 
 def op_import_csv(req: dict):
-    """``{"csv": text, "existing": [...]}`` -> the merged records to store, and what changed."""
+    """``{"csv": text, "existing": [...]}`` -> the merged records to store, and what changed.
+
+    Optional ``"resolve": {record_id: "local"|"incoming"}`` with ``"at"`` (ISO UTC)
+    and ``"by"`` settles conflicts the user has decided (:func:`resolve_conflict`)."""
     incoming, rows = read_csv(req.get("csv"), "csv")
     existing = check_records(req.get("existing") or [], "existing")
-    result = import_records(incoming, existing)
+    resolve = req.get("resolve") or {}
+    require_mapping(resolve, "resolve")
+    for rid, keep in resolve.items():
+        if keep not in ("local", "incoming"):
+            raise InputError("unknown_choice", f"resolve.{rid} must be local or incoming, got {keep!r}.",
+                             f"resolve.{rid}")
+    at = by = None
+    if resolve:
+        at = _iso(req, "at", "")
+        by = req.get("by")
+        if not isinstance(by, str):
+            raise InputError("not_a_string", "by must be text (initials or a name) when resolve is given.", "by")
+    result = import_records(incoming, existing, resolve, at, by)
     result["rows"] = len(rows)
     return result, []
 
