@@ -126,6 +126,9 @@ def _reject_constant(name):
     raise ValueError(f"{name} is not a valid JSON number")
 
 
+_DECODER = json.JSONDecoder(parse_constant=_reject_constant)  # stateless; made once
+
+
 def is_iso_utc(s) -> bool:
     """``YYYY-MM-DDTHH:MM:SS[.fraction]Z`` naming a real instant (ISO 8601 / RFC 3339, UTC)."""
     if not isinstance(s, str):
@@ -142,11 +145,11 @@ def is_iso_utc(s) -> bool:
 
 
 def _iso(obj: dict, key: str, path: str, *, optional: bool = False):
-    p = join(path, key)
     v = obj.get(key)
     if v is None and optional:
         return None
     if not is_iso_utc(v):
+        p = join(path, key)
         raise InputError("bad_time", f"{p} must be an ISO 8601 UTC time such as 2026-12-01T09:30:00Z, "
                                      f"got {v!r}.", p)
     return v
@@ -203,16 +206,20 @@ def check_record(rec, path: str = "record", *, check_json: bool = True) -> dict:
         raise InputError("not_a_boolean", f"{join(path, 'deleted')} must be true or false.", join(path, "deleted"))
     exported_at = _iso(rec, "exported_at", path, optional=True)
     meta = rec.get("meta") or {}
-    require_mapping(meta, join(path, "meta"))
+    if not isinstance(meta, dict):
+        require_mapping(meta, join(path, "meta"))
     out = {"record_id": rid, "kind": kind, "rev": rev, "updated_at": updated_at, "updated_by": by,
            "deleted": deleted, "exported_at": exported_at, "meta": meta}
     for key in ("test", "band"):
         v = rec.get(key)
-        if v is not None:
+        if v is not None and not isinstance(v, dict):
             require_mapping(v, join(path, key))
         out[key] = v
     hist = rec.get("history")
-    hist = [] if hist is None else require_list(hist, join(path, "history"))
+    if hist is None:
+        hist = []
+    elif not isinstance(hist, list):
+        require_list(hist, join(path, "history"))
     for i, h in enumerate(hist):
         if not isinstance(h, dict):
             require_mapping(h, join(join(path, "history"), i))
@@ -498,7 +505,7 @@ def _parse_bool(cell: str, field: str) -> bool:
 
 def _parse_json(cell: str, field: str, want: type):
     try:
-        v = json.loads(unescape_text(cell), parse_constant=_reject_constant)
+        v = _DECODER.decode(unescape_text(cell))
     except ValueError as exc:
         raise cell_error("bad_json", field, f"is not valid JSON ({exc}).") from None
     if not isinstance(v, want):
