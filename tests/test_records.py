@@ -270,3 +270,25 @@ def test_no_verdict_when_the_named_band_is_not_in_the_file():
     ev = call("evaluate", sample=r["test"], band=band["band"])["result"]
     assert res["count"] == 1 and cells["calc_verdict"] == ev["verdict"]
     assert len(parse_rfc4180(res["csv"])) == 2  # the band itself is not written
+
+
+# ------------------------------------------------------------ property: any text, any number
+
+from hypothesis import given, settings, strategies as st  # noqa: E402
+
+_finite = st.floats(allow_nan=False, allow_infinity=False)
+
+
+@settings(max_examples=150, deadline=None)
+@given(notes=st.text(), by=st.text(), station=st.text(max_size=5), offset=_finite, mass=_finite,
+       extra=st.dictionaries(st.text(max_size=4), st.one_of(st.text(), st.integers(-10**6, 10**6), _finite,
+                                                           st.booleans(), st.none()), max_size=3))
+def test_any_text_and_any_finite_number_round_trip(notes, by, station, offset, mass, extra):
+    meta = {"notes": notes, "station": station, "offset_m": offset, **{f"x_{k}": v for k, v in extra.items()}}
+    r = R.check_record(rec(updated_by=by, meta=meta,
+                           test={"sieves": [{"opening_mm": 4.75, "retained_g": mass}], "dry_mass_g": 100.0}))
+    text = R.write_csv([r])
+    (back,), _ = R.read_csv(text)
+    assert back == r
+    assert R.write_csv([back]) == text
+    assert math.copysign(1.0, back["test"]["sieves"][0]["retained_g"]) == math.copysign(1.0, mass)
