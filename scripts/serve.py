@@ -72,8 +72,8 @@ def make_handler(root: Path, mounts: dict[str, Path], overrides: dict[str, tuple
 
     class Handler(http.server.SimpleHTTPRequestHandler):
         extensions_map = {**http.server.SimpleHTTPRequestHandler.extensions_map, **MIME}
-        server_version = "tamis-static"
-        sys_version = ""
+        def version_string(self) -> str:
+            return "tamis-static"
 
         def __init__(self, *args, **kwargs):
             super().__init__(*args, directory=str(root), **kwargs)

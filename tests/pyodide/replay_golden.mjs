@@ -2,14 +2,17 @@
 // Pyodide (Node) and compares the answer with the .response.json file byte
 // for byte (the file is the exact string CPython's tamis.api.handle returns).
 //
-//   node tests/pyodide/replay_golden.mjs [--only SUBSTRING] [--golden DIR] [--verbose]
+//   node tests/pyodide/replay_golden.mjs [--only SUBSTRING] [--golden DIR] [--dump FILE] [--verbose]
+//
+// --dump FILE writes {case name: Pyodide's response string} as JSON, to compare
+// with CPython on the same wheel when a golden file is suspected to be stale.
 //
 // Uses the built site (webapp/vendor/: the same runtime, .pyc stdlib and tamis
 // wheel the browser gets); run `make build` first. Closing line:
 //   golden-pyodide: N passed, M failed
 // Exit status 1 on any failure or when no case is found.
 
-import { readFileSync, readdirSync, existsSync } from "node:fs";
+import { readFileSync, readdirSync, existsSync, writeFileSync } from "node:fs";
 import { dirname, join, resolve } from "node:path";
 import { fileURLToPath, pathToFileURL } from "node:url";
 
@@ -20,6 +23,8 @@ const args = process.argv.slice(2);
 const GOLDEN = args.includes("--golden") ? resolve(args[args.indexOf("--golden") + 1]) : join(ROOT, "tests", "golden");
 const only = args.includes("--only") ? args[args.indexOf("--only") + 1] : null;
 const verbose = args.includes("--verbose");
+const dumpPath = args.includes("--dump") ? resolve(args[args.indexOf("--dump") + 1]) : null;
+const dumped = {};
 
 function die(message) {
   console.error(`golden-pyodide: ${message}`);
@@ -72,6 +77,7 @@ for (const name of cases) {
   let got;
   try {
     got = handle(request);
+    dumped[name] = got;
   } catch (err) {
     failed.push(name);
     console.log(`FAIL ${name}: tamis.api.handle raised ${String(err.message || err).split("\n").slice(-2).join(" ")}`);
@@ -85,5 +91,6 @@ for (const name of cases) {
     console.log(`FAIL ${name}: ${diffHint(got, want)}`);
   }
 }
+if (dumpPath) writeFileSync(dumpPath, JSON.stringify(dumped, null, 1));
 console.log(`golden-pyodide: ${passed} passed, ${failed.length} failed`);
 process.exit(failed.length ? 1 : 0);
