@@ -28,7 +28,16 @@ from .errors import InputError
 EXIT_OK, EXIT_FLAGGED, EXIT_BAD_INPUT = 0, 1, 2
 
 
+EPILOGS = {
+    "merge": "exit status: 0 merged; 1 conflicts remain (the kept version is written, the others are listed); "
+             "2 a file cannot be read.",
+    "report": "exit status: 0 done; 1 a stored verdict differs from the recomputed one; 2 the file cannot be read.",
+    "check": "exit status: 0 valid; 2 the file cannot be read (file, row and column are named).",
+}
+
+
 def add_arguments(name: str, parser) -> None:
+    parser.epilog = EPILOGS.get(name)
     if name == "merge":
         parser.add_argument("files", nargs="+", help="CSV exchange files to merge")
         parser.add_argument("-o", "--output", required=True, help="merged CSV file to write (- for standard output)")
