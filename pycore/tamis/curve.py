@@ -188,6 +188,10 @@ def size_at(curve: Curve, pct: float) -> float | None:
         if p_l == p_s:
             continue
         if p_s <= pct <= p_l:
+            if pct == p_l:      # on a measured point: its sieve, exactly
+                return pts[k - 1][0]
+            if pct == p_s:
+                return pts[k][0]
             logs = curve.log_sizes
             t = (pct - p_s) / (p_l - p_s)
             return exp(logs[k] + t * (logs[k - 1] - logs[k]))
