@@ -72,6 +72,13 @@ def realistic_tests(n: int, seed: int = 9) -> list[dict]:
     return out + refs
 
 
+def timed(fn):
+    """``(fn(), wall seconds, cpu seconds of this process)``."""
+    w0, c0 = time.perf_counter(), time.process_time()
+    out = fn()
+    return out, time.perf_counter() - w0, time.process_time() - c0
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=100_000, help="records (default 100000)")
@@ -83,30 +90,24 @@ def main(argv=None) -> int:
     texts = build_files(args.n, args.files)
     rows = sum(t.count("\r\n") - 1 for t in texts)  # an upper bound: quoted line breaks count too
     mb = sum(len(t.encode("utf-8")) for t in texts) / 1e6
-    print(f"setup: {args.files} files, {mb:.1f} MB, built in {time.perf_counter() - t0:.1f} s")
+    print(f"setup: {args.files} files, {mb:.1f} MB, built in {time.perf_counter() - t0:.1f} s", flush=True)
 
-    t0 = time.perf_counter()
-    lists = [R.read_csv(t, f"files[{i}]")[0] for i, t in enumerate(texts)]
-    t_read = time.perf_counter() - t0
+    lists, w_read, c_read = timed(lambda: [R.read_csv(t, f"files[{i}]")[0] for i, t in enumerate(texts)])
     n_rows = sum(len(x) for x in lists)
-    t0 = time.perf_counter()
-    merged, conflicts = R.merge_all(lists)
-    t_merge = time.perf_counter() - t0
-    t0 = time.perf_counter()
-    out = R.write_csv(merged)
-    t_write = time.perf_counter() - t0
-    total = t_read + t_merge + t_write
-    print(f"read+validate: {t_read:.2f} s ({n_rows / t_read:,.0f} rows/s, {n_rows} rows; line count {rows})")
-    print(f"merge: {t_merge:.2f} s ({len(merged)} records, {len(conflicts)} conflicts)")
-    print(f"write: {t_write:.2f} s ({len(out.encode('utf-8')) / 1e6:.1f} MB)")
-    print(f"merge of {len(merged)} records from {args.files} files without calc columns: {total:.2f} s, "
-          f"{len(merged) / total:,.0f} records/s")
+    (merged, conflicts), w_merge, c_merge = timed(lambda: R.merge_all(lists))
+    out, w_write, c_write = timed(lambda: R.write_csv(merged))
+    wall, cpu = w_read + w_merge + w_write, c_read + c_merge + c_write
+    print(f"read+validate: {w_read:.2f} s wall, {c_read:.2f} s cpu ({n_rows} rows, {n_rows / w_read:,.0f} rows/s; "
+          f"{rows} lines)", flush=True)
+    print(f"merge: {w_merge:.2f} s wall, {c_merge:.2f} s cpu ({len(merged)} records, {len(conflicts)} conflicts)",
+          flush=True)
+    print(f"write: {w_write:.2f} s wall, {c_write:.2f} s cpu ({len(out.encode('utf-8')) / 1e6:.1f} MB)", flush=True)
+    print(f"merge of {len(merged)} records from {args.files} files, calc columns left blank: {wall:.2f} s wall "
+          f"({len(merged) / wall:,.0f} records/s), {cpu:.2f} s cpu ({len(merged) / cpu:,.0f} records/s)", flush=True)
 
     if args.calc_n > 0:
         sample = realistic_tests(args.calc_n)
-        t0 = time.perf_counter()
-        sums = R.summaries_for(sample)
-        t_calc = time.perf_counter() - t0
+        sums, t_calc, _ = timed(lambda: R.summaries_for(sample))
         verdicts = sum(1 for s in sums.values() if s.get("calc_verdict"))
         print(f"calc columns: {len(sums)} records in {t_calc:.2f} s ({len(sums) / t_calc:,.0f} records/s, "
               f"{verdicts} verdicts); for {len(merged)} records about {len(merged) * t_calc / len(sums):.0f} s")
