@@ -166,7 +166,7 @@ def test_numbers_round_trip_exactly_on_random_doubles():
         n += 1
         cell = R.fmt_num(x)
         assert float(cell) == x and math.copysign(1.0, float(cell)) == math.copysign(1.0, x)
-        assert R._NUM_RE.match(cell), cell
+        assert R._NUM_RE.fullmatch(cell), cell
 
 
 def test_integral_numbers_are_written_without_decimals_and_read_as_floats():
@@ -185,6 +185,7 @@ def test_integral_numbers_are_written_without_decimals_and_read_as_floats():
     ("2026-12-01T09:30:00Z", True), ("2026-12-01T09:30:00.123Z", True), ("2024-02-29T00:00:00Z", True),
     ("2026-02-29T00:00:00Z", False), ("2026-12-01T09:30:00", False), ("2026-12-01T09:30:00+01:00", False),
     ("2026-13-01T09:30:00Z", False), ("2026-12-01 09:30:00Z", False), ("", False), (None, False),
+    ("2026-12-01T09:30:00Z\n", False), ("２０２６-12-01T09:30:00Z", False),
 ])
 def test_times_are_iso8601_utc(value, ok):
     assert R.is_iso_utc(value) is ok

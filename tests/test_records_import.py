@@ -89,6 +89,8 @@ def test_missing_id():
 
 def test_id_that_is_not_a_uuid():
     reject(edit(good_file(), 2, "record_id", "S-000123"), "csv.row[2].record_id", "bad_record_id")
+    reject(edit(good_file(), 2, "record_id", UID2 + "\n"), "csv.row[2].record_id", "bad_record_id")
+    reject(edit(good_file(), 2, "record_id", UID2.upper()), "csv.row[2].record_id", "bad_record_id")
 
 
 def test_unknown_kind():
@@ -98,6 +100,8 @@ def test_unknown_kind():
 @pytest.mark.parametrize("value,code,hint", [
     ("12,4", "not_a_number", "point as the decimal mark"), ("abc", "not_a_number", "'abc'"),
     ("1e999", "not_finite", "finite"), ("NaN", "not_a_number", "NaN"), ("=12.4", "not_a_number", "=12.4"),
+    ("12\n", "not_a_number", "12"), (" 12", "not_a_number", "12"), ("١٢", "not_a_number", "١٢"),
+    ("1_000", "not_a_number", "1_000"), ("inf", "not_a_number", "inf"),
 ])
 def test_bad_numbers(value, code, hint):
     reject(edit(good_file(), 3, "retained_g@4.75mm", value), "csv.row[3].retained_g@4.75mm", code, hint)

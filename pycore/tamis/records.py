@@ -72,7 +72,7 @@ REQUIRED_COLUMNS = FIXED_COLUMNS + ("history_json",)
 
 #: Families of columns that carry one opening [mm] in their name.
 FAMILIES = ("retained_g", "passing_pct", "band_min_pct", "band_max_pct")
-_FAMILY_RE = re.compile(r"^(retained_g|passing_pct|band_min_pct|band_max_pct)@([0-9.eE+-]+)mm$")
+_FAMILY_RE = re.compile(r"(retained_g|passing_pct|band_min_pct|band_max_pct)@([0-9.eE+-]+)mm", re.ASCII)
 
 _STATIC_COLUMNS = frozenset(FIXED_COLUMNS + META_COLUMNS + TEST_HEAD + TEST_TAIL + CALC_COLUMNS
                             + ("band_name", "band_extra_json", "history_json"))
@@ -81,9 +81,9 @@ _STATIC_COLUMNS = frozenset(FIXED_COLUMNS + META_COLUMNS + TEST_HEAD + TEST_TAIL
 #: plus the escape character itself so that every text round-trips exactly.
 TRIGGERS = frozenset("=+-@\t\r\n'")
 
-_UUID_RE = re.compile(r"^[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}$")
-_ISO_RE = re.compile(r"^(\d{4})-(\d{2})-(\d{2})T(\d{2}):(\d{2}):(\d{2})(\.\d{1,9})?Z$")
-_NUM_RE = re.compile(r"^[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?$")
+_UUID_RE = re.compile(r"[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}", re.ASCII)
+_ISO_RE = re.compile(r"(\d{4})-(\d{2})-(\d{2})T(\d{2}):(\d{2}):(\d{2})(\.\d{1,9})?Z", re.ASCII)
+_NUM_RE = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?", re.ASCII)  # used with fullmatch
 _MAX_EXACT_INT = 2 ** 53
 _FIELD_LIMIT = 1 << 26  # 64 Mi characters per cell while reading
 
@@ -133,7 +133,7 @@ def is_iso_utc(s) -> bool:
     """``YYYY-MM-DDTHH:MM:SS[.fraction]Z`` naming a real instant (ISO 8601 / RFC 3339, UTC)."""
     if not isinstance(s, str):
         return False
-    m = _ISO_RE.match(s)
+    m = _ISO_RE.fullmatch(s)
     if not m:
         return False
     y, mo, d, h, mi, sec, _ = m.groups()
@@ -183,7 +183,7 @@ def check_record(rec, path: str = "record", *, check_json: bool = True) -> dict:
             raise InputError("unknown_field", f"{join(path, str(k))} is not a record field; record fields are "
                                               f"{', '.join(RECORD_KEYS)}.", join(path, str(k)))
     rid = rec.get("record_id")
-    if not isinstance(rid, str) or not _UUID_RE.match(rid):
+    if not isinstance(rid, str) or not _UUID_RE.fullmatch(rid):
         raise InputError("bad_record_id", f"{join(path, 'record_id')} must be a UUID in lower-case text form "
                                           f"(8-4-4-4-12 hex digits), got {rid!r}.", join(path, "record_id"))
     kind = rec.get("kind")
@@ -487,7 +487,7 @@ def cell_error(code: str, field: str, reason: str) -> InputError:
 
 
 def _parse_num(cell: str, field: str) -> float:
-    if not _NUM_RE.match(cell):
+    if not _NUM_RE.fullmatch(cell):
         hint = " Use a point as the decimal mark." if "," in cell else ""
         raise cell_error("not_a_number", field, f"must be a number, got {cell!r}.{hint}")
     v = float(cell)
@@ -526,8 +526,8 @@ def parse_header(header: list[str], path: str) -> dict:
         seen.add(col)
         if col in _STATIC_COLUMNS:
             continue
-        m = _FAMILY_RE.match(col)
-        if not m or not _NUM_RE.match(m.group(2)) or not (0 < float(m.group(2)) < math.inf):
+        m = _FAMILY_RE.fullmatch(col)
+        if not m or not _NUM_RE.fullmatch(m.group(2)) or not (0 < float(m.group(2)) < math.inf):
             raise InputError("unknown_column", f"Row 1: {col!r} is not a column of this format "
                                                f"(see docs/csv.md).", f"{where}.{col}")
         key = (m.group(1), float(m.group(2)))
