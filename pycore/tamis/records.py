@@ -1004,7 +1004,7 @@ def compute_summary(rec: dict, index: dict) -> dict:
                 continue
             other = index.get(ref) if isinstance(ref, str) else None
             if other is None or other["kind"] != kind or other["deleted"] or other[part] is None:
-                missing.append(f"{kind} record {ref} named in meta.{key} is not in this file")
+                missing.append(f"meta.{key} names {ref}, which is not a {kind} record with data in this file")
             else:
                 fields[field] = other[part]
         if isinstance(meta.get("rules"), dict):
