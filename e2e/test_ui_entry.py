@@ -112,3 +112,22 @@ def test_spot_check_gives_cpython_verdict_and_saves_as_a_record(page, site):
     rid = page.get_attribute(".detail", "data-id")
     rec = page.evaluate("async (id) => (await import('/src/storage/records.js')).getRecord(id)", rid)
     assert rec["test"] == sample and rec["meta"]["base_id"]
+
+
+def test_size_axis_direction_is_a_setting(page, site):
+    """Coarse-left (default) puts the largest sieve left of the finest; fine-left mirrors it."""
+    open_app(page, site)
+    enter_sample(page)
+
+    def xs():
+        return page.eval_on_selector_all("svg.chart .sample-curve circle", "cs => cs.map(c => Number(c.getAttribute('cx')))")
+
+    coarse_left = xs()  # points come coarsest first
+    assert coarse_left[0] < coarse_left[-1]
+    go(page, "#/settings")
+    page.get_by_label("Size axis of the chart").select_option("fine-left")
+    go(page, "#/entry")
+    settle(page)
+    fine_left = xs()
+    assert fine_left[0] > fine_left[-1]
+    assert page.text_content("svg.chart desc").count("fine sizes on the left") == 1

@@ -92,21 +92,31 @@ function nextRevision(stored, draft, by, summary, at) {
 }
 
 /**
+ * Run `work(records, results)` in one read-write transaction over both
+ * stores and wait for it to commit. `work` may await only IndexedDB requests.
+ */
+async function inWriteTx(work) {
+  const d = await db();
+  const tx = d.transaction(["records", "results"], "readwrite");
+  const out = await work(tx.objectStore("records"), tx.objectStore("results"));
+  await tx.done;
+  return out;
+}
+
+/**
  * Save a record atomically. Returns {record, changed}. When nothing changed
  * the stored record is returned untouched (no empty revision is written).
  */
-export async function saveRecord(draft, { by = "", summary = "" } = {}) {
-  const d = await db();
-  const tx = d.transaction(["records", "results"], "readwrite");
-  const store = tx.objectStore("records");
-  const stored = await store.get(draft.record_id);
-  const next = nextRevision(stored, draft, by, summary, nowIso());
-  if (next) {
-    store.put(next);
-    tx.objectStore("results").delete(next.record_id);
-  }
-  await tx.done;
-  return { record: next || stored, changed: Boolean(next) };
+export function saveRecord(draft, { by = "", summary = "" } = {}) {
+  return inWriteTx(async (records, results) => {
+    const stored = await records.get(draft.record_id);
+    const next = nextRevision(stored, draft, by, summary, nowIso());
+    if (next) {
+      records.put(next);
+      results.delete(next.record_id);
+    }
+    return { record: next || stored, changed: Boolean(next) };
+  });
 }
 
 export async function getRecord(id) {
@@ -143,43 +153,39 @@ export async function restore(id, by) {
  * Mark records as exported at `at`, in one transaction. A record deleted
  * before this export has now left the device, so it is removed for good.
  */
-export async function markExported(ids, at) {
-  const d = await db();
-  const tx = d.transaction(["records", "results"], "readwrite");
-  const store = tx.objectStore("records");
-  for (const id of ids) {
-    const rec = await store.get(id);
-    if (!rec) continue;
-    if (rec.deleted) {
-      store.delete(id);
-      tx.objectStore("results").delete(id);
-    } else {
-      store.put({ ...rec, exported_at: at });
+export function markExported(ids, at) {
+  return inWriteTx(async (records, results) => {
+    for (const id of ids) {
+      const rec = await records.get(id);
+      if (!rec) continue;
+      if (rec.deleted) {
+        records.delete(id);
+        results.delete(id);
+      } else {
+        records.put({ ...rec, exported_at: at });
+      }
     }
-  }
-  await tx.done;
+  });
 }
 
 /** Write many records (an import) in one transaction: all or nothing. */
-export async function putRecords(records) {
-  const d = await db();
-  const tx = d.transaction(["records", "results"], "readwrite");
-  for (const rec of records) {
-    tx.objectStore("records").put(rec);
-    tx.objectStore("results").delete(rec.record_id);
-  }
-  await tx.done;
+export function putRecords(list) {
+  return inWriteTx(async (records, results) => {
+    for (const rec of list) {
+      records.put(rec);
+      results.delete(rec.record_id);
+    }
+  });
 }
 
 /** Remove records for good (used only by "remove the demo"). */
-export async function purgeRecords(ids) {
-  const d = await db();
-  const tx = d.transaction(["records", "results"], "readwrite");
-  for (const id of ids) {
-    tx.objectStore("records").delete(id);
-    tx.objectStore("results").delete(id);
-  }
-  await tx.done;
+export function purgeRecords(ids) {
+  return inWriteTx(async (records, results) => {
+    for (const id of ids) {
+      records.delete(id);
+      results.delete(id);
+    }
+  });
 }
 
 // ---- computed-result cache -------------------------------------------------

@@ -2,7 +2,7 @@
 // drawn as plain SVG from the core's numbers (sample points, base points,
 // band limits, the D15 window of `limits`). The only arithmetic here maps
 // sizes and percentages to pixels; nothing is interpolated or computed.
-import { h, fill, fmt, fmtPct } from "./dom.js";
+import { h, fill, fmt, fmtPct, table } from "./dom.js";
 
 const W = 360;
 const H = 250;
@@ -130,14 +130,7 @@ export function chartTable({ sample, base, band }) {
   const cell = (v) => h("td", { text: typeof v === "number" ? fmtPct(v) : "" });
   return h("details", { class: "chart-table" },
     h("summary", { text: "The chart as a table" }),
-    h("table", {},
-      h("caption", { text: "Percent passing by sieve opening" }),
-      h("thead", {}, h("tr", {},
-        h("th", { scope: "col", text: "Size (mm)" }),
-        h("th", { scope: "col", text: "Sample (%)" }),
-        h("th", { scope: "col", text: "Band min (%)" }),
-        h("th", { scope: "col", text: "Band max (%)" }),
-        h("th", { scope: "col", text: "Base (%)" }))),
+    table({}, "Percent passing by sieve opening", ["Size (mm)", "Sample (%)", "Band min (%)", "Band max (%)", "Base (%)"],
       h("tbody", {}, sorted.map((r) => h("tr", {},
         h("th", { scope: "row", text: fmt(r.d, 4) }), cell(r.sample), cell(r.min), cell(r.max), cell(r.base))))));
 }

@@ -37,6 +37,19 @@ export function fill(node, ...children) {
   return append(node, children);
 }
 
+/**
+ * A table with a caption and column headers; a header given as null is a
+ * visually hidden "Remove" column (for row buttons).
+ */
+export function table(attrs, caption, headers, body) {
+  return h("table", attrs,
+    h("caption", { text: caption }),
+    h("thead", {}, h("tr", {}, headers.map((t) => (t === null
+      ? h("th", { scope: "col" }, h("span", { class: "sr-only", text: "Remove" }))
+      : h("th", { scope: "col", text: t }))))),
+    body);
+}
+
 let uid = 0;
 /** A unique element id for label/for pairs. */
 export function newId(prefix = "f") {

@@ -1,5 +1,5 @@
 // Screen "References": specification bands and base soils, stored as records.
-import { h, fill, field, announce } from "./dom.js";
+import { h, fill, field, announce, table } from "./dom.js";
 import { ask, errorText } from "./core.js";
 import { parseDecimal, showDecimal } from "./decimal.js";
 import { testEditor, enterMovesOn, showFieldError } from "./test_editor.js";
@@ -87,8 +87,7 @@ export async function bandEditor(app, view, id = null, seed = null) {
       tbody.append(h("tr", {}, cell("d", "Size in mm", "opening_mm"), cell("lo", "Minimum passing in percent", "min_pct"), cell("hi", "Maximum passing in percent", "max_pct"),
         h("td", {}, h("button", { type: "button", class: "icon-btn", text: "✕", "aria-label": `Remove row ${i + 1}`, onclick: () => { rows.splice(i, 1); drawRows(); preview(); } }))));
     });
-    fill(tableBox, h("table", { class: "sieve-table" }, h("caption", { text: "Limits of percent passing" }),
-      h("thead", {}, h("tr", {}, h("th", { scope: "col", text: "Size (mm)" }), h("th", { scope: "col", text: "Min (%)" }), h("th", { scope: "col", text: "Max (%)" }), h("th", { scope: "col" }, h("span", { class: "sr-only", text: "Remove" })))), tbody),
+    fill(tableBox, table({ class: "sieve-table" }, "Limits of percent passing", ["Size (mm)", "Min (%)", "Max (%)", null], tbody),
       h("button", { type: "button", class: "btn", text: "Add a size", onclick: () => { rows.push({ d: "", lo: "", hi: "" }); drawRows(); } }));
   }
   fill(view, form);

@@ -3,7 +3,7 @@
 // percent passing at a few sizes. Typed text is parsed as a decimal (comma
 // or point); the percent passing and cumulative figures shown beside each
 // sieve come from the core's response through `showGradation`.
-import { h, fill, field, fmt, fmtPct, newId } from "./dom.js";
+import { h, fill, field, fmt, fmtPct, newId, table } from "./dom.js";
 import { parseDecimal, showDecimal } from "./decimal.js";
 
 /** The core's row for one sieve: from `table` (cumulative and passing) or else `points`. */
@@ -83,6 +83,13 @@ export function testEditor(box, test, { path = "sample", onChange = () => {}, pr
     });
   }
 
+  function removeButton(label, i) {
+    return h("button", {
+      type: "button", class: "icon-btn", "aria-label": label, text: "✕",
+      onclick: () => { state.rows.splice(i, 1); render(); changed(); },
+    });
+  }
+
   function massRows() {
     const tbody = h("tbody");
     state.rows.forEach((row, i) => {
@@ -98,20 +105,10 @@ export function testEditor(box, test, { path = "sample", onChange = () => {}, pr
         h("td", {}, input, err),
         h("td", { class: "calc cum", text: cum === null ? "—" : fmtPct(cum) }),
         h("td", { class: "calc pass", text: point ? fmtPct(point.passing_pct) : "—" }),
-        h("td", {}, h("button", {
-          type: "button", class: "icon-btn", "aria-label": `Remove sieve ${labelOf(row.opening_mm)}`, text: "✕",
-          onclick: () => { state.rows.splice(i, 1); render(); changed(); },
-        }))));
+        h("td", {}, removeButton(`Remove sieve ${labelOf(row.opening_mm)}`, i))));
     });
-    return h("table", { class: "sieve-table" },
-      h("caption", { text: "Masses retained on each sieve" }),
-      h("thead", {}, h("tr", {},
-        h("th", { scope: "col", text: "Sieve" }),
-        h("th", { scope: "col", text: "Retained (g)" }),
-        h("th", { scope: "col", text: "Cum. retained (%)" }),
-        h("th", { scope: "col", text: "Passing (%)" }),
-        h("th", { scope: "col" }, h("span", { class: "sr-only", text: "Remove" })))),
-      tbody);
+    return table({ class: "sieve-table" }, "Masses retained on each sieve",
+      ["Sieve", "Retained (g)", "Cum. retained (%)", "Passing (%)", null], tbody);
   }
 
   function passingRows() {
@@ -125,18 +122,9 @@ export function testEditor(box, test, { path = "sample", onChange = () => {}, pr
       onDecimal(b, eb, (v) => { row.pctText = v; });
       tbody.append(h("tr", {},
         h("td", {}, a, ea), h("td", {}, b, eb),
-        h("td", {}, h("button", {
-          type: "button", class: "icon-btn", "aria-label": `Remove row ${i + 1}`, text: "✕",
-          onclick: () => { state.rows.splice(i, 1); render(); changed(); },
-        }))));
+        h("td", {}, removeButton(`Remove row ${i + 1}`, i))));
     });
-    return h("table", { class: "sieve-table" },
-      h("caption", { text: "Percent passing at each size" }),
-      h("thead", {}, h("tr", {},
-        h("th", { scope: "col", text: "Size (mm)" }),
-        h("th", { scope: "col", text: "Passing (%)" }),
-        h("th", { scope: "col" }, h("span", { class: "sr-only", text: "Remove" })))),
-      tbody);
+    return table({ class: "sieve-table" }, "Percent passing at each size", ["Size (mm)", "Passing (%)", null], tbody);
   }
 
   function massTotals() {
