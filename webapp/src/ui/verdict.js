@@ -95,6 +95,10 @@ export function renderVerdict(box, resp, { only = null, title = "Verdict" } = {}
   const r = resp.result;
   const vw = VERDICT_WORDS[r.verdict] || { word: r.verdict, symbol: "?" };
   const checks = (r.checks || []).filter((c) => !only || only.includes(c.id));
+  // Checks that do not apply stay one tap away, so the phone screen shows
+  // what decides the verdict first; the core's order is kept within each list.
+  const applicable = checks.filter((c) => c.status !== "not_applicable");
+  const idle = checks.filter((c) => c.status === "not_applicable");
   const qa = checks.filter((c) => c.id.startsWith("qa.") && c.status !== "pass" && c.status !== "not_applicable");
   const warnings = (resp.findings || []).filter((f) => f.level === "warning");
   const notes = (resp.findings || []).filter((f) => f.level !== "warning");
@@ -108,9 +112,12 @@ export function renderVerdict(box, resp, { only = null, title = "Verdict" } = {}
       h("h3", { text: "Lab checks to look at" }),
       h("ul", {}, qa.map((c) => h("li", { text: `${checkName(c.id)}: ${c.message}` })))) : null,
     h("h3", { text: "Checks" }),
-    checks.length
-      ? h("ul", { class: "checks" }, checks.map(checkItem))
+    applicable.length
+      ? h("ul", { class: "checks" }, applicable.map(checkItem))
       : h("p", { class: "muted", text: "No check applies to this input." }),
+    idle.length ? h("details", { class: "idle-checks" },
+      h("summary", { text: `Checks that do not apply here (${idle.length})` }),
+      h("ul", { class: "checks" }, idle.map(checkItem))) : null,
     warnings.length ? h("div", {},
       h("h3", { text: "Warnings" }),
       h("ul", { class: "findings" }, warnings.map((f) =>
