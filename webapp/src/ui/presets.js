@@ -23,6 +23,7 @@ export function sievePresets() {
 export const RULE_SETS = [
   { id: "nrcs-1994", name: "NRCS 1994 (base soil categories)" },
   { id: "usbr-2011", name: "USBR 2011" },
+  { id: "fema-2011", name: "FEMA 2011" },
   { id: "terzaghi", name: "Terzaghi ratios" },
 ];
 

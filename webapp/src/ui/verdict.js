@@ -63,7 +63,8 @@ function checkItem(check) {
       h("p", { class: "check-title" },
         check.subject === "base" ? "Base soil: " : null,
         h("strong", { text: checkName(check.id) }), " ",
-        h("span", { class: "status-word", text: st.word })),
+        h("span", { class: "status-word", text: st.word }),
+        check.advisory ? h("span", { class: "advisory", text: " (advisory: reported, not counted in the verdict)" }) : null),
       valueVsLimit(check) ? h("p", { class: "check-values", text: valueVsLimit(check) }) : null,
       check.message ? h("p", { class: "check-message", text: check.message }) : null,
       check.source ? h("p", { class: "check-source", text: `Source: ${check.source}` }) : null));
