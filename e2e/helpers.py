@@ -185,7 +185,8 @@ def wait_precached(page, timeout_ms: int = 120_000) -> dict:
     return state
 
 
-def wait_controlled(page, timeout_ms: int = 30_000) -> None:
+def wait_controlled(page, timeout_ms: int = 120_000) -> None:
+    """Wait until a service worker controls the page (after its whole precache, on a first visit)."""
     page.wait_for_function("() => navigator.serviceWorker.controller !== null", timeout=timeout_ms)
 
 
