@@ -134,3 +134,25 @@ def test_size_axis_direction_is_a_setting(page, site):
     fine_left = xs()
     assert fine_left[0] > fine_left[-1]
     assert page.text_content("svg.chart desc").count("fine sizes on the left") == 1
+
+
+def test_band_copied_from_the_core_examples_is_checked_like_cpython(page, site):
+    open_app(page, site)
+    go(page, "#/refs")
+    presets = cpython("band_presets")["result"]["presets"]
+    fine = next(p for p in presets if p["id"] == "astm-c33-fine")
+    page.get_by_label("Band from the core's examples").select_option(label=fine["name"])
+    page.get_by_role("button", name="Copy into a new band").click()
+    page.wait_for_selector("#view[data-screen='band']")
+    page.get_by_role("button", name="Save band").click()
+    page.wait_for_selector("#view[data-screen='record']")
+    enter_sample(page)
+    page.get_by_label("Specification band").select_option(label=fine["name"])
+    settle(page)
+    band = {"name": fine["name"], "limits": [{k: l[k] for k in ("opening_mm", "min_pct", "max_pct")} for l in fine["limits"]]}
+    expected = cpython("evaluate", sample=sample_test(), band=band, rules={"criteria": "nrcs-1994"})["result"]
+    want = next(c for c in expected["checks"] if c["id"] == "band.compliance")
+    shown = page.get_attribute(".verdict-card li.check[data-check='band.compliance']", "data-status")
+    assert shown == want["status"]
+    assert page.get_attribute(".verdict-card .verdict", "data-verdict") == expected["verdict"]
+    assert page.locator("svg.chart .band-area").count() == 1

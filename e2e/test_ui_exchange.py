@@ -55,6 +55,12 @@ def test_export_is_byte_identical_to_the_core_and_import_asks_on_conflict(page, 
     assert all(r["exported_at"] for r in after)
     assert [dict(r, exported_at=None) for r in after] == before  # nothing else changed
 
+    # The same file imported again changes nothing.
+    go(page, "#/exchange")
+    upload(page, "again.csv", got)
+    page.wait_for_selector(".import-result p")
+    assert "2 rows; 0 new, 0 newer than on this device, 2 unchanged, 0 in conflict" in page.text_content(".import-result")
+
     # A file that is not our CSV is refused and changes nothing.
     go(page, "#/exchange")
     upload(page, "bad.csv", "this,is\nnot,a tamis file\n")

@@ -33,7 +33,7 @@ export async function refsScreen(app, view) {
     fill(presetBox, h("div", { class: "stack-controls" }, field("Band from the core's examples", sel).wrap,
       h("button", { type: "button", class: "btn", text: "Copy into a new band", onclick: () => {
         const p = list[Number(sel.value)];
-        const seed = blankRecord("band", { meta: { material: p.name || "" }, band: { name: p.name || p.id, limits: (p.limits || []).map((l) => ({ ...l })) } });
+        const seed = blankRecord("band", { meta: { material: p.name || "" }, band: { name: p.name || p.id, limits: (p.limits || []).map((l) => ({ opening_mm: l.opening_mm, min_pct: l.min_pct, max_pct: l.max_pct })) } });
         app.go("#/band", { seed });
       } })));
   }
