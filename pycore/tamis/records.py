@@ -38,6 +38,7 @@ import json
 import math
 import re
 from datetime import datetime
+from itertools import compress
 
 from .errors import InputError, join, require_list, require_mapping
 
@@ -720,7 +721,7 @@ def _read_rows(text: str, path: str):
                 raise InputError("wrong_cell_count", f"Row {n} has {len(row)} cells but the header has "
                                                      f"{len(cols)}; the line may be truncated or hold an "
                                                      "unquoted comma.", where)
-            cells = {c: v for c, v in zip(cols, row) if v}
+            cells = dict(compress(zip(cols, row), row))  # the non-blank cells
             rec = row_record(cells, hdr["colinfo"], where)
             prev = by_id.get(rec["record_id"])
             if prev is not None:
