@@ -57,6 +57,7 @@ def test_verdict_and_d_values_match_cpython(page, site):
     # The chart is drawn from the same points: one mark per sample point.
     assert page.locator("svg.chart .sample-curve circle").count() == len(expected["sample"]["points"])
     assert page.locator("svg.chart .base-curve rect").count() == len(expected["base"]["points"])
+    assert page.console_errors == []
 
 
 def test_core_error_is_shown_next_to_its_field(page, site):

@@ -48,12 +48,14 @@ onStatus((s) => {
     : s.ready ? `Calculator ready${app.coreVersion ? ` (core ${app.coreVersion})` : ""}`
       : `Calculator starting: ${s.detail || s.stage}${pct}`;
 });
-whenReady().then(async () => {
+// app.ready resolves once the core answered its version (null if it cannot boot).
+app.ready = whenReady().then(async () => {
   const v = await call("version");
   if (v.ok) app.coreVersion = v.result.core_version;
   bootLine.textContent = `Calculator ready (core ${app.coreVersion})`;
   document.body.dataset.coreReady = "1";
-}).catch(() => {});
+  return app.coreVersion;
+}).catch(() => null);
 
 // ---- offline state and updates ------------------------------------------------
 startOffline({

@@ -10,9 +10,10 @@ import { listRecords, getRecord, notExported, softDelete, restore, cachedResult,
 /** Verdicts of stored tests: from the cache when it matches the core version, else recomputed. */
 export async function verdictsFor(app, tests, byId) {
   const out = new Map();
+  const version = await app.ready; // the cache is valid only for the running core's version
   for (const rec of tests) {
-    let hit = app.coreVersion ? await cachedResult(rec, app.coreVersion) : undefined;
-    if (!hit && app.coreVersion) {
+    let hit = version ? await cachedResult(rec, version) : undefined;
+    if (!hit && version) {
       const resp = await evaluateRecord(rec, byId, app.settings);
       if (resp.ok) {
         hit = { verdict: resp.result.verdict };
