@@ -6,7 +6,7 @@ import { h, fill, fmt, fmtPct, table } from "./dom.js";
 
 const W = 360;
 const H = 250;
-const M = { left: 40, right: 12, top: 14, bottom: 44 };
+const M = { left: 40, right: 18, top: 14, bottom: 44 };
 
 function sizesOf({ sample, base, band, limits }) {
   const s = [];
