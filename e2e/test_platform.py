@@ -259,3 +259,16 @@ def test_axe_helper_runs_under_the_csp(page, site):
     assert results["testEngine"]["name"] == "axe-core" and results["passes"], "axe did not run"
     assert helpers.axe_violations(results) == []
     assert page.evaluate("() => window.tamisTest.violations") == []  # injecting axe broke no CSP rule
+
+
+def test_self_test_mismatch_blocks_ready(page, site):
+    selftest = json.loads((helpers.VENDOR / "selftest.json").read_text(encoding="utf-8"))
+    assert selftest["request"] and selftest["response"].startswith('{"schema":1')
+    # One character added to the expected answer: the worker must refuse to report ready.
+    tampered = dict(selftest, response=selftest["response"].replace('"ok":true', '"ok":true ', 1))
+    site.server.overrides["/vendor/selftest.json"] = (json.dumps(tampered).encode(), "application/json")
+    page.goto(site.page_url())
+    page.wait_for_function("() => window.tamisTest.statuses.some(s => s.error)", timeout=60_000)
+    status = page.evaluate("() => window.tamisTest.statuses.find(s => s.error)")
+    assert status["error"].startswith(f"self-test {selftest['name']} differs from its golden response")
+    assert not page.evaluate("() => window.tamisTest.statuses.some(s => s.ready)")

@@ -85,8 +85,8 @@ async function installCore(py, manifest) {
   }
 }
 
-function selfTestVersion(manifest) {
-  const text = handle(JSON.stringify({ schema: 1, op: "version", id: "selftest" }));
+function selfTestVersion(candidate, manifest) {
+  const text = candidate(JSON.stringify({ schema: 1, op: "version", id: "selftest" }));
   const answer = JSON.parse(text);
   if (!answer.ok || answer.result.core_version !== manifest.core_version) {
     throw new Error(`self-test failed: the version op answered ${text.slice(0, 300)}; ` +
@@ -95,10 +95,10 @@ function selfTestVersion(manifest) {
   return answer.result.core_version;
 }
 
-async function selfTestGolden(manifest) {
+async function selfTestGolden(candidate, manifest) {
   if (!manifest.selftest) return null;
   const golden = await (await fetchChecked(new URL(manifest.selftest, SITE), "the self-test case")).json();
-  const got = handle(golden.request);
+  const got = candidate(golden.request);
   if (got !== golden.response) {
     let i = 0;
     while (i < got.length && got[i] === golden.response[i]) i += 1;
@@ -215,11 +215,12 @@ async function boot() {
   mark("python_started_ms");
   status("core", `installing the tamis core (${INSTALL_MODE})`, 0.7);
   await Promise.race([aborted, installCore(py, manifest)]);
-  handle = py.pyimport("tamis.api").handle;
+  const candidate = py.pyimport("tamis.api").handle;
   mark("core_installed_ms");
   status("selftest", "checking the core", 0.9);
-  const coreVersion = selfTestVersion(manifest);
-  const goldenName = await selfTestGolden(manifest);
+  const coreVersion = selfTestVersion(candidate, manifest);
+  const goldenName = await selfTestGolden(candidate, manifest);
+  handle = candidate;  // requests are answered only once the self-test passed
   mark("selftest_ms");
   timings.total_ms = timings.selftest_ms;
   post({
