@@ -246,7 +246,8 @@ def test_whole_boot_requests_only_the_origin(page, site, guard):
     helpers.wait_worker_ready(page)
     helpers.wait_precached(page)
     assert guard.urls, "the guard saw no request at all"
-    assert any(u.endswith("/vendor/pyodide/pyodide.asm.wasm") for u in guard.urls)
+    assert any(u.endswith("/vendor/pyodide/pyodide.asm.wasm") for u in guard.urls)  # the Python worker's
+    assert any(u.endswith("/vendor/idb/umd.js") for u in guard.urls)  # only the service worker fetches this one
     guard.assert_clean()
     served = {path.split("?")[0] for _, path in site.requests}
     assert "/vendor/pyodide/python_stdlib.zip" in served and "/sw.js" in served
