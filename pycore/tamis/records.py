@@ -350,49 +350,58 @@ def record_cells(rec: dict) -> dict:
             extra[k] = v
     if extra:
         c["meta_extra_json"] = escape_text(dump_json(extra))
-    test = rec["test"]
-    if test is not None:
-        extra, wrote = {}, False
-        for k, v in test.items():
-            if k in TEST_NUM and _is_num(v):
-                c[k] = fmt_num(v)
-            elif k == "sieves" and _pairs_fit(v, "retained_g"):
-                for e in v:
-                    c[f"retained_g@{fmt_num(e['opening_mm'])}mm"] = fmt_num(e["retained_g"])
-            elif k == "passing" and _pairs_fit(v, "passing_pct"):
-                for e in v:
-                    c[f"passing_pct@{fmt_num(e['opening_mm'])}mm"] = fmt_num(e["passing_pct"])
-            elif k == "plasticity" and _plasticity_fit(v):
-                for pk, x in v.items():
-                    c[pk] = _bool_cell(x) if pk == "nonplastic" else fmt_num(x)
-            elif k == "dispersive" and isinstance(v, bool):
-                c["dispersive"] = _bool_cell(v)
-            else:
-                extra[k] = v
-                continue
-            wrote = True
-        if extra or not wrote:
-            c["test_extra_json"] = escape_text(dump_json(extra))
-    band = rec["band"]
-    if band is not None:
-        extra, wrote = {}, False
-        for k, v in band.items():
-            if k == "name" and isinstance(v, str):
-                c["band_name"] = escape_text(v)
-            elif k == "limits" and _limits_fit(v):
-                for e in v:
-                    o = fmt_num(e["opening_mm"])
-                    if e["min_pct"] is not None:
-                        c[f"band_min_pct@{o}mm"] = fmt_num(e["min_pct"])
-                    if e["max_pct"] is not None:
-                        c[f"band_max_pct@{o}mm"] = fmt_num(e["max_pct"])
-            else:
-                extra[k] = v
-                continue
-            wrote = True
-        if extra or not wrote:
-            c["band_extra_json"] = escape_text(dump_json(extra))
+    if rec["test"] is not None:
+        _group_cells(rec["test"], _test_cell, c, "test_extra_json")
+    if rec["band"] is not None:
+        _group_cells(rec["band"], _band_cell, c, "band_extra_json")
     return c
+
+
+def _group_cells(obj: dict, put, c: dict, extra_col: str) -> None:
+    """Write the keys of ``obj`` that ``put`` can hold in columns; the others, and an
+    empty object, go verbatim into the JSON column ``extra_col``."""
+    extra, wrote = {}, False
+    for k, v in obj.items():
+        if put(k, v, c):
+            wrote = True
+        else:
+            extra[k] = v
+    if extra or not wrote:
+        c[extra_col] = escape_text(dump_json(extra))
+
+
+def _test_cell(k: str, v, c: dict) -> bool:
+    """Put test key ``k`` into its columns if they hold it exactly; False if not."""
+    if k in TEST_NUM and _is_num(v):
+        c[k] = fmt_num(v)
+    elif k in ("sieves", "passing") and _pairs_fit(v, "retained_g" if k == "sieves" else "passing_pct"):
+        val = "retained_g" if k == "sieves" else "passing_pct"
+        for e in v:
+            c[f"{val}@{fmt_num(e['opening_mm'])}mm"] = fmt_num(e[val])
+    elif k == "plasticity" and _plasticity_fit(v):
+        for pk, x in v.items():
+            c[pk] = _bool_cell(x) if pk == "nonplastic" else fmt_num(x)
+    elif k == "dispersive" and isinstance(v, bool):
+        c["dispersive"] = _bool_cell(v)
+    else:
+        return False
+    return True
+
+
+def _band_cell(k: str, v, c: dict) -> bool:
+    """Put band key ``k`` into its columns if they hold it exactly; False if not."""
+    if k == "name" and isinstance(v, str):
+        c["band_name"] = escape_text(v)
+    elif k == "limits" and _limits_fit(v):
+        for e in v:
+            o = fmt_num(e["opening_mm"])
+            if e["min_pct"] is not None:
+                c[f"band_min_pct@{o}mm"] = fmt_num(e["min_pct"])
+            if e["max_pct"] is not None:
+                c[f"band_max_pct@{o}mm"] = fmt_num(e["max_pct"])
+    else:
+        return False
+    return True
 
 
 def header_for(cell_dicts) -> list[str]:
