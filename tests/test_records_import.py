@@ -202,3 +202,15 @@ def test_a_bad_row_late_in_a_long_file_rejects_the_whole_file():
     err = reject(bad, "csv.row[399].rev", "bad_rev")
     assert err["message"].startswith("Row 399, column rev")
     assert len(rows) == 401
+
+
+def test_lf_line_ends_and_a_bom_are_accepted():
+    """RFC 4180 asks for CRLF; a file rewritten by a tool with LF line ends is read the
+    same, and a UTF-8 BOM is skipped."""
+    text = good_file()
+    assert "\r\n" in text and "two\nlines" in text  # the note holds a bare LF, kept inside its quotes
+    crlf = call("records_import_csv", csv=text, existing=[])
+    for variant in ("\ufeff" + text, text.replace("\r\n", "\n")):
+        out = call("records_import_csv", csv=variant, existing=[])
+        assert out["ok"], out.get("error")
+        assert out["result"]["records"] == crlf["result"]["records"]
