@@ -39,9 +39,12 @@ async function tell(message) {
   for (const page of pages) page.postMessage({ type: "tamis-precache", version: BUILD.version, ...message });
 }
 
+// "no-cache": the HTTP cache may serve a file only after the server confirmed it
+// (304), so an update downloads only the files that changed; the sha256 check
+// below guards the result either way.
 async function precacheOne(cache, file) {
   const url = urlOf(file.path);
-  const response = await fetch(url, { cache: "reload", credentials: "same-origin" });
+  const response = await fetch(url, { cache: "no-cache", credentials: "same-origin" });
   if (!response.ok) throw new Error(`${file.path}: HTTP ${response.status}`);
   const body = await response.arrayBuffer();
   if (body.byteLength !== file.size || (await sha256Hex(body)) !== file.sha256) {
