@@ -94,3 +94,44 @@ def test_a_test_saved_offline_survives_reloads(page, site, context):
     page.wait_for_selector(".verdict-card .verdict")
     assert page.get_attribute(".verdict-card .verdict", "data-verdict") == verdict
     assert stored(page, rid)["test"]["sieves"][1]["retained_g"] == 12.4
+
+
+V1_SETUP = """async (rec) => {
+  await new Promise((resolve, reject) => {
+    const req = indexedDB.open('tamis', 1);
+    req.onupgradeneeded = () => {
+      const db = req.result;
+      const s = db.createObjectStore('records', {keyPath: 'record_id'});
+      s.createIndex('kind', 'kind');
+      s.createIndex('updated_at', 'updated_at');
+      db.createObjectStore('settings');
+    };
+    req.onsuccess = () => {
+      const tx = req.result.transaction('records', 'readwrite');
+      tx.objectStore('records').put(rec);
+      tx.oncomplete = () => { req.result.close(); resolve(); };
+      tx.onerror = () => reject(tx.error);
+    };
+    req.onerror = () => reject(req.error);
+  });
+}"""
+
+
+def test_a_version_1_database_is_migrated_and_keeps_its_records(page, site):
+    """A device still holding schema 1 (no results cache) opens with its records intact."""
+    rec = {"record_id": "6f1c2b1e-8a3d-4c55-9e0b-3f7a2d9c1b40", "kind": "test", "rev": 1,
+           "updated_at": "2026-11-30T08:00:00Z", "updated_by": "JQ", "deleted": False, "exported_at": None,
+           "meta": {"sample_id": "OLD-1", "project": "invented"},
+           "test": {"passing": [{"opening_mm": 4.75, "passing_pct": 100.0}, {"opening_mm": 0.075, "passing_pct": 3.0}]},
+           "band": None,
+           "history": [{"rev": 1, "at": "2026-11-30T08:00:00Z", "by": "JQ", "summary": "created", "changes": []}]}
+    page.goto(site.url + "vendor/manifest.json")  # any page of the origin, before the app opens its database
+    page.evaluate(V1_SETUP, rec)
+    open_app(page, site, "#/records")
+    assert page.locator(f"li.record-item[data-id='{rec['record_id']}']").count() == 1
+    info = page.evaluate("""() => new Promise((resolve) => {
+        const req = indexedDB.open('tamis');
+        req.onsuccess = () => { const db = req.result; resolve([db.version, [...db.objectStoreNames].sort()]); db.close(); };
+    })""")
+    assert info == [2, ["records", "results", "settings"]]
+    assert stored(page, rec["record_id"]) == rec
