@@ -51,8 +51,11 @@ export function startOffline({ onState = () => {}, onUpdate = () => {} } = {}) {
     else askStatus();
   });
 
+  let registered = null;
   function askStatus() {
-    if (sw.controller) sw.controller.postMessage({ type: "tamis-status" });
+    // The controlling worker, or the active one when a forced reload bypassed it.
+    const target = sw.controller || (registered && registered.active);
+    if (target) target.postMessage({ type: "tamis-status" });
   }
 
   function offer(registration) {
@@ -81,6 +84,7 @@ export function startOffline({ onState = () => {}, onUpdate = () => {} } = {}) {
   }
 
   const ready = sw.register(SW_URL, { updateViaCache: "none" }).then((registration) => {
+    registered = registration;
     watch(registration);
     askStatus();
     return registration;
