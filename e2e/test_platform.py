@@ -171,6 +171,7 @@ def test_offline_reload_after_full_precache(page, site, context):
     site.stop()  # nothing can answer now: only the service worker's cache
     response = page.reload()
     assert response.from_service_worker
+    assert response.headers.get("content-security-policy") == helpers.serve.CSP  # the policy holds offline too
     assert page.evaluate("() => navigator.onLine") is False
     helpers.wait_worker_ready(page)
     request = _small_gradation_request("offline-1")
