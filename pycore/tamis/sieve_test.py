@@ -287,16 +287,68 @@ def parse_masses(test: dict, path: str) -> SieveTest:
     return SieveTest("masses", tuple(rows), curve, masses, checks, tuple(findings))
 
 
-def parse_passing(test: dict, path: str) -> SieveTest:
-    """Reduce the percent-passing form of a test (no mass checks apply)."""
-    pp = join(path, "passing")
-    items = require_list(test.get("passing"), pp)
+def _d_value_points(test: dict, path: str) -> list[tuple[float, float, str]]:
+    """Points (size_mm, passing_pct, field path) from ``d_mm``: ``{"D15": 0.21, "D85": 1.4}``.
+
+    A D-value is a point of the curve (the size at that percent passing), so a
+    supplier's D-values are taken as measured points, nothing more: between
+    them the curve is read log-linearly like any other, outside them nothing is
+    known.
+    """
+    dp = join(path, "d_mm")
+    d = require_mapping(test.get("d_mm"), dp)
     pts = []
-    for i, it in enumerate(items):
-        ip = join(pp, i)
-        require_mapping(it, ip)
-        pts.append((resolve_opening(it, ip), number(it, "passing_pct", ip)))
-    curve = make_curve(pts, pp)
+    for key in d:
+        kp = join(dp, key)
+        pct_text = key[1:] if isinstance(key, str) and key[:1] in "Dd" else ""
+        try:
+            pct = float(pct_text)
+        except ValueError:
+            pct = -1.0
+        if not 0.0 <= pct <= 100.0:
+            raise InputError("bad_d_value_name", f"{kp}: a D-value is named D followed by its percent passing "
+                             "(D15, D85, D60...).", kp)
+        size = number(d, key, dp, exclusive_minimum=0.0)
+        pts.append((size, pct, kp))
+    return pts
+
+
+def parse_passing(test: dict, path: str) -> SieveTest:
+    """Reduce the percent-passing form of a test (no mass checks apply).
+
+    The points come from ``passing`` (sieve openings with percent passing)
+    and/or ``d_mm`` (D-values, e.g. from a supplier's sheet), merged into one
+    curve.
+    """
+    pts: list[tuple[float, float, str]] = []
+    if test.get("passing") is not None:
+        pp = join(path, "passing")
+        for i, it in enumerate(require_list(test.get("passing"), pp)):
+            ip = join(pp, i)
+            require_mapping(it, ip)
+            pts.append((resolve_opening(it, ip), number(it, "passing_pct", ip), ip))
+    if test.get("d_mm") is not None:
+        pts.extend(_d_value_points(test, path))
+    try:
+        curve = make_curve([(d, p) for d, p, _ in pts], "points")
+    except InputError as err:
+        # make_curve names "points[i]..."; point the error at the field the user typed.
+        field = err.field
+        for i, (_, _, fp) in enumerate(pts):
+            head = f"points[{i}]"
+            if field == head or field.startswith(head + "."):
+                tail = field[len(head):]
+                field = fp + (tail if not fp.startswith(join(path, "d_mm")) else "")
+                break
+        msg = err.message
+        for i, (_, _, fp) in reversed(list(enumerate(pts))):
+            if fp.startswith(join(path, "d_mm")):
+                for tail in (".opening_mm", ".passing_pct"):
+                    msg = msg.replace(f"points[{i}]{tail}", fp)
+            msg = msg.replace(f"points[{i}]", fp)
+        if field == "points":
+            field = join(path, "passing")
+        raise InputError(err.code, msg.replace("points", join(path, "passing")), field)
     order = sorted(range(len(pts)), key=lambda i: -pts[i][0])
     rows = tuple(Row(d, label_for(d), None, None, None, p, i)
                  for i, (d, p) in zip(order, curve.points))
@@ -304,21 +356,30 @@ def parse_passing(test: dict, path: str) -> SieveTest:
     checks = tuple(Check(cid, NOT_APPLICABLE, why, source=src) for cid, src in
                    (("qa.mass_balance", SRC_MASS_BALANCE), ("qa.sieve_overload", SRC_OVERLOAD),
                     ("qa.specimen_mass", SRC_SPECIMEN)))
-    return SieveTest("passing", rows, curve, None, checks, ())
+    findings: tuple[Finding, ...] = ()
+    if test.get("d_mm") is not None:
+        findings = (Finding("note", "curve_from_d_values",
+                            "Part of this curve was given as D-values: the curve is known only at the points given "
+                            "and read log-linearly between them; checks that need other sizes report missing data.",
+                            join(path, "d_mm")),)
+    return SieveTest("passing", rows, curve, None, checks, findings)
 
 
 def parse_test(test, path: str = "test") -> SieveTest:
     """Parse and reduce one test (either form). Raises :class:`InputError` with field paths."""
     require_mapping(test, path)
-    has_sieves, has_passing = test.get("sieves") is not None, test.get("passing") is not None
+    has_sieves = test.get("sieves") is not None
+    has_passing = test.get("passing") is not None or test.get("d_mm") is not None
     if has_sieves and has_passing:
-        raise InputError("conflicting_fields", f"{path} has both sieves (masses) and passing; give one.",
-                         join(path, "passing"))
+        which = "passing" if test.get("passing") is not None else "d_mm"
+        raise InputError("conflicting_fields", f"{path} has both sieves (masses) and {which}; give one form.",
+                         join(path, which))
     if has_passing:
         return parse_passing(test, path)
     if not has_sieves:
-        raise InputError("missing_field", f"{join(path, 'sieves')} (masses) or {join(path, 'passing')} "
-                         "(percent passing) is required.", join(path, "sieves"))
+        raise InputError("missing_field", f"{join(path, 'sieves')} (masses), {join(path, 'passing')} "
+                         f"(percent passing) or {join(path, 'd_mm')} (D-values) is required.",
+                         join(path, "sieves"))
     return parse_masses(test, path)
 
 
