@@ -22,6 +22,7 @@ References
 from __future__ import annotations
 
 import math
+from bisect import bisect_right
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -57,32 +58,41 @@ _ATANH_COEFFS = tuple(1.0 / (2 * k + 1) for k in range(1, 13))
 _EXP_COEFFS = tuple(1.0 / math.factorial(n) for n in range(18))
 
 
+# The polynomials are written out (Horner form, same order of operations as a
+# loop ``acc = acc * r + c`` from the highest coefficient): the same bits, with
+# no loop overhead.
+(_A1, _A2, _A3, _A4, _A5, _A6, _A7, _A8, _A9, _A10, _A11, _A12) = _ATANH_COEFFS
+(_E0, _E1, _E2, _E3, _E4, _E5, _E6, _E7, _E8, _E9, _E10, _E11, _E12, _E13, _E14, _E15, _E16,
+ _E17) = _EXP_COEFFS
+_LN2 = _LN2_HI + _LN2_LO
+
+
 def ln(x: float) -> float:
     """Natural logarithm of ``x`` > 0, platform-independent to the last bit."""
     m, e = math.frexp(x)            # x = m * 2**e, 0.5 <= m < 1, exact
     if m < _SQRT_HALF:
         m, e = m * 2.0, e - 1       # m in [sqrt(1/2), sqrt(2)), exact
     s = (m - 1.0) / (m + 1.0)       # ln m = 2 atanh s, |s| < 0.172
-    s2 = s * s
-    poly = 0.0
-    for c in reversed(_ATANH_COEFFS):
-        poly = (poly + c) * s2
+    z = s * s
+    # poly = s2 (1/3 + s2 (1/5 + ... + s2 (1/25)))
+    poly = (((((((((((_A12 * z + _A11) * z + _A10) * z + _A9) * z + _A8) * z + _A7) * z + _A6) * z + _A5) * z
+                 + _A4) * z + _A3) * z + _A2) * z + _A1) * z
     return (e * _LN2_HI + 2.0 * s) + (2.0 * s * poly + e * _LN2_LO)
 
 
 def exp(y: float) -> float:
     """Exponential of ``y`` (|y| < 700), platform-independent to the last bit."""
-    k = int(round(y / (_LN2_HI + _LN2_LO)))
+    k = round(y / _LN2)                     # an int
     r = (y - k * _LN2_HI) - k * _LN2_LO     # |r| <= ~0.347
-    acc = 0.0
-    for c in reversed(_EXP_COEFFS):
-        acc = acc * r + c
+    acc = ((((((((((((((((_E17 * r + _E16) * r + _E15) * r + _E14) * r + _E13) * r + _E12) * r + _E11) * r
+                     + _E10) * r + _E9) * r + _E8) * r + _E7) * r + _E6) * r + _E5) * r + _E4) * r + _E3) * r
+            + _E2) * r + _E1) * r + _E0
     return math.ldexp(acc, k)
 
 
 def same_size(a_mm: float, b_mm: float) -> bool:
     """True when two openings [mm] denote the same sieve."""
-    return abs(a_mm - b_mm) <= SAME_SIEVE_RTOL * max(a_mm, b_mm)
+    return abs(a_mm - b_mm) <= SAME_SIEVE_RTOL * (a_mm if a_mm > b_mm else b_mm)
 
 
 @dataclass(frozen=True)
@@ -113,6 +123,49 @@ class Curve:
     def log_sizes(self) -> tuple[float, ...]:
         """ln(opening_mm) of each point, computed once (:func:`ln`)."""
         return tuple(ln(d) for d, _ in self.points)
+
+    @cached_property
+    def _neg_sizes(self) -> tuple[float, ...] | None:
+        """-opening_mm of each point (increasing, for :func:`bisect.bisect_right`),
+        or ``None`` when two neighbouring points are not distinct sieves
+        (:func:`same_size`) and a reader must scan every point instead."""
+        pts = self.points
+        for (d1, _), (d2, _) in zip(pts, pts[1:]):
+            if not d1 > d2 or same_size(d1, d2):
+                return None
+        return tuple(-d for d, _ in pts)
+
+    def index_at(self, size_mm: float) -> tuple[int, bool]:
+        """``(k, on_point)`` for the first point k, coarse to fine, that is the
+        same sieve as ``size_mm`` (``on_point`` True) or finer than it (False);
+        ``k == len(points)`` when every point is coarser than ``size_mm``.
+
+        Same answer as scanning the points in order. On curves whose
+        neighbouring points are distinct sieves (every curve made by
+        :func:`make_curve`) only the two points either side of ``size_mm``
+        need to be compared: a coarser point that is the same sieve as
+        ``size_mm`` would also be the same sieve as every point between them.
+        """
+        pts = self.points
+        neg = self._neg_sizes
+        if neg is None:
+            for k, (d, _) in enumerate(pts):
+                if same_size(size_mm, d):
+                    return k, True
+                if size_mm > d:
+                    return k, False
+            return len(pts), False
+        j = bisect_right(neg, -size_mm)     # first point finer than size_mm (opening < size_mm)
+        # same_size() written out (this is the inner loop of the stability scans)
+        if j > 0:
+            d = pts[j - 1][0]               # d >= size_mm
+            if d - size_mm <= SAME_SIEVE_RTOL * d:
+                return j - 1, True
+        if j < len(pts):
+            d = pts[j][0]                   # d < size_mm
+            if size_mm - d <= SAME_SIEVE_RTOL * size_mm:
+                return j, True
+        return j, False
 
 
 def make_curve(points, path: str = "passing") -> Curve:
@@ -211,20 +264,17 @@ def passing_at(curve: Curve, size_mm: float) -> float | None:
     if size_mm <= 0 or not math.isfinite(size_mm):
         return None
     pts = curve.points
-    d0, p0 = pts[0]
-    if same_size(size_mm, d0):
-        return p0
-    if size_mm > d0:
-        return 100.0 if p0 >= 100.0 else None
-    for k in range(1, len(pts)):
-        d_s, p_s = pts[k]
-        if same_size(size_mm, d_s):
-            return p_s
-        if size_mm > d_s:
-            logs = curve.log_sizes
-            t = (ln(size_mm) - logs[k]) / (logs[k - 1] - logs[k])
-            return p_s + t * (pts[k - 1][1] - p_s)
-    return 0.0 if pts[-1][1] <= 0.0 else None
+    k, on_point = curve.index_at(size_mm)
+    if on_point:
+        return pts[k][1]
+    if k == 0:
+        return 100.0 if pts[0][1] >= 100.0 else None
+    if k == len(pts):
+        return 0.0 if pts[-1][1] <= 0.0 else None
+    p_s = pts[k][1]
+    logs = curve.log_sizes
+    t = (ln(size_mm) - logs[k]) / (logs[k - 1] - logs[k])
+    return p_s + t * (pts[k - 1][1] - p_s)
 
 
 def d_values(curve: Curve, pcts=STANDARD_D_PCTS) -> dict[str, float | None]:
@@ -333,9 +383,9 @@ def fineness_modulus(curve: Curve) -> float | None:
     passes 100 %; otherwise the modulus is ``None``.
     """
     total = 0.0
-    measured = {d: p for d, p in curve.points}
     for s in FM_SIEVES_MM:
-        hit = next((p for d, p in measured.items() if same_size(d, s)), None)
+        k, on_point = curve.index_at(s)
+        hit = curve.points[k][1] if on_point else None
         if hit is None:
             if s > curve.coarsest_mm and curve.points[0][1] >= 100.0:
                 hit = 100.0

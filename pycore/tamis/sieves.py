@@ -21,6 +21,7 @@ are conveniences, not requirements of any standard.
 from __future__ import annotations
 
 import re
+from bisect import bisect_right
 
 from .curve import same_size
 from .errors import InputError, join, number
@@ -78,6 +79,22 @@ def _mm_label(opening_mm: float) -> str:
 
 
 _E11_EXACT: dict[float, str] = dict(ASTM_E11)
+_E11_NEG_MM: tuple[float, ...] = tuple(-d for d, _ in ASTM_E11)   # increasing, for bisect
+
+
+def _e11_index(opening_mm: float) -> int | None:
+    """Index in :data:`ASTM_E11` of the first sieve that is the same as
+    ``opening_mm`` (:func:`tamis.curve.same_size`), or ``None``.
+
+    The table's openings are distinct sieves, coarsest first, so only the two
+    entries either side of ``opening_mm`` can match (a farther one would also
+    match every entry between): the same answer as scanning the whole table.
+    """
+    j = bisect_right(_E11_NEG_MM, -opening_mm)     # first entry finer than opening_mm
+    for i in (j - 1, j):
+        if 0 <= i < len(ASTM_E11) and same_size(ASTM_E11[i][0], opening_mm):
+            return i
+    return None
 
 
 def label_for(opening_mm: float) -> str:
@@ -86,17 +103,15 @@ def label_for(opening_mm: float) -> str:
     exact = _E11_EXACT.get(opening_mm)
     if exact is not None:
         return exact
-    for d, name in ASTM_E11:
-        if same_size(d, opening_mm):
-            return name
-    return _mm_label(opening_mm)
+    i = _e11_index(opening_mm)
+    return _mm_label(opening_mm) if i is None else ASTM_E11[i][1]
 
 
 def series_of(opening_mm: float) -> str:
     """``"ASTM E11"``, ``"ISO 3310-1"``, ``"EN 933-2"``, both joined with ``" / "``,
     or ``"other"``."""
     names = []
-    if any(same_size(d, opening_mm) for d, _ in ASTM_E11):
+    if _e11_index(opening_mm) is not None:
         names.append("ASTM E11")
     if any(same_size(d, opening_mm) for d in ISO_R20_3_MM):
         names.append("ISO 3310-1")

@@ -155,11 +155,18 @@ def hf_scan(curve: Curve, f_max_pct: float) -> tuple[list[tuple[float, float, fl
     return samples, complete
 
 
-def _hf_prepare(curve: Curve, check_id: str, name: str, limit=None, unit: str = "-"):
-    """The H/F scan shared by Kenney & Lau and Li & Fannin: (samples, complete,
-    extra, None), or a ``needs_data`` check in the last place when nothing can be scanned."""
+def hf_scan_of(curve: Curve) -> tuple[float, str, list[tuple[float, float, float]], bool]:
+    """``(f_max_pct, basis, samples, complete)``: the H/F scan over the Kenney & Lau
+    F range of this curve (:func:`_kl_f_max`, :func:`hf_scan`)."""
     f_max, basis = _kl_f_max(curve)
     samples, complete = hf_scan(curve, f_max)
+    return f_max, basis, samples, complete
+
+
+def _hf_prepare(curve: Curve, check_id: str, name: str, limit=None, unit: str = "-", scan=None):
+    """The H/F scan shared by Kenney & Lau and Li & Fannin: (samples, complete,
+    extra, None), or a ``needs_data`` check in the last place when nothing can be scanned."""
+    f_max, basis, samples, complete = hf_scan_of(curve) if scan is None else scan
     extra = {"f_max_pct": f_max, "f_range_basis": basis, "complete": complete}
     if samples:
         return samples, complete, extra, None
@@ -168,11 +175,14 @@ def _hf_prepare(curve: Curve, check_id: str, name: str, limit=None, unit: str = 
         limit=limit, relation=">=", unit=unit, extra=extra)
 
 
-def kenney_lau(curve: Curve, boundary: float = 1.0) -> Check:
+def kenney_lau(curve: Curve, boundary: float = 1.0, *, scan=None) -> Check:
     """Kenney & Lau: stable when (H/F)min >= boundary (1.0, 1986 reply; 1.3, 1985)
-    over F <= 20 % (Cu > 3) or F <= 30 % (Cu <= 3)."""
+    over F <= 20 % (Cu > 3) or F <= 30 % (Cu <= 3).
+
+    ``scan``: the ``(f_max_pct, basis, samples, complete)`` of :func:`hf_scan_of`
+    for this curve, when the caller already has it (the scan is the costly part)."""
     samples, complete, extra, missing = _hf_prepare(curve, "stability.kenney_lau", "Kenney & Lau",
-                                                    limit=boundary, unit="-")
+                                                    limit=boundary, unit="-", scan=scan)
     if missing:
         return missing
     extra = {"f_max_pct": extra["f_max_pct"], "f_range_basis": extra["f_range_basis"], "boundary": boundary,
@@ -189,10 +199,11 @@ def kenney_lau(curve: Curve, boundary: float = 1.0) -> Check:
                       value=r, limit=boundary, relation=">=", unit="-", extra=extra)
 
 
-def li_fannin_2008(curve: Curve) -> Check:
+def li_fannin_2008(curve: Curve, *, scan=None) -> Check:
     """Li & Fannin: unstable when H < F for F < 15 %, or H < 15 % for F >= 15 %,
-    over the Kenney & Lau F range."""
-    samples, complete, extra, missing = _hf_prepare(curve, "stability.li_fannin", "Li & Fannin", unit="%")
+    over the Kenney & Lau F range (``scan`` as for :func:`kenney_lau`)."""
+    samples, complete, extra, missing = _hf_prepare(curve, "stability.li_fannin", "Li & Fannin", unit="%",
+                                                    scan=scan)
     if missing:
         return missing
 
@@ -316,5 +327,6 @@ def istomina_1957(curve: Curve) -> Check:
 def stability_checks(curve: Curve, kenney_lau_boundary: float = 1.0) -> tuple[list[Check], list[Finding]]:
     """All internal-stability methods, each its own check."""
     wf, findings = wan_fell_2008(curve)
-    return [kezdi_1979(curve), kenney_lau(curve, kenney_lau_boundary), li_fannin_2008(curve),
+    scan = hf_scan_of(curve)            # one scan for both H/F methods
+    return [kezdi_1979(curve), kenney_lau(curve, kenney_lau_boundary, scan=scan), li_fannin_2008(curve, scan=scan),
             burenkova_1993(curve), wf, istomina_1957(curve)], findings

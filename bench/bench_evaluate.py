@@ -1,0 +1,119 @@
+"""Latency of ``evaluate`` and ``gradation`` through tamis.api.handle, now against a
+git revision of the core, in the same process (printed, never asserted).
+
+    python bench/bench_evaluate.py [--n 300] [--baseline HEAD] [--rounds 5]
+
+The requests are ``--n`` invented tests on a filter-sand stack (the generator
+of ``bench_api.py``) sent as ``gradation`` and as ``evaluate`` (every
+filter-material and internal-stability check), plus every ``evaluate`` golden
+request (tests/golden: filters against base soils, bands, zone sequences).
+
+With ``--baseline REV`` the package ``pycore/tamis`` of that revision is taken
+from git (``git archive``) into a temporary directory and imported under
+another name, so both versions answer the same requests in one process. Rounds
+alternate between the two, and the fastest round of each is kept, so a
+machine loaded by other work slows both alike. It prints milliseconds per
+request, requests per second and the ratio baseline / now, and compares every
+answer byte for byte: the exit status is 1 only if an answer differs.
+"""
+
+from __future__ import annotations
+
+import argparse
+import importlib
+import io
+import pathlib
+import subprocess
+import sys
+import tarfile
+import tempfile
+import time
+
+HERE = pathlib.Path(__file__).resolve().parent
+ROOT = HERE.parent
+sys.path.insert(0, str(ROOT / "pycore"))
+sys.path.insert(0, str(HERE))
+
+from tamis import api  # noqa: E402
+
+BASELINE_PACKAGE = "tamis_baseline"
+
+
+def load_baseline(rev: str, into: pathlib.Path):
+    """The package ``pycore/tamis`` at git revision ``rev``, imported as
+    :data:`BASELINE_PACKAGE` from a copy in ``into`` (its api.OPS pointed at it)."""
+    tar = subprocess.run(["git", "-C", str(ROOT), "archive", rev, "pycore/tamis"], check=True,
+                         capture_output=True).stdout
+    with tarfile.open(fileobj=io.BytesIO(tar)) as tf:
+        tf.extractall(into, filter="data") if hasattr(tarfile, "data_filter") else tf.extractall(into)
+    (into / "pycore" / "tamis").rename(into / BASELINE_PACKAGE)
+    sys.path.insert(0, str(into))
+    base_api = importlib.import_module(f"{BASELINE_PACKAGE}.api")
+    base_api.OPS = {op: target.replace("tamis.", f"{BASELINE_PACKAGE}.", 1) for op, target in base_api.OPS.items()}
+    return importlib.import_module(BASELINE_PACKAGE)
+
+
+def golden_requests(op: str) -> list[str]:
+    return [p.read_text(encoding="utf-8") for p in sorted((ROOT / "tests" / "golden").glob(f"{op}*.request.json"))]
+
+
+def request_sets(n: int) -> dict[str, list[str]]:
+    import bench_api
+
+    masses, pans, drys = bench_api.invent(n, 1)
+    return {"gradation (invented)": bench_api.requests("gradation", masses, pans, drys),
+            "evaluate (invented)": bench_api.requests("evaluate", masses, pans, drys),
+            "evaluate (golden)": golden_requests("evaluate")}
+
+
+def best_round(handle, reqs: list[str]) -> tuple[float, list[str]]:
+    """``(seconds, answers)`` of one pass over ``reqs``."""
+    t0 = time.perf_counter()
+    out = [handle(r) for r in reqs]
+    return time.perf_counter() - t0, out
+
+
+def compare(name: str, reqs: list[str], handles: dict, rounds: int) -> bool:
+    """Time each handle on ``reqs`` (alternating rounds, fastest kept); print; True when answers agree."""
+    best = {k: float("inf") for k in handles}
+    answers = {}
+    for _ in range(rounds):
+        for k, h in handles.items():
+            dt, answers[k] = best_round(h, reqs)
+            best[k] = min(best[k], dt)
+    line = [f"{name}: {len(reqs)} requests"]
+    for k, dt in best.items():
+        line.append(f"{k} {1e3 * dt / len(reqs):.3f} ms/request ({len(reqs) / dt:,.0f}/s)")
+    same = True
+    if "baseline" in best:
+        line.append(f"speed-up x{best['baseline'] / best['now']:.2f}")
+        same = answers["now"] == answers["baseline"]
+        diff = sum(a != b for a, b in zip(answers["now"], answers["baseline"]))
+        line.append("answers byte-identical" if same else f"ANSWERS DIFFER in {diff} requests")
+    print("; ".join(line), flush=True)
+    return same
+
+
+def main(argv=None) -> int:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--n", type=int, default=300, help="invented tests per set (default 300)")
+    ap.add_argument("--baseline", metavar="REV", help="git revision to compare with (e.g. HEAD~3)")
+    ap.add_argument("--rounds", type=int, default=5, help="rounds per version; the fastest is kept (default 5)")
+    args = ap.parse_args(argv)
+    sets = request_sets(max(1, args.n))
+    with tempfile.TemporaryDirectory() as tmp:
+        handles = {"now": api.handle}
+        if args.baseline:
+            base = load_baseline(args.baseline, pathlib.Path(tmp))
+            handles["baseline"] = importlib.import_module(f"{base.__name__}.api").handle
+            print(f"baseline: {args.baseline} (core {base.__version__}); now: working tree (core "
+                  f"{importlib.import_module('tamis').__version__}); CPython {sys.version.split()[0]}", flush=True)
+        for h in handles.values():      # first use imports the op modules: not timed
+            for reqs in sets.values():
+                h(reqs[0])
+        ok = all([compare(name, reqs, handles, max(1, args.rounds)) for name, reqs in sets.items()])
+    return 0 if ok else 1
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())
