@@ -274,3 +274,46 @@ def test_self_test_mismatch_blocks_ready(page, site):
     status = page.evaluate("() => window.tamisTest.statuses.find(s => s.error)")
     assert status["error"].startswith(f"self-test {selftest['name']} differs from its golden response")
     assert not page.evaluate("() => window.tamisTest.statuses.some(s => s.ready)")
+
+
+def test_superseded_request_is_never_sent_to_the_worker(page, site):
+    # A scripted stand-in for the worker shows what reaches it: nothing before
+    # ready, one request in flight at a time, and a request superseded while
+    # waiting is never posted.
+    page.goto(site.page_url("bridge_fake.html"))
+    page.wait_for_function("() => window.bridgeTest")
+    seen = page.evaluate("""async () => {
+        const { bridge, worker } = window.bridgeTest;
+        const tick = () => new Promise((r) => setTimeout(r, 0));
+        const ids = () => worker().received.map((m) => JSON.parse(m.json).id);
+        const results = {};
+        const ask = (id, key) => bridge.call('version', { id }, { key }).then((r) => { results[id] = r; });
+        const early = ask('early', 'other');
+        await tick();
+        const beforeReady = ids();
+        if (worker().options.type !== 'module') throw new Error('the worker is not a module worker');
+        worker().ready();
+        await tick();
+        const afterReady = ids();
+        worker().answerNext();               // 'early'
+        await early;
+        const a = ask('a', 'verdict');       // sent at once: the worker is idle
+        await tick();
+        const rest = ['b', 'c', 'd'].map((id) => ask(id, 'verdict'));
+        await tick();
+        const whileBusy = ids();
+        worker().answerNext();               // 'a' finishes; its answer is dropped, 'd' goes out
+        await tick();
+        const afterA = ids();
+        worker().answerNext();               // 'd'
+        await Promise.all([a, ...rest]);
+        return { beforeReady, afterReady, whileBusy, afterA, results };
+    }""")
+    assert seen["beforeReady"] == []                     # nothing is sent before the self-test passed
+    assert seen["afterReady"] == ["early"]
+    assert seen["whileBusy"] == ["early", "a"]           # one request in flight at a time
+    assert seen["afterA"] == ["early", "a", "d"]         # b and c were superseded while waiting: never sent
+    results = seen["results"]
+    assert results["a"] == results["b"] == results["c"] == {"superseded": True}
+    assert results["d"]["id"] == "d" and results["d"]["ok"] is True
+    assert results["early"]["id"] == "early"
