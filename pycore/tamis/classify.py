@@ -204,6 +204,15 @@ def classify(curve: Curve, plasticity: Plasticity | None = None) -> Uscs:
         c, fr = rg.curve, fractions(rg.curve)
         basis.append(f"{100.0 - rg.passing_on_pct:.2f} % cobbles and boulders (> 75 mm) set aside; "
                      "classified on the minus-75 mm fraction (name: add 'with cobbles')")
+    if fr.fines_pct is not None and fr.fines_pct >= 50.0 and fr.gravel_pct is None:
+        # The top sieve retains material of unknown size, but the minus-75 mm fraction has at least as
+        # large a share of fines as the whole sample (fines / P(75) >= fines), so the soil is fine-grained
+        # (D2487: 50 % or more passes No. 200) and its symbol follows from the plasticity alone. The group
+        # name needs the coarse fractions, which are not known.
+        u = classify_fine(0.0, 0.0, fr.fines_pct, p)
+        need = list(u.needs) + ["needs a top sieve that passes 100 % (the gravel fraction is not known) "
+                                "for the group name"]
+        return Uscs(u.symbol, None, basis + list(u.basis), need, warnings, list(u.candidates))
     if fr.fines_pct is None or fr.sand_pct is None or fr.gravel_pct is None:
         need = []
         if fr.fines_pct is None:

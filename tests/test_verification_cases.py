@@ -1,0 +1,64 @@
+"""Regression cases found by comparing the core with an independent implementation of the published rules.
+
+Each case was a disagreement between ``tamis.api.handle`` and a separate implementation written from the
+reference notes and the documented conventions (log-linear D-values, regrading on 4.75 mm, base categories by A).
+The inputs are invented test cases, not data claims; the expected values come from the independent computation
+and the published rule quoted beside each test.
+"""
+
+from __future__ import annotations
+
+import pytest
+
+from conftest import call_api
+
+
+def _passing(points, **more):
+    t = {"passing": [{"opening_mm": d, "passing_pct": p} for d, p in points]}
+    t.update(more)
+    return t
+
+
+# ASTM D2487 (read in published reproductions of its criteria): a soil is fine-grained when 50 % or more
+# passes the No. 200 (0.075 mm) sieve, counted on the fraction finer than 75 mm (D2487-17 §1.2, read).
+# When the top sieve retains material of unknown size, the minus-75 mm fraction holds at least the share of
+# fines of the whole sample (fines / P(75 mm) >= fines), so 50 % fines of the whole sample already make the
+# soil fine-grained and its symbol follows from the plasticity chart (A-line PI = 0.73 (LL - 20), read;
+# CL PI > 7 on or above it, ML below it or PI < 4, from memory). The core used to return no symbol here.
+TOP_RETAINS = [(63.0, 97.0), (4.75, 52.0), (0.6, 51.0), (0.075, 50.0)]
+
+
+@pytest.mark.parametrize("plasticity, symbol", [
+    ({"nonplastic": True}, "ML"),                              # nonplastic fines count as ML
+    ({"liquid_limit": 30, "plasticity_index": 12}, "CL"),      # A-line at LL 30: 7.3; PI 12 > 7, above it
+    ({"liquid_limit": 60, "plasticity_index": 35}, "CH"),      # LL >= 50, A-line 29.2, above it
+    ({"liquid_limit": 60, "plasticity_index": 10}, "MH"),      # LL >= 50, below the A-line
+    ({"liquid_limit": 22, "plasticity_index": 5}, "CL-ML"),    # 4 <= PI <= 7, above the A-line (1.46)
+])
+def test_fine_grained_symbol_when_top_sieve_retains_material(plasticity, symbol):
+    res = call_api("gradation", test=_passing(TOP_RETAINS, plasticity=plasticity))["result"]
+    assert res["gravel_pct"] is None          # the gravel fraction is still unknown (never assumed)
+    assert res["uscs"]["symbol"] == symbol
+    assert res["uscs"]["name"] is None        # the group name needs the coarse fractions
+    assert any("top sieve" in n for n in res["uscs"]["needs"])
+
+
+def test_fine_grained_without_limits_still_needs_them():
+    res = call_api("gradation", test=_passing(TOP_RETAINS))["result"]
+    assert res["uscs"]["symbol"] is None
+    assert set(res["uscs"]["candidates"]) == {"CL", "ML", "CL-ML", "CH", "MH"}
+
+
+def test_just_below_50_pct_fines_with_unknown_top_stays_undecided():
+    # 49.9 % fines of the whole sample and 3 % of unknown size above 63 mm: the minus-75 mm fraction has
+    # between 49.9 % and 51.4 % fines, so coarse- or fine-grained cannot be decided (D2487, 50 % limit).
+    pts = [(63.0, 97.0), (4.75, 52.0), (0.6, 51.0), (0.075, 49.9)]
+    res = call_api("gradation", test=_passing(pts, plasticity={"nonplastic": True}))["result"]
+    assert res["uscs"]["symbol"] is None
+
+
+def test_fine_grained_with_a_19mm_top_sieve():
+    # Top sieve 19 mm passing 60 %: P(75 mm) is unknown, fines 50 % of the whole sample: CL (as above).
+    pts = [(19.0, 60.0), (4.75, 52.0), (0.6, 51.0), (0.075, 50.0)]
+    res = call_api("gradation", test=_passing(pts, plasticity={"liquid_limit": 30, "plasticity_index": 12}))
+    assert res["result"]["uscs"]["symbol"] == "CL"
