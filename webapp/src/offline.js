@@ -77,7 +77,11 @@ export function startOffline({ onState = () => {}, onUpdate = () => {} } = {}) {
         if (installing.state === "installed") offer(registration);
         if (installing.state === "activated" && !activeVersion) askStatus();
         if (installing.state === "redundant" && !registration.waiting && !registration.active) {
-          emit({ precached: false, error: state.error || "saving the app for offline use failed" });
+          // The worker's own message names the file that failed; it may arrive
+          // just after this event, so the generic text waits for it briefly.
+          setTimeout(() => {
+            if (!state.error) emit({ precached: false, error: "saving the app for offline use failed" });
+          }, 1000);
         }
       });
     });
