@@ -62,3 +62,29 @@ def test_fine_grained_with_a_19mm_top_sieve():
     pts = [(19.0, 60.0), (4.75, 52.0), (0.6, 51.0), (0.075, 50.0)]
     res = call_api("gradation", test=_passing(pts, plasticity={"liquid_limit": 30, "plasticity_index": 12}))
     assert res["result"]["uscs"]["symbol"] == "CL"
+
+
+# NRCS NEH 633-26 (1994) category 2 (40 <= A <= 85 %): D15F <= 0.7 mm; dispersive base 0.5 mm (both from
+# memory, see docs/criteria.md). The independent implementation gives "pass" for a non-dispersive base; the
+# core warns when dispersion is not reported and the filter meets only the 0.7 mm limit (its documented
+# conservative reading), passes when the base is declared non-dispersive and fails when it is dispersive.
+CAT2_BASE = _passing([(4.75, 100.0), (0.425, 90.0), (0.075, 60.0), (0.005, 20.0), (0.001, 5.0)],
+                     plasticity={"liquid_limit": 35, "plasticity_index": 15})
+# Filter with D15 = 0.6 mm exactly (a measured point at 15 %), between the two limits.
+FILTER_D15_06 = _passing([(9.5, 100.0), (4.75, 95.0), (1.18, 50.0), (0.6, 15.0), (0.075, 2.0)],
+                         plasticity={"nonplastic": True})
+
+
+@pytest.mark.parametrize("rules, status", [
+    ({}, "warn"),
+    ({"dispersive": False}, "pass"),
+    ({"dispersive": True}, "fail"),
+])
+def test_category_2_retention_with_unknown_dispersion(rules, status):
+    res = call_api("evaluate", sample=FILTER_D15_06, base=CAT2_BASE, rules=rules)["result"]
+    assert res["base_category"] == 2
+    assert res["a_pct"] == 60.0
+    ret = [c for c in res["checks"] if c["id"] == "filter.retention"][0]
+    assert ret["value"] == 0.6
+    assert ret["status"] == status
+    assert res["limits"]["d15_max_mm"] == (0.5 if rules.get("dispersive") else 0.7)

@@ -90,7 +90,9 @@ ENTRIES: tuple[Entry, ...] = (
        "4 x d85B < 0.7 mm (no dispersive variant known: the non-dispersive limit is used and the check "
        "warns). Category 4 (A < 15 %): D15F <= 4 x d85B. A and d85B are read on the base regraded on "
        "4.75 mm. Within 2 points of A = 85 % both neighbouring limits are computed and the check warns "
-       "unless both pass.",
+       "unless both pass. For a category 1 or 2 base whose dispersion is not reported (neither the base's "
+       "dispersive flag nor rules.dispersive), the check also warns when the filter meets only the "
+       "non-dispersive limit.",
        "A filter placed against a base soil; base curve reaching 0.075 mm.",
        NEH_1994, "210-vi-NEH, October 1994", "base-soil category table, maximum D15F table (table numbers not verified), design steps 3-5",
        "from memory (categories, non-dispersive limits); read in a secondary source (cat 1 and 4 multipliers, "
