@@ -7,6 +7,8 @@ Invented data (see ``test_ui_common``).
 
 from __future__ import annotations
 
+import re
+
 from test_ui_common import (add_base_soil, base_test, cpython, enter_sample, go, open_app, sample_test, settle,
                             SAMPLE_TYPED)
 
@@ -92,7 +94,7 @@ def test_spot_check_gives_cpython_verdict_and_saves_as_a_record(page, site):
     open_app(page, site)
     add_base_soil(page, "B-9")
     go(page, "#/quick")
-    page.get_by_label("Base soil").select_option(label="B-9 · silty sand core")
+    page.get_by_label("Stored base soil").select_option(label="B-9 · silty sand core")
     for i, (d, p) in enumerate(SPOT):
         if i >= 3:
             page.get_by_role("button", name="Add a size").click()
@@ -106,6 +108,7 @@ def test_spot_check_gives_cpython_verdict_and_saves_as_a_record(page, site):
     for cid in ("filter.retention", "filter.permeability"):
         assert shown[cid] == next(c["status"] for c in expected["checks"] if c["id"] == cid)
     assert expected["notice"] in page.text_content(".verdict-card")
+    assert shown_checks(page) == ordered_checks(expected)  # the other checks as the core reports them
 
     page.get_by_role("button", name="Save as a test record").click()
     page.wait_for_selector("#view[data-screen='entry']")
@@ -116,6 +119,93 @@ def test_spot_check_gives_cpython_verdict_and_saves_as_a_record(page, site):
     rid = page.get_attribute(".detail", "data-id")
     rec = page.evaluate("async (id) => (await import('/src/storage/records.js')).getRecord(id)", rid)
     assert rec["test"] == sample and rec["meta"]["base_id"]
+
+
+def ordered_checks(result: dict) -> list:
+    """The core's checks as the verdict block lists them: applicable ones first, then those that do not apply."""
+    pairs = [[c["id"], c["status"]] for c in result["checks"]]
+    return [p for p in pairs if p[1] != "not_applicable"] + [p for p in pairs if p[1] == "not_applicable"]
+
+
+def shown_checks(page) -> list:
+    return page.eval_on_selector_all(".verdict-card li.check", "els => els.map(e => [e.dataset.check, e.dataset.status])")
+
+
+def headline(page) -> dict:
+    return dict(page.eval_on_selector_all(".headline li.check", "els => els.map(e => [e.dataset.check, e.dataset.status])"))
+
+
+def sample_checks(result: dict) -> dict:
+    return {c["id"]: c["status"] for c in result["checks"] if c.get("subject", "sample") == "sample"}
+
+
+def test_spot_check_from_d_values_matches_cpython_and_saves(page, site):
+    """A supplier's D-values and a base soil typed from its lab sheet, no stored record (invented figures).
+
+    Terzaghi's ratios need only the base's D15 and D85; the NRCS 1994 set needs its percent passing
+    4.75 mm and 0.075 mm for the category, and says "needs data" without them.
+    """
+    open_app(page, site)
+    go(page, "#/quick")
+    page.get_by_label("Filter criteria").select_option("terzaghi")
+    assert page.get_by_label("Its figures, typed here").is_checked()  # no stored base soil on this device
+    page.fill("input[data-field='base.d_mm.D15']", "0,01")
+    page.fill("input[data-field='base.d_mm.D85']", "0.08")
+    # The base's category sizes are in view, filled with their size and no percent, and not sent.
+    sizes = page.eval_on_selector_all(".typed-base input[aria-label^='Size']", "els => els.map(e => e.value)")
+    assert sizes[:2] == ["4.75", "0.075"]
+    page.get_by_label("D-values (supplier's sheet)").check()
+    page.fill("input[data-field='sample.d_mm.D15']", "0,3")
+    page.fill("input[data-field='sample.d_mm.D60']", "1,1")
+    page.fill("input[data-field='sample.d_mm.D85']", "2")
+    page.fill("input[data-field='sample.passing[0].passing_pct']", "3")
+    settle(page)
+    sample = {"d_mm": {"D15": 0.3, "D60": 1.1, "D85": 2.0}, "passing": [{"opening_mm": 0.075, "passing_pct": 3.0}]}
+    base = {"d_mm": {"D15": 0.01, "D85": 0.08}}
+    expected = cpython("evaluate", sample=sample, base=base, rules={"criteria": "terzaghi"})["result"]
+    assert page.get_attribute(".verdict-card .verdict", "data-verdict") == expected["verdict"]
+    assert shown_checks(page) == ordered_checks(expected)
+    want = sample_checks(expected)
+    assert headline(page) == {k: want[k] for k in ("filter.retention", "filter.permeability")}
+    assert want["filter.retention"] == "pass" and want["filter.permeability"] == "pass"  # 0.3/0.08 = 3.75 <= 4
+    assert expected["notice"] in page.text_content(".verdict-card")
+
+    # NRCS 1994 without the base's category sizes: the core says what it needs, the screen shows it.
+    page.get_by_label("Filter criteria").select_option("nrcs-1994")
+    settle(page)
+    expected = cpython("evaluate", sample=sample, base=base, rules={"criteria": "nrcs-1994"})["result"]
+    assert sample_checks(expected)["filter.retention"] == "needs_data"
+    assert headline(page)["filter.retention"] == "needs_data"
+    assert shown_checks(page) == ordered_checks(expected)
+    # With them (100 % passing 4.75 mm, 80 % passing 0.075 mm): category 2 (40 to 85 % fines), D15F <= 0.7 mm
+    # (NRCS NEH 633 Ch. 26, 1994, table of criteria; from memory).
+    page.fill(".typed-base input[aria-label='Passing at size 1, percent']", "100")
+    page.fill(".typed-base input[aria-label='Passing at size 2, percent']", "80")
+    settle(page)
+    base = {"d_mm": {"D15": 0.01, "D85": 0.08},
+            "passing": [{"opening_mm": 4.75, "passing_pct": 100.0}, {"opening_mm": 0.075, "passing_pct": 80.0}]}
+    expected = cpython("evaluate", sample=sample, base=base, rules={"criteria": "nrcs-1994"})["result"]
+    assert expected["base_category"] == 2 and expected["limits"]["d15_max_mm"] == 0.7
+    assert page.get_attribute(".verdict-card .verdict", "data-verdict") == expected["verdict"]
+    assert shown_checks(page) == ordered_checks(expected)
+    assert headline(page)["filter.retention"] == sample_checks(expected)["filter.retention"] == "pass"
+
+    # Saved as a record: the typed base soil becomes a base record the test points to.
+    page.get_by_role("button", name="Save as a test record").click()
+    page.wait_for_selector("#view[data-screen='entry']")
+    settle(page)
+    assert page.get_attribute(".verdict-bar", "data-verdict") == expected["verdict"]
+    assert page.get_by_label("D-values (supplier's sheet)").is_checked()
+    page.get_by_role("button", name="Save test").click()
+    page.wait_for_selector("#view[data-screen='record']")
+    rid = page.get_attribute(".detail", "data-id")
+    rec = page.evaluate("async (id) => (await import('/src/storage/records.js')).getRecord(id)", rid)
+    assert rec["test"] == sample
+    stored_base = page.evaluate("async (id) => (await import('/src/storage/records.js')).getRecord(id)",
+                                rec["meta"]["base_id"])
+    assert stored_base["kind"] == "base" and stored_base["test"] == base
+    page.wait_for_selector(".detail .verdict-card .verdict")
+    assert page.get_attribute(".detail .verdict-card .verdict", "data-verdict") == expected["verdict"]
 
 
 def test_size_axis_direction_is_a_setting(page, site):
@@ -157,3 +247,39 @@ def test_band_copied_from_the_core_examples_is_checked_like_cpython(page, site):
     assert shown == want["status"]
     assert page.get_attribute(".verdict-card .verdict", "data-verdict") == expected["verdict"]
     assert page.locator("svg.chart .band-area").count() == 1
+    assert_band_rows_shown(page, want)
+    # 100 % passing 3/8 in against a band of 100 to 100 %: the smallest margin is 0 points there.
+    assert want["value"] == 0.0 and "exactly on a limit" in page.text_content(BAND_CHECK + " .check-values")
+    assert "(limit)" not in page.text_content(BAND_CHECK)  # not "0 % >= 0 % (limit)"
+
+    # 17.6 g moved from No. 8 to No. 4: the sample leaves the band at No. 4; the failing sieve is named.
+    page.fill("input[data-field='sample.sieves[1].retained_g']", "30")
+    page.fill("input[data-field='sample.sieves[2].retained_g']", "62,4")
+    settle(page)
+    t = sample_test()
+    t["sieves"][1]["retained_g"] = 30.0
+    t["sieves"][2]["retained_g"] = 62.4
+    want = next(c for c in cpython("evaluate", sample=t, band=band, rules={"criteria": "nrcs-1994"})["result"]["checks"]
+                if c["id"] == "band.compliance")
+    assert want["status"] == "fail"
+    assert_band_rows_shown(page, want)
+    worst = next(r for r in want["sieves"] if want["value"] in (r["margin_min_pct"], r["margin_max_pct"]))
+    text = page.text_content(BAND_CHECK + " .check-values")
+    assert text.startswith(f"Worst sieve: {worst['label']}, ")
+    shown_pts = float(re.search(r", ([0-9.]+) percentage points", text).group(1))
+    assert shown_pts == float(f"{abs(want['value']):.3g}")  # rounded for display only
+    failing = [r["label"] for r in want["sieves"] if r["status"] == "fail"]
+    shown_failing = page.eval_on_selector_all(BAND_CHECK + " .band-rows tr.status-fail",
+                                              "rs => rs.map(r => [r.cells[0].textContent, r.cells[3].textContent])")
+    assert [label for label, _ in shown_failing] == failing
+    assert all(word.endswith("OUTSIDE") for _, word in shown_failing)
+
+
+BAND_CHECK = ".verdict-card li.check[data-check='band.compliance']"
+
+
+def assert_band_rows_shown(page, check: dict) -> None:
+    """The band check's table: one row per band sieve, with the core's status, in the core's order."""
+    rows = page.eval_on_selector_all(BAND_CHECK + " .band-rows tbody tr",
+                                     "rs => rs.map(r => [Number(r.dataset.opening), r.dataset.status])")
+    assert rows == [[r["opening_mm"], r["status"]] for r in check["sieves"]]

@@ -66,7 +66,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
       bases.length === 0 ? h("p", { class: "hint", text: "No base soil stored yet: add one under Bands & bases to get the filter checks." }) : null),
     h("details", { class: "card" },
       h("summary", { text: `Sample details: ${rec.meta.sample_id} (project, place, date…)` }), metaBox),
-    h("section", { class: "card" }, h("h2", { text: "Sieve masses" }), testBox),
+    h("section", { class: "card" }, h("h2", { text: "Gradation of the sample" }), testBox),
     banner,
     verdictBox, dvalBox, chartBox,
     h("div", { class: "actions" },

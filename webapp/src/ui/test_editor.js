@@ -1,8 +1,9 @@
-// The input of one sieve test, in either form the core takes: masses
-// retained on a stack of sieves (with pan, dry mass and washed mass), or
-// percent passing at a few sizes. Typed text is parsed as a decimal (comma
-// or point); the percent passing and cumulative figures shown beside each
-// sieve come from the core's response through `showGradation`.
+// The input of one sieve test, in any form the core takes: masses
+// retained on a stack of sieves (with pan, dry mass and washed mass),
+// percent passing at a few sizes, or D-values (a supplier's sheet), alone or
+// with percent passing at a few sizes. Typed text is parsed as a decimal
+// (comma or point); the percent passing and cumulative figures shown beside
+// each sieve come from the core's response through `showGradation`.
 import { h, fill, field, fmt, fmtPct, newId, table } from "./dom.js";
 import { parseDecimal, showDecimal } from "./decimal.js";
 
@@ -11,6 +12,11 @@ function rowFor(g, mm) {
   const same = (q) => Math.abs(q.opening_mm - mm) <= 1e-9 * mm;
   return (g?.table || []).find(same) || (g?.points || []).find(same) || null;
 }
+
+/** D-values offered in the D-value form (more appear when a loaded test has them). */
+export const D_NAMES = ["D10", "D15", "D60", "D85", "D90"];
+const FORM_WORDS = { masses: "Masses retained", passing: "Percent passing", dvalues: "D-values (supplier's sheet)" };
+const dOrder = (a, b) => Number(a.slice(1)) - Number(b.slice(1));
 
 /** Enter moves to the next entry field of the same form (phone "next" key). */
 export function enterMovesOn(form) {
@@ -36,11 +42,14 @@ function decimalInput(value, attrs = {}) {
  * opts.path: field-path prefix the core uses for this test ("sample", "base", "test").
  * opts.onChange(): called after every edit.
  * opts.presets: [{id, name, sieves: [{opening_mm, label}]}] from `sieve_presets`.
+ * opts.forms: the forms offered, of "masses", "passing", "dvalues" (a choice is shown when more than one).
+ * opts.dNames: the D-values offered in the D-value form.
  */
-export function testEditor(box, test, { path = "sample", onChange = () => {}, presets = [], allowMasses = true } = {}) {
+export function testEditor(box, test, { path = "sample", onChange = () => {}, presets = [], forms = ["masses", "passing", "dvalues"], dNames = D_NAMES } = {}) {
   const state = {
-    form: test && test.passing ? "passing" : (allowMasses ? "masses" : "passing"),
-    rows: [], // masses: {opening_mm, label, text}; passing: {openText, pctText}
+    form: forms[0],
+    rows: [], // masses: {opening_mm, label, text}; passing and D-value forms: {openText, pctText}
+    d: {}, // D-value form: name -> typed text
     pan: "", dry: "", washed: "",
     extra: {}, // plasticity, dispersive etc. kept as they were
   };
@@ -53,12 +62,14 @@ export function testEditor(box, test, { path = "sample", onChange = () => {}, pr
   function load(t) {
     state.extra = {};
     for (const [k, v] of Object.entries(t || {})) {
-      if (!["sieves", "passing", "pan_g", "dry_mass_g", "washed_dry_mass_g"].includes(k)) state.extra[k] = v;
+      if (!["sieves", "passing", "d_mm", "pan_g", "dry_mass_g", "washed_dry_mass_g"].includes(k)) state.extra[k] = v;
     }
-    if (t && t.passing) {
-      state.form = "passing";
-      state.rows = t.passing.map((p) => ({ openText: showDecimal(p.opening_mm), pctText: showDecimal(p.passing_pct) }));
+    state.d = Object.fromEntries(Object.entries(t?.d_mm || {}).map(([k, v]) => [k, showDecimal(v)]));
+    if (t && (t.passing || t.d_mm)) {
+      state.form = t.d_mm ? "dvalues" : "passing";
+      state.rows = (t.passing || []).map((p) => ({ openText: showDecimal(p.opening_mm), pctText: showDecimal(p.passing_pct) }));
     } else {
+      if (t?.sieves) state.form = "masses";
       state.rows = (t?.sieves || []).map((s) => ({ opening_mm: s.opening_mm, text: showDecimal(s.retained_g) }));
       state.pan = showDecimal(t?.pan_g);
       state.dry = showDecimal(t?.dry_mass_g);
@@ -66,6 +77,7 @@ export function testEditor(box, test, { path = "sample", onChange = () => {}, pr
     }
   }
   load(test);
+  if (!forms.includes(state.form)) state.form = forms[0];
 
   const root = h("div", { class: "test-editor" });
   box.append(root);
@@ -111,11 +123,12 @@ export function testEditor(box, test, { path = "sample", onChange = () => {}, pr
       ["Sieve", "Retained (g)", "Cum. retained (%)", "Passing (%)", null], tbody);
   }
 
-  function passingRows() {
+  function passingRows(caption = "Percent passing at each size") {
     const tbody = h("tbody");
     state.rows.forEach((row, i) => {
       const a = decimalInput(row.openText, { "aria-label": `Size ${i + 1}, mm`, dataset: { field: `${path}.passing[${i}].opening_mm` } });
       const b = decimalInput(row.pctText, { "aria-label": `Passing at size ${i + 1}, percent`, dataset: { field: `${path}.passing[${i}].passing_pct` } });
+      row.inputs = [a, b];
       const ea = h("p", { class: "field-error", role: "status" });
       const eb = h("p", { class: "field-error", role: "status" });
       onDecimal(a, ea, (v) => { row.openText = v; });
@@ -124,7 +137,26 @@ export function testEditor(box, test, { path = "sample", onChange = () => {}, pr
         h("td", {}, a, ea), h("td", {}, b, eb),
         h("td", {}, removeButton(`Remove row ${i + 1}`, i))));
     });
-    return table({ class: "sieve-table" }, "Percent passing at each size", ["Size (mm)", "Passing (%)", null], tbody);
+    return table({ class: "sieve-table" }, caption, ["Size (mm)", "Passing (%)", null], tbody);
+  }
+
+  /** The D-value form: one field per D-value, then optional percent passing at sizes. */
+  function dValueRows() {
+    const names = [...new Set([...dNames, ...Object.keys(state.d)])].sort(dOrder);
+    const tbody = h("tbody");
+    for (const name of names) {
+      const id = newId("dv");
+      const input = decimalInput(state.d[name] ?? "", { id, "aria-label": `${name}, mm`, dataset: { field: `${path}.d_mm.${name}` } });
+      const err = h("p", { class: "field-error", id: `${id}-err`, role: "status" });
+      input.setAttribute("aria-describedby", `${id}-err`);
+      onDecimal(input, err, (v) => { state.d[name] = v; });
+      tbody.append(h("tr", { dataset: { dname: name } },
+        h("th", { scope: "row", text: name }), h("td", {}, input, err)));
+    }
+    return [
+      table({ class: "sieve-table dvalue-table" }, "D-values: the size at that percent passing (leave empty what the sheet does not give)",
+        ["D-value", "Size (mm)"], tbody),
+      passingRows("Percent passing at sizes, if given (the fines: passing 0.075 mm). A row with no percent is left out.")];
   }
 
   function massTotals() {
@@ -178,16 +210,23 @@ export function testEditor(box, test, { path = "sample", onChange = () => {}, pr
 
   function render() {
     const formId = newId("form");
-    const toggle = allowMasses ? h("fieldset", { class: "toggle" },
+    const toggle = forms.length > 1 ? h("fieldset", { class: "toggle" },
       h("legend", { text: "Entered as" }),
-      ["masses", "passing"].map((v) => {
+      forms.map((v) => {
         const id = `${formId}-${v}`;
         return h("span", { class: "radio" },
           h("input", { type: "radio", name: formId, id, value: v, checked: state.form === v,
-            onchange: () => { state.form = v; state.rows = []; render(); changed(); } }),
-          h("label", { for: id, text: v === "masses" ? "Masses retained" : "Percent passing" }));
+            onchange: () => {
+              state.form = v; state.d = {};
+              // The fines row is shown with its size filled in, in view, and is
+              // never sent without a percent typed beside it.
+              state.rows = v === "dvalues" ? [{ openText: "0.075", pctText: "" }] : [];
+              render(); changed();
+            } }),
+          h("label", { for: id, text: FORM_WORDS[v] }));
       })) : null;
-    fill(root, toggle, stackControls(), state.form === "masses" ? [massRows(), massTotals()] : passingRows());
+    const body = { masses: () => [massRows(), massTotals()], passing: () => passingRows(), dvalues: () => dValueRows() }[state.form]();
+    fill(root, toggle, state.form === "dvalues" ? [body, stackControls()] : [stackControls(), body]);
   }
   render();
 
@@ -205,6 +244,24 @@ export function testEditor(box, test, { path = "sample", onChange = () => {}, pr
           if (b !== null) o.passing_pct = b;
           return o;
         });
+      } else if (state.form === "dvalues") {
+        t.d_mm = {};
+        for (const [name, text] of Object.entries(state.d).sort(([a], [b]) => dOrder(a, b))) {
+          const v = num(text);
+          if (v !== null) t.d_mm[name] = v;
+        }
+        // A row with no percent is left out; the inputs of each row sent carry
+        // the index it has in the request, so a core error lands beside them.
+        const rows = [];
+        for (const r of state.rows) {
+          const a = num(r.openText); const b = num(r.pctText);
+          const [ia, ib] = r.inputs || [];
+          if (b === null) { ia?.removeAttribute("data-field"); ib?.removeAttribute("data-field"); continue; }
+          if (ia) ia.dataset.field = `${path}.passing[${rows.length}].opening_mm`;
+          if (ib) ib.dataset.field = `${path}.passing[${rows.length}].passing_pct`;
+          rows.push(a === null ? { passing_pct: b } : { opening_mm: a, passing_pct: b });
+        }
+        if (rows.length) t.passing = rows;
       } else {
         t.sieves = state.rows.map((r) => {
           const o = { opening_mm: r.opening_mm };

@@ -2,7 +2,7 @@
 // and its source, lab QA warnings in plain words, and the screening caution,
 // always shown with the verdict. Status is given by a word and a symbol, so
 // it never depends on colour alone.
-import { h, fill, fmt } from "./dom.js";
+import { h, fill, fmt, fmtPct, table } from "./dom.js";
 
 export const FALLBACK_NOTICE =
   "Screening check only. The project specification, local codes and the " +
@@ -55,8 +55,47 @@ export function valueVsLimit(check) {
   return `${v} ${rel} ${fmt(check.limit, 3)}${unit} (limit)`;
 }
 
-function checkItem(check) {
+/**
+ * band.compliance: its value is the smallest margin, in percentage points, of
+ * the sample's passing to a band limit over all band sieves (negative:
+ * outside), and its limit 0. Said in those words, with the sieve it occurs at.
+ */
+export function bandMarginText(check) {
+  const v = check.value;
+  if (v === null || v === undefined) return "";
+  const at = (check.sieves || []).find((r) => r.margin_min_pct === v || r.margin_max_pct === v);
+  const lower = at ? at.margin_min_pct === v : null;
+  const pts = `${fmt(Math.abs(v), 3)} percentage points`;
+  if (!at) return v < 0 ? `Worst sieve: ${pts} outside a band limit.` : `Nearest a band limit: ${pts} inside.`;
+  // Wording follows the core's status of that sieve (its comparison, on unrounded values).
+  if (at.status === "fail") return `Worst sieve: ${at.label}, ${pts} ${lower ? "below its lower" : "above its upper"} limit.`;
+  if (v <= 0) return `Nearest a band limit: ${at.label}, exactly on a limit (passing ${fmtPct(at.passing_pct)} %, band ${limitsText(at)} %).`;
+  return `Nearest a band limit: ${at.label}, ${pts} ${lower ? "above its lower" : "below its upper"} limit (inside the band).`;
+}
+
+const limitsText = (r) => `${r.min_pct === null ? "–" : fmt(r.min_pct, 3)} to ${r.max_pct === null ? "–" : fmt(r.max_pct, 3)}`;
+
+/** The band check's per-sieve rows (the core's), failing sieves marked in words. */
+function bandTable(check) {
+  const rows = check.sieves || [];
+  if (!rows.length) return null;
+  return table({ class: "band-rows" }, `Band ${check.band ? `"${check.band}" ` : ""}sieve by sieve`,
+    ["Sieve", "Passing (%)", "Band (%)", "Result"],
+    h("tbody", {}, rows.map((r) => {
+      const st = STATUS_WORDS[r.status] || { word: r.status, symbol: "?" };
+      const word = r.status === "warn" ? "inside (read between sieves)" : r.status === "pass" ? "inside" : r.status === "fail" ? "OUTSIDE" : st.word;
+      return h("tr", { class: `status-${r.status}`, dataset: { opening: r.opening_mm, status: r.status } },
+        h("th", { scope: "row", text: r.label || `${fmt(r.opening_mm, 4)} mm` }),
+        h("td", { text: r.passing_pct === null ? "—" : fmtPct(r.passing_pct) }),
+        h("td", { text: limitsText(r) }),
+        h("td", {}, h("span", { "aria-hidden": "true", text: `${st.symbol} ` }), word));
+    })));
+}
+
+export function checkItem(check) {
   const st = STATUS_WORDS[check.status] || { word: check.status, symbol: "?" };
+  const band = check.id === "band.compliance";
+  const values = band ? bandMarginText(check) : valueVsLimit(check);
   return h("li", { class: `check status-${check.status}`, dataset: { check: check.id, status: check.status } },
     h("span", { class: "status-mark", "aria-hidden": "true", text: st.symbol }),
     h("div", { class: "check-body" },
@@ -65,8 +104,9 @@ function checkItem(check) {
         h("strong", { text: checkName(check.id) }), " ",
         h("span", { class: "status-word", text: st.word }),
         check.advisory ? h("span", { class: "advisory", text: " (advisory: reported, not counted in the verdict)" }) : null),
-      valueVsLimit(check) ? h("p", { class: "check-values", text: valueVsLimit(check) }) : null,
+      values ? h("p", { class: "check-values", text: values }) : null,
       check.message ? h("p", { class: "check-message", text: check.message }) : null,
+      band ? bandTable(check) : null,
       check.source ? h("p", { class: "check-source", text: `Source: ${check.source}` }) : null));
 }
 
