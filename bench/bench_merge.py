@@ -13,15 +13,24 @@ written without calc columns (a reader ignores them anyway). Timed phases:
    tamis.api.handle) for ``--calc-n`` realistic tests derived from the demo
    project, printed as a rate; ``python -m tamis merge`` does this for every
    record unless ``--no-calc`` is given.
+
+With ``--baseline REV`` the same phases are run, on the same files, by the
+``pycore/tamis`` of that git revision as well (imported under another name,
+see ``bench_evaluate.py``), alternating with the working tree ``--rounds``
+times (fastest round kept), and the ratio baseline / now is printed per
+phase. Both must give the same records, the same CSV text and the same calc
+cells; the exit status is 1 only if they do not.
 """
 
 from __future__ import annotations
 
 import argparse
 import copy
+import importlib
 import pathlib
 import random
 import sys
+import tempfile
 import time
 
 HERE = pathlib.Path(__file__).resolve().parent
@@ -30,6 +39,7 @@ sys.path.insert(0, str(HERE.parent / "tests"))
 
 from tamis import demo, records as R  # noqa: E402
 from test_records_gen import make_records  # noqa: E402
+from bench_evaluate import load_baseline  # noqa: E402
 
 
 def older(rec: dict) -> dict:
@@ -79,39 +89,88 @@ def timed(fn):
     return out, time.perf_counter() - w0, time.process_time() - c0
 
 
+def run_phases(R, texts: list[str], sample: list[dict] | None) -> dict:
+    """Each phase with module ``R`` (a tamis.records): ``{phase: (output, wall s, cpu s)}``."""
+    out = {}
+    out["read"] = timed(lambda: [R.read_csv(t, f"files[{i}]")[0] for i, t in enumerate(texts)])
+    out["merge"] = timed(lambda: R.merge_all(out["read"][0]))
+    out["write"] = timed(lambda: R.write_csv(out["merge"][0][0]))
+    if sample is not None:
+        out["calc"] = timed(lambda: R.summaries_for(sample))
+    return out
+
+
+def fastest(runs: list[dict]) -> dict:
+    """Per phase, the run with the least cpu time."""
+    return {ph: min((r[ph] for r in runs), key=lambda t: t[2]) for ph in runs[0]}
+
+
+def report(tag: str, res: dict, n_files: int, rows: int) -> None:
+    (lists, w_read, c_read), ((merged, conflicts), w_merge, c_merge) = res["read"], res["merge"]
+    out, w_write, c_write = res["write"]
+    n_rows = sum(len(x) for x in lists)
+    wall, cpu = w_read + w_merge + w_write, c_read + c_merge + c_write
+    print(f"[{tag}] read+validate: {w_read:.2f} s wall, {c_read:.2f} s cpu ({n_rows} rows, "
+          f"{n_rows / w_read:,.0f} rows/s; {rows} lines)", flush=True)
+    print(f"[{tag}] merge: {w_merge:.2f} s wall, {c_merge:.2f} s cpu ({len(merged)} records, "
+          f"{len(conflicts)} conflicts)", flush=True)
+    print(f"[{tag}] write: {w_write:.2f} s wall, {c_write:.2f} s cpu ({len(out.encode('utf-8')) / 1e6:.1f} MB)",
+          flush=True)
+    print(f"[{tag}] merge of {len(merged)} records from {n_files} files, calc columns left blank: {wall:.2f} s "
+          f"wall ({len(merged) / wall:,.0f} records/s), {cpu:.2f} s cpu ({len(merged) / cpu:,.0f} records/s)",
+          flush=True)
+    if "calc" in res:
+        sums, t_calc, c_calc = res["calc"]
+        verdicts = sum(1 for s in sums.values() if s.get("calc_verdict"))
+        print(f"[{tag}] calc columns: {len(sums)} records in {t_calc:.2f} s wall, {c_calc:.2f} s cpu "
+              f"({len(sums) / c_calc:,.0f} records/s cpu, {verdicts} verdicts); for {len(merged)} records about "
+              f"{len(merged) * c_calc / len(sums):.0f} s cpu", flush=True)
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=100_000, help="records (default 100000)")
     ap.add_argument("--files", type=int, default=50, help="files (default 50)")
     ap.add_argument("--calc-n", type=int, default=2000, help="tests whose calc columns are recomputed")
+    ap.add_argument("--baseline", metavar="REV", help="git revision to compare with (e.g. HEAD~3)")
+    ap.add_argument("--rounds", type=int, default=1, help="rounds per version; the fastest is kept (default 1)")
     args = ap.parse_args(argv)
 
     t0 = time.perf_counter()
     texts = build_files(args.n, args.files)
     rows = sum(t.count("\r\n") - 1 for t in texts)  # an upper bound: quoted line breaks count too
     mb = sum(len(t.encode("utf-8")) for t in texts) / 1e6
+    sample = realistic_tests(args.calc_n) if args.calc_n > 0 else None
     print(f"setup: {args.files} files, {mb:.1f} MB, built in {time.perf_counter() - t0:.1f} s", flush=True)
 
-    lists, w_read, c_read = timed(lambda: [R.read_csv(t, f"files[{i}]")[0] for i, t in enumerate(texts)])
-    n_rows = sum(len(x) for x in lists)
-    (merged, conflicts), w_merge, c_merge = timed(lambda: R.merge_all(lists))
-    out, w_write, c_write = timed(lambda: R.write_csv(merged))
-    wall, cpu = w_read + w_merge + w_write, c_read + c_merge + c_write
-    print(f"read+validate: {w_read:.2f} s wall, {c_read:.2f} s cpu ({n_rows} rows, {n_rows / w_read:,.0f} rows/s; "
-          f"{rows} lines)", flush=True)
-    print(f"merge: {w_merge:.2f} s wall, {c_merge:.2f} s cpu ({len(merged)} records, {len(conflicts)} conflicts)",
-          flush=True)
-    print(f"write: {w_write:.2f} s wall, {c_write:.2f} s cpu ({len(out.encode('utf-8')) / 1e6:.1f} MB)", flush=True)
-    print(f"merge of {len(merged)} records from {args.files} files, calc columns left blank: {wall:.2f} s wall "
-          f"({len(merged) / wall:,.0f} records/s), {cpu:.2f} s cpu ({len(merged) / cpu:,.0f} records/s)", flush=True)
-
-    if args.calc_n > 0:
-        sample = realistic_tests(args.calc_n)
-        sums, t_calc, _ = timed(lambda: R.summaries_for(sample))
-        verdicts = sum(1 for s in sums.values() if s.get("calc_verdict"))
-        print(f"calc columns: {len(sums)} records in {t_calc:.2f} s ({len(sums) / t_calc:,.0f} records/s, "
-              f"{verdicts} verdicts); for {len(merged)} records about {len(merged) * t_calc / len(sums):.0f} s")
-    return 0
+    with tempfile.TemporaryDirectory() as tmp:
+        versions = {"now": R}
+        if args.baseline:
+            versions["baseline"] = importlib.import_module(f"{load_baseline(args.baseline, pathlib.Path(tmp)).__name__}"
+                                                           ".records")
+        for mod in versions.values():     # first use imports modules and compiles patterns: not timed
+            run_phases(mod, [build_files(20, 1, seed=1)[0]], sample[:3] if sample else None)
+        runs = {k: [] for k in versions}
+        for _ in range(max(1, args.rounds)):
+            for k, mod in versions.items():
+                runs[k].append(run_phases(mod, texts, sample))
+        best = {k: fastest(v) for k, v in runs.items()}
+    for k, res in best.items():
+        report(k, res, args.files, rows)
+    if "baseline" not in best:
+        return 0
+    now, base = best["now"], best["baseline"]
+    ratios = ", ".join(f"{ph} x{base[ph][2] / now[ph][2]:.2f}" for ph in now)
+    cpu_now = sum(now[ph][2] for ph in ("read", "merge", "write"))
+    cpu_base = sum(base[ph][2] for ph in ("read", "merge", "write"))
+    print(f"speed-up baseline {args.baseline} / now (cpu): {ratios}; read+merge+write x{cpu_base / cpu_now:.2f}")
+    same = {ph: now[ph][0] == base[ph][0] for ph in now}
+    # equal values are not enough for records: the same spelling (key order, 12 vs 12.0) is required too
+    same["read"] = same["read"] and all(R.dump_json(a) == R.dump_json(b)
+                                        for x, y in zip(now["read"][0], base["read"][0]) for a, b in zip(x, y))
+    same["merge"] = same["merge"] and R.dump_json(now["merge"][0]) == R.dump_json(base["merge"][0])
+    print("outputs " + ", ".join(f"{ph} {'identical' if ok else 'DIFFER'}" for ph, ok in same.items()))
+    return 0 if all(same.values()) else 1
 
 
 if __name__ == "__main__":

@@ -93,6 +93,11 @@ _FIELD_LIMIT = 1 << 26  # 64 Mi characters per cell while reading
 
 def _is_num(v) -> bool:
     """A finite JSON number that a float holds exactly."""
+    t = type(v)
+    if t is float:      # the usual cases first (bool is its own type, never these two)
+        return math.isfinite(v)
+    if t is int:
+        return abs(v) <= _MAX_EXACT_INT
     if isinstance(v, bool) or not isinstance(v, (int, float)):
         return False
     if isinstance(v, int):
@@ -102,7 +107,7 @@ def _is_num(v) -> bool:
 
 def fmt_num(v) -> str:
     """Shortest text that reads back as the same float (``repr``, without a trailing ``.0``)."""
-    r = repr(float(v))
+    r = repr(v if type(v) is float else float(v))
     return r[:-2] if r.endswith(".0") else r
 
 
@@ -119,8 +124,14 @@ def unescape_text(cell: str) -> str:
     return cell[1:] if cell[:1] == "'" else cell
 
 
+#: The encoder of :func:`dump_json`, made once: ``json.dumps`` with these options
+#: builds a new one on every call. Holds no state between calls.
+_ENCODER = json.JSONEncoder(ensure_ascii=False, separators=(",", ":"), allow_nan=False)
+
+
 def dump_json(obj) -> str:
-    return json.dumps(obj, ensure_ascii=False, separators=(",", ":"), allow_nan=False)
+    """Compact JSON text (UTF-8 kept, no NaN/Infinity), as ``json.dumps`` with those options."""
+    return _ENCODER.encode(obj)
 
 
 def _reject_constant(name):
@@ -496,21 +507,22 @@ def cell_error(code: str, field: str, reason: str) -> InputError:
     return InputError(code, f"{where_text(field)}: {reason}", field)
 
 
-def _parse_num(cell: str, field: str) -> float:
+def _parse_num(cell: str, where: str, col: str) -> float:
+    """The number in ``cell`` of column ``col`` on row ``where`` (named only in an error)."""
     if not _NUM_RE.fullmatch(cell):
         hint = " Use a point as the decimal mark." if "," in cell else ""
-        raise cell_error("not_a_number", field, f"must be a number, got {cell!r}.{hint}")
+        raise cell_error("not_a_number", f"{where}.{col}", f"must be a number, got {cell!r}.{hint}")
     v = float(cell)
     if not math.isfinite(v):
-        raise cell_error("not_finite", field, f"must be a finite number, got {cell!r}.")
+        raise cell_error("not_finite", f"{where}.{col}", f"must be a finite number, got {cell!r}.")
     return v
 
 
-def _parse_bool(cell: str, field: str) -> bool:
+def _parse_bool(cell: str, where: str, col: str) -> bool:
     low = cell.lower()
     if low in ("true", "false"):
         return low == "true"
-    raise cell_error("not_a_boolean", field, f"must be true or false, got {cell!r}.")
+    raise cell_error("not_a_boolean", f"{where}.{col}", f"must be true or false, got {cell!r}.")
 
 
 def _parse_json(cell: str, field: str, want: type):
@@ -559,11 +571,10 @@ def _meta_from(cells: dict, where: str) -> dict:
         cell = cells.get(col)
         if not cell:
             continue
-        f = f"{where}.{col}"
         if col in META_NUM:
-            meta[col] = _parse_num(cell, f)
+            meta[col] = _parse_num(cell, where, col)
         elif col == "rules_json":
-            meta["rules"] = _parse_json(cell, f, dict)
+            meta["rules"] = _parse_json(cell, f"{where}.{col}", dict)
         elif col != "meta_extra_json":
             meta[col] = unescape_text(cell)
     _add_extra(meta, cells, "meta_extra_json", "meta", where)
@@ -587,22 +598,22 @@ def _test_from(cells: dict, fams: dict, where: str):
     test = {}
     for col in TEST_NUM:
         if cells.get(col):
-            test[col] = _parse_num(cells[col], f"{where}.{col}")
+            test[col] = _parse_num(cells[col], where, col)
     for fam, key, val in (("retained_g", "sieves", "retained_g"), ("passing_pct", "passing", "passing_pct")):
-        pts = [{"opening_mm": op, val: _parse_num(cells[col], f"{where}.{col}")}
+        pts = [{"opening_mm": op, val: _parse_num(cells[col], where, col)}
                for op, col in fams[fam] if cells.get(col)]
         if pts:
             test[key] = pts
     plast = {}
     if cells.get("nonplastic"):
-        plast["nonplastic"] = _parse_bool(cells["nonplastic"], f"{where}.nonplastic")
+        plast["nonplastic"] = _parse_bool(cells["nonplastic"], where, "nonplastic")
     for col in PLASTICITY_NUM:
         if cells.get(col):
-            plast[col] = _parse_num(cells[col], f"{where}.{col}")
+            plast[col] = _parse_num(cells[col], where, col)
     if plast:
         test["plasticity"] = plast
     if cells.get("dispersive"):
-        test["dispersive"] = _parse_bool(cells["dispersive"], f"{where}.dispersive")
+        test["dispersive"] = _parse_bool(cells["dispersive"], where, "dispersive")
     if _add_extra(test, cells, "test_extra_json", "test", where):
         return test
     return test or None
@@ -617,7 +628,7 @@ def _band_from(cells: dict, fams: dict, where: str):
         for op, col in fams[fam]:
             if cells.get(col):
                 lims.setdefault(op, {"opening_mm": op, "min_pct": None, "max_pct": None})[key] = \
-                    _parse_num(cells[col], f"{where}.{col}")
+                    _parse_num(cells[col], where, col)
     if lims:
         band["limits"] = [lims[op] for op in sorted(lims, reverse=True)]
     if _add_extra(band, cells, "band_extra_json", "band", where):
@@ -664,7 +675,7 @@ def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = Fal
         "rev": int(rev_cell),
         "updated_at": cells["updated_at"],
         "updated_by": unescape_text(cells["updated_by"]),
-        "deleted": _parse_bool(cells["deleted"], f"{where}.deleted"),
+        "deleted": _parse_bool(cells["deleted"], where, "deleted"),
         "exported_at": cells.get("exported_at") or None,
         "meta": _meta_from(cells, where),
         "test": _test_from(cells, fams, where),
@@ -774,9 +785,20 @@ def descends(a: dict, b: dict) -> bool:
 def merge_history(*histories, memo=None) -> list:
     """Union of history entries (an entry once, whatever the key order or int/float
     spelling of its numbers), ordered by rev, time, content."""
-    if histories and _ordered(histories[0]) and all(
-            h is histories[0] or dump_json(h) == dump_json(histories[0]) for h in histories[1:]):
-        return list(histories[0])  # copies of one history: already its own union, in order
+    if histories and _ordered(histories[0]):
+        first = histories[0]
+        text = None
+        for h in histories[1:]:
+            if h is first:
+                continue
+            if text is None:
+                text = dump_json(first)
+            if dump_json(h) != text:
+                break
+        else:
+            return list(first)  # copies of one history: already its own union, in order
+    # memo: id(entry) -> (canonical text, text, entry), and text -> canonical text
+    # (copies of one entry in several files are spelled alike: canonicalised once)
     memo = {} if memo is None else memo
     best = {}
     for hist in histories:
@@ -784,7 +806,10 @@ def merge_history(*histories, memo=None) -> list:
             keys = memo.get(id(h))
             if keys is None:
                 spelled = dump_json(h)
-                keys = memo[id(h)] = (dump_json(_floats(h)), spelled, h)
+                canon = memo.get(spelled)
+                if canon is None:
+                    canon = memo[spelled] = dump_json(_floats(h))
+                keys = memo[id(h)] = (canon, spelled, h)
             prev = best.get(keys[0])
             if prev is None or keys[1] < prev[1]:
                 best[keys[0]] = keys
