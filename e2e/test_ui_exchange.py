@@ -1,13 +1,18 @@
 """CSV exchange from the app: the app's export is byte-identical to the core's
 export of the same records on CPython; exported records are marked; a bad file
-changes nothing; a conflict waits for the user's choice; the demo comes and
-goes without touching the user's records.
+changes nothing; a conflict waits for the user's choice, which the core turns
+into a new revision (``resolve``) so the same file brings no conflict back; an
+export of a selection carries the band and base soil its tests name as
+``context``; the demo opens in one tap and goes without touching the user's
+records, even those with one of the demo's two markers.
 
 Invented data (see ``test_ui_common``) and the invented demo project.
 """
 
 from __future__ import annotations
 
+import csv
+import io
 import json
 from pathlib import Path
 
@@ -92,31 +97,122 @@ def test_export_is_byte_identical_to_the_core_and_import_asks_on_conflict(page, 
     local = next(r for r in all_records(page) if r["record_id"] == test["record_id"])
     assert local["rev"] == 2 and local["meta"].get("notes") is None  # untouched so far
     page.get_by_label("Take the one in the file").check()
+    who = page.get_by_label("Your name or initials, recorded with your choices")
+    who.fill("")
+    assert apply.is_disabled()  # the choice is recorded with who made it
+    who.fill("JD")
     assert apply.is_enabled()
     apply.click()
     page.wait_for_selector(".import-result .ok-line")
+    assert "1 conflicts settled as new revisions" in page.text_content(".import-result")
     now = next(r for r in all_records(page) if r["record_id"] == test["record_id"])
-    incoming = core("records_import_csv", csv=office_csv, existing=[])["records"][0]
-    assert now == incoming
+    # The core settled it (resolve, at, by): a new revision above both, with the file's content.
+    settled = core("records_import_csv", csv=office_csv, existing=[local], resolve={test["record_id"]: "incoming"},
+                   at=now["updated_at"], by="JD")
+    assert settled["resolved"] == [test["record_id"]]
+    assert now == next(r for r in settled["records"] if r["record_id"] == test["record_id"])
+    assert now["rev"] == 3 and now["updated_by"] == "JD" and now["meta"]["notes"] == "checked in the office"
+    assert "conflict resolved" in now["history"][-1]["summary"]
 
-
-def test_demo_opens_and_is_removed_without_touching_own_records(page, site):
-    open_app(page, site, "#/welcome")
-    add_base_soil(page, "MINE-1")
+    # The same file again: the choice supersedes both versions, so no conflict comes back.
     go(page, "#/exchange")
+    upload(page, "office.csv", office_csv)
+    page.wait_for_selector(".import-result p")
+    assert "0 in conflict" in page.text_content(".import-result")
+    assert page.locator(".conflict").count() == 0
+    again = core("records_import_csv", csv=office_csv, existing=all_records(page))
+    assert again["conflicts"] == [] and test["record_id"] in again["unchanged"]
+
+
+def test_export_of_a_selection_carries_its_band_and_base_as_context(page, site):
+    open_app(page, site)
+    add_base_soil(page, "B-5")
+    go(page, "#/refs")
+    presets = core("band_presets")["presets"]
+    fine = next(p for p in presets if p["id"] == "astm-c33-fine")
+    page.get_by_label("Band from the core's examples").select_option(label=fine["name"])
+    page.get_by_role("button", name="Copy into a new band").click()
+    page.wait_for_selector("#view[data-screen='band']")
+    page.get_by_role("button", name="Save band").click()
+    page.wait_for_selector("#view[data-screen='record']")
+    enter_sample(page, base_label="B-5 · silty sand core")
+    page.get_by_label("Specification band").select_option(label=fine["name"])
+    settle(page)
+    page.get_by_role("button", name="Save test").click()
+    page.wait_for_selector("#view[data-screen='record']")
+    wait_screen(page)
+    recs = all_records(page)
+    test = next(r for r in recs if r["kind"] == "test")
+    refs = [r for r in recs if r["record_id"] in (test["meta"]["band_id"], test["meta"]["base_id"])]
+    assert len(refs) == 2
+
+    go(page, "#/records")
+    page.get_by_label(f"Select {test['meta']['sample_id']}").check()
+    page.get_by_role("button", name="Export the selected records").click()
+    wait_screen(page)
+    with page.expect_download() as dl:
+        page.get_by_role("button", name="Export the selected records (1)").click()
+    got = Path(dl.value.path()).read_bytes().decode("utf-8")
+    context = sorted(refs, key=lambda r: r["record_id"])
+    assert got == core("records_export_csv", records=[test], bom=False, context=context)["csv"]
+    rows = list(csv.DictReader(io.StringIO(got)))
+    assert [r["record_id"] for r in rows] == [test["record_id"]]  # the context is looked up, not written
+    band = next(r for r in refs if r["kind"] == "band")["band"]
+    base = next(r for r in refs if r["kind"] == "base")["test"]
+    verdict = core("evaluate", sample=test["test"], band=band, base=base, rules=test["meta"]["rules"])["verdict"]
+    assert rows[0]["calc_verdict"] == verdict  # filled: without the context it would be blank
+    assert core("records_export_csv", records=[test], bom=False)["csv"] != got
+
+
+DEMO_PROJECT = "Tallowmere Dam (demo)"
+
+
+def test_demo_opens_in_one_tap_on_an_empty_device(page, site):
+    open_app(page, site, "#/welcome")
     page.get_by_role("button", name="Open the demo project").click()
-    page.get_by_role("button", name="Apply the import").click()
-    page.wait_for_selector(".import-result .ok-line")
+    page.get_by_text("Imported the demo project").first.wait_for()
+    assert page.get_by_role("button", name="Apply the import").count() == 0  # no review: nothing conflicts
     expected = core("records_import_csv", csv=DEMO_CSV.read_text(encoding="utf-8"), existing=[])
     recs = all_records(page)
-    assert len(recs) == 1 + len(expected["added"])
+    assert sorted(r["record_id"] for r in recs) == sorted(expected["added"])
+    key = lambda r: r["record_id"]  # noqa: E731
+    assert sorted(recs, key=key) == sorted(expected["records"], key=key)  # stored as the core read them
+    page.get_by_text(f"What was added ({len(expected['added'])})").click()
+    assert page.locator(".added-list li").count() == len(expected["added"])
+
+
+def test_demo_is_removed_without_touching_own_records(page, site):
+    open_app(page, site, "#/welcome")
+    add_base_soil(page, "MINE-1")
+    # Two records of the user's own that carry one of the demo's two markers each.
+    go(page, "#/base")
+    page.get_by_label("Sample id").fill("MINE-2")
+    page.get_by_label("Project").fill(DEMO_PROJECT)
+    for i, (d, p) in enumerate([(4.75, 100), (0.075, 40)]):
+        page.get_by_role("button", name="Add a size").click()
+        page.fill(f"input[data-field='test.passing[{i}].opening_mm']", str(d))
+        page.fill(f"input[data-field='test.passing[{i}].passing_pct']", str(p))
+    page.get_by_role("button", name="Save base soil").click()
+    page.wait_for_selector("#view[data-screen='record']")
+    page.evaluate("""async () => {
+        const m = await import('/src/storage/records.js');
+        const r = m.blankRecord('base', {meta: {sample_id: 'MINE-3', demo: true, project: 'My dam'},
+                                         test: {passing: [{opening_mm: 4.75, passing_pct: 100}, {opening_mm: 0.075, passing_pct: 30}]}});
+        await m.saveRecord(r, {by: 'me', summary: 'created'});
+    }""")
+    go(page, "#/exchange")
+    page.get_by_role("button", name="Open the demo project").click()
+    page.wait_for_selector(".import-result .ok-line")  # applied in one tap: nothing conflicts
+    expected = core("records_import_csv", csv=DEMO_CSV.read_text(encoding="utf-8"), existing=[])
+    recs = all_records(page)
+    assert len(recs) == 3 + len(expected["added"])
     go(page, "#/records")
     go(page, "#/exchange")
     page.once("dialog", lambda d: d.accept())
     page.get_by_role("button", name=f"Remove the demo ({len(expected['added'])} records)").click()
     page.wait_for_selector("button:has-text('Remove the demo (0 records)')")
     left = all_records(page)
-    assert [r["meta"]["sample_id"] for r in left] == ["MINE-1"]
+    assert sorted(r["meta"]["sample_id"] for r in left) == ["MINE-1", "MINE-2", "MINE-3"]
 
 
 def cpython_verdicts(records: list[dict]) -> dict:
@@ -138,7 +234,6 @@ def cpython_verdicts(records: list[dict]) -> dict:
 def test_record_list_verdicts_and_filters_match_cpython(page, site):
     open_app(page, site, "#/exchange")
     page.get_by_role("button", name="Open the demo project").click()
-    page.get_by_role("button", name="Apply the import").click()
     page.wait_for_selector(".import-result .ok-line")
     expected = cpython_verdicts(all_records(page))
     assert len(set(expected.values())) >= 2  # the demo exercises more than one verdict

@@ -1,12 +1,13 @@
 // Screen "Exchange": CSV export (download, or Web Share where files can be
 // shared), import with a review of conflicts, and the demo project.
-import { h, fill, announce } from "./dom.js";
+import { h, fill, field, announce } from "./dom.js";
 import { ask, errorText } from "./core.js";
 import { listRecords, notExported, markExported, putRecords, purgeRecords, nowIso } from "../storage/records.js";
 import { recordTitle } from "./records_view.js";
 
 export const DEMO_PROJECT = "Tallowmere Dam (demo)";
-export const isDemo = (r) => r.meta?.demo === true || r.meta?.project === DEMO_PROJECT;
+/** A demo record carries both markers; a user's record with only one of them is never removed as demo. */
+export const isDemo = (r) => r.meta?.demo === true && r.meta?.project === DEMO_PROJECT;
 
 function fileName(at) {
   return `tamis-${at.replaceAll(":", "").replace("T", "-").replace("Z", "")}.csv`;
@@ -15,10 +16,7 @@ function fileName(at) {
 /** Export records through the core's CSV codec; returns {ok, message}. */
 export async function exportRecords(app, records, { share = false } = {}) {
   if (records.length === 0) return { ok: false, message: "Nothing to export." };
-  // Bands and base soils the tests point to travel as context, so the file's
-  // computed columns (verdict, D-values) are filled even for a selection.
-  const ids = new Set(records.map((r) => r.record_id));
-  const context = (await listRecords()).filter((r) => r.kind !== "test" && !ids.has(r.record_id));
+  const context = await contextFor(records);
   const resp = await ask("records_export_csv", { records, bom: false, context });
   if (!resp.ok) return { ok: false, message: errorText(resp) };
   const at = nowIso();
@@ -43,6 +41,20 @@ export async function exportRecords(app, records, { share = false } = {}) {
   await markExported(records.map((r) => r.record_id), at);
   app.refreshBadge();
   return { ok: true, message: `${resp.result.count} records ${how} as ${name}.`, csv: resp.result.csv };
+}
+
+/**
+ * The band and base-soil records the exported tests point to (meta.band_id,
+ * meta.base_id) and that are not exported with them: they travel as
+ * `context`, so the file's computed columns (verdict, D-values) are filled
+ * even for a selection.
+ */
+export async function contextFor(records) {
+  const ids = new Set(records.map((r) => r.record_id));
+  const wanted = new Set(records.filter((r) => r.kind === "test")
+    .flatMap((r) => [r.meta?.band_id, r.meta?.base_id]).filter((id) => id && !ids.has(id)));
+  if (wanted.size === 0) return [];
+  return (await listRecords({ includeDeleted: true })).filter((r) => wanted.has(r.record_id));
 }
 
 function describe(r) {
@@ -102,7 +114,11 @@ export async function exchangeScreen(app, view, opts = {}) {
     status));
 }
 
-/** Fetch the demo CSV laid out by the build and import it. */
+/**
+ * Fetch the demo CSV laid out by the build and import it in one tap: it is
+ * applied at once when nothing conflicts (the usual case, and always on an
+ * empty device); only a conflict brings up the review.
+ */
 export async function openDemo(app, box, status) {
   let text;
   try {
@@ -113,14 +129,53 @@ export async function openDemo(app, box, status) {
     status.textContent = `The demo project is not in this build (${err.message}).`;
     return;
   }
-  await importText(app, text, box, status, "the demo project");
+  await importText(app, text, box, status, "the demo project", { direct: true });
 }
 
-/** Import CSV text: show what would change, resolve conflicts, then write all at once. */
-export async function importText(app, csv, box, status, name) {
-  const existing = await listRecords({ includeDeleted: true });
+const KIND_PLURAL = { test: "tests", band: "bands", base: "base soils" };
+
+/** "3 tests, 2 bands": the kinds of some records, counted. */
+function kindsText(records) {
+  const n = new Map();
+  for (const r of records) n.set(r.kind, (n.get(r.kind) || 0) + 1);
+  return [...n].map(([k, c]) => `${c} ${KIND_PLURAL[k] || k}`).join(", ");
+}
+
+/** Write the records an import result adds or changes, in one transaction; returns them. */
+async function writeImport(r) {
+  const changed = new Set([...(r.added || []), ...(r.updated || [])]);
+  const list = (r.records || []).filter((x) => changed.has(x.record_id));
+  await putRecords(list);
+  return list;
+}
+
+/** What an applied import did, with the records it added listed by name. */
+function doneView(app, box, status, name, r, written) {
+  const added = written.filter((x) => (r.added || []).includes(x.record_id));
+  const resolved = (r.resolved || []).length;
+  const msg = `Imported ${name}: ${r.added.length} added${added.length ? ` (${kindsText(added)})` : ""}, ` +
+    `${r.updated.length - resolved} updated, ${r.unchanged.length} unchanged` +
+    `${resolved ? `, ${resolved} conflicts settled as new revisions` : ""}.`;
+  fill(box, h("p", { class: "ok-line", text: msg }),
+    added.length ? h("details", { class: "added-list" },
+      h("summary", { text: `What was added (${added.length})` }),
+      h("ul", {}, added.map((x) => h("li", {}, h("a", { href: `#/record/${x.record_id}`, text: recordTitle(x) }))))) : null,
+    h("div", { class: "actions" }, h("a", { class: "btn", href: "#/records", text: "See the records" })));
+  status.textContent = msg;
+  announce(msg);
+  app.refreshBadge();
+}
+
+/**
+ * Import CSV text: show what would change and ask for each conflict, then
+ * write all at once. `direct`: apply at once when nothing conflicts.
+ * A conflict is settled by the core (`resolve`, with `at` and `by`): the
+ * choice becomes a new revision that supersedes both versions, so the same
+ * conflict does not come back at the next import or merge.
+ */
+export async function importText(app, csv, box, status, name, { direct = false } = {}) {
   status.textContent = `Reading ${name}…`;
-  const resp = await ask("records_import_csv", { csv, existing });
+  const resp = await ask("records_import_csv", { csv, existing: await listRecords({ includeDeleted: true }) });
   if (!resp.ok) {
     fill(box, h("p", { class: "core-error", role: "alert", text: `${name} was not imported, nothing changed: ${errorText(resp)}` }));
     status.textContent = "Import refused.";
@@ -128,9 +183,16 @@ export async function importText(app, csv, box, status, name) {
   }
   const r = resp.result;
   const conflicts = r.conflicts || [];
+  if (direct && conflicts.length === 0) {
+    doneView(app, box, status, name, r, await writeImport(r));
+    return;
+  }
   const choice = new Map();
+  const byInput = h("input", { type: "text", autocomplete: "name", value: app.settings.tester || "" });
+  const byField = field("Your name or initials, recorded with your choices", byInput);
   const apply = h("button", { type: "button", class: "btn primary", text: "Apply the import", disabled: conflicts.length > 0 });
-  const refresh = () => { apply.disabled = choice.size < conflicts.length; };
+  const refresh = () => { apply.disabled = choice.size < conflicts.length || (conflicts.length > 0 && !byInput.value.trim()); };
+  byInput.addEventListener("input", refresh);
   const conflictList = h("ul", { class: "conflicts" }, conflicts.map((c, i) => {
     const nameR = `conflict-${i}`;
     const opt = (value, label) => h("span", { class: "radio" },
@@ -143,22 +205,33 @@ export async function importText(app, csv, box, status, name) {
       h("fieldset", {}, h("legend", { text: "Keep which version?" }), opt("local", "Keep the one on this device"), opt("incoming", "Take the one in the file")));
   }));
   apply.addEventListener("click", async () => {
-    const byId = new Map((r.records || []).map((x) => [x.record_id, x]));
-    for (const c of conflicts) {
-      const pick = choice.get(c.record_id) === "incoming" ? c.incoming : c.local;
-      byId.set(c.record_id, pick);
+    apply.disabled = true;
+    let result = r;
+    if (conflicts.length) {
+      // Ask the core again with the choices: it returns each settled record as
+      // a new revision descending from both versions.
+      const again = await ask("records_import_csv", {
+        csv, existing: await listRecords({ includeDeleted: true }),
+        resolve: Object.fromEntries(choice), at: nowIso(), by: byInput.value.trim(),
+      });
+      if (!again.ok) {
+        status.textContent = `Not applied, nothing changed: ${errorText(again)}`;
+        refresh();
+        return;
+      }
+      result = again.result;
+      if ((result.conflicts || []).length) {
+        status.textContent = "The records changed while you chose; the file was read again. Choose again.";
+        await importText(app, csv, box, status, name);
+        return;
+      }
     }
-    const changedIds = new Set([...(r.added || []), ...(r.updated || []), ...conflicts.map((c) => c.record_id)]);
-    await putRecords([...byId.values()].filter((x) => changedIds.has(x.record_id)));
-    const msg = `Imported ${name}: ${r.added.length} added, ${r.updated.length} updated, ${r.unchanged.length} unchanged, ${conflicts.length} conflicts resolved.`;
-    fill(box, h("p", { class: "ok-line", text: msg }));
-    status.textContent = msg;
-    announce(msg);
-    app.refreshBadge();
+    doneView(app, box, status, name, result, await writeImport(result));
   });
   fill(box,
     h("p", { text: `${name}: ${r.rows} rows; ${r.added.length} new, ${r.updated.length} newer than on this device, ${r.unchanged.length} unchanged, ${conflicts.length} in conflict.` }),
-    conflicts.length ? [h("p", { class: "hint", text: "Each conflict needs your choice; nothing is overwritten without it." }), conflictList] : null,
+    conflicts.length ? [h("p", { class: "hint", text: "Each conflict needs your choice; nothing is overwritten without it. The version you keep is saved as a new revision, with both histories." }),
+      conflictList, byField.wrap] : null,
     h("div", { class: "actions" }, apply));
   status.textContent = `${name} read; review and apply.`;
 }
