@@ -80,6 +80,23 @@ def ln(x: float) -> float:
     return (e * _LN2_HI + 2.0 * s) + (2.0 * s * poly + e * _LN2_LO)
 
 
+def ln_and_ln4(x: float) -> tuple[float, float]:
+    """``(ln(x), ln(4.0 * x))`` with the bits of :func:`ln`, for half the work:
+    4x has the mantissa of x and an exponent 2 higher (exact in binary)."""
+    if not math.isfinite(4.0 * x):
+        return ln(x), ln(4.0 * x)
+    m, e = math.frexp(x)
+    if m < _SQRT_HALF:
+        m, e = m * 2.0, e - 1
+    s = (m - 1.0) / (m + 1.0)
+    z = s * s
+    poly = (((((((((((_A12 * z + _A11) * z + _A10) * z + _A9) * z + _A8) * z + _A7) * z + _A6) * z + _A5) * z
+                 + _A4) * z + _A3) * z + _A2) * z + _A1) * z
+    two_s, tail = 2.0 * s, 2.0 * s * poly
+    e4 = e + 2
+    return (e * _LN2_HI + two_s) + (tail + e * _LN2_LO), (e4 * _LN2_HI + two_s) + (tail + e4 * _LN2_LO)
+
+
 def exp(y: float) -> float:
     """Exponential of ``y`` (|y| < 700), platform-independent to the last bit."""
     k = round(y / _LN2)                     # an int
@@ -253,13 +270,14 @@ def size_at(curve: Curve, pct: float) -> float | None:
     return None
 
 
-def passing_at(curve: Curve, size_mm: float) -> float | None:
+def passing_at(curve: Curve, size_mm: float, ln_size: float | None = None) -> float | None:
     """Percent passing [%] at ``size_mm`` [mm], log-linear between points.
 
     Above the coarsest sieve the answer is 100 % only if that sieve already
     passes 100 %; below the finest it is 0 % only if that sieve passes 0 %.
     Otherwise the size lies outside the measured range and the answer is
-    ``None``.
+    ``None``. ``ln_size``: ``ln(size_mm)`` (:func:`ln`) when the caller has
+    it already; the answer is the same.
     """
     if size_mm <= 0 or not math.isfinite(size_mm):
         return None
@@ -273,7 +291,7 @@ def passing_at(curve: Curve, size_mm: float) -> float | None:
         return 0.0 if pts[-1][1] <= 0.0 else None
     p_s = pts[k][1]
     logs = curve.log_sizes
-    t = (ln(size_mm) - logs[k]) / (logs[k - 1] - logs[k])
+    t = ((ln(size_mm) if ln_size is None else ln_size) - logs[k]) / (logs[k - 1] - logs[k])
     return p_s + t * (pts[k - 1][1] - p_s)
 
 

@@ -16,7 +16,7 @@ Istomina (1957).
 
 from __future__ import annotations
 
-from ..curve import Curve, coefficient_of_uniformity, exp, ln, passing_at, size_at
+from ..curve import Curve, coefficient_of_uniformity, exp, ln, ln_and_ln4, passing_at, size_at
 from ..findings import FAIL, NEEDS_DATA, PASS, WARN, Check, Finding
 from .checks import make_check
 
@@ -86,11 +86,12 @@ def kezdi_1979(curve: Curve) -> Check:
             continue
         r = dc / df
         if worst is None or r > worst[0]:
-            worst = (r, ps, size_at(curve, ps))
+            worst = (r, ps)
     if worst is None:
         return make_check("stability.kezdi", NEEDS_DATA, "Kezdi split test: no split could be read.",
                           limit=KEZDI_LIMIT, relation="<=", unit="-")
-    r, ps, d = worst
+    r, ps = worst
+    d = size_at(curve, ps)          # the split size, read only where the ratio is largest
     extra = {"split_passing_pct": ps, "split_mm": d, "complete": not incomplete}
     return _three_way("stability.kezdi", r > KEZDI_LIMIT, not incomplete,
                       f"Kezdi: D'15 coarse / d'85 fine reaches {r:.3g} (> {KEZDI_LIMIT:g}) at the split "
@@ -144,10 +145,11 @@ def hf_scan(curve: Curve, f_max_pct: float) -> tuple[list[tuple[float, float, fl
         la, lb = ln(a), ln(b)
         for k in range(_GRID + 1):
             d = exp(la + (lb - la) * k / _GRID)
-            f = passing_at(curve, d)
-            p4 = passing_at(curve, 4.0 * d)
+            ln_d, ln_4d = ln_and_ln4(d)
+            f = passing_at(curve, d, ln_d)
             if f is None or f <= 0.0 or f > f_max_pct + 1e-9:
                 continue
+            p4 = passing_at(curve, 4.0 * d, ln_4d)
             if p4 is None:
                 complete = False
                 continue
