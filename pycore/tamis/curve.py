@@ -67,8 +67,8 @@ _EXP_COEFFS = tuple(1.0 / math.factorial(n) for n in range(18))
 _LN2 = _LN2_HI + _LN2_LO
 
 
-def ln(x: float) -> float:
-    """Natural logarithm of ``x`` > 0, platform-independent to the last bit."""
+def _ln_parts(x: float) -> tuple[int, float, float]:
+    """``(e, 2 s, 2 s poly)`` with ln x = (e ln2_hi + 2 s) + (2 s poly + e ln2_lo)."""
     m, e = math.frexp(x)            # x = m * 2**e, 0.5 <= m < 1, exact
     if m < _SQRT_HALF:
         m, e = m * 2.0, e - 1       # m in [sqrt(1/2), sqrt(2)), exact
@@ -77,7 +77,14 @@ def ln(x: float) -> float:
     # poly = s2 (1/3 + s2 (1/5 + ... + s2 (1/25)))
     poly = (((((((((((_A12 * z + _A11) * z + _A10) * z + _A9) * z + _A8) * z + _A7) * z + _A6) * z + _A5) * z
                  + _A4) * z + _A3) * z + _A2) * z + _A1) * z
-    return (e * _LN2_HI + 2.0 * s) + (2.0 * s * poly + e * _LN2_LO)
+    two_s = 2.0 * s
+    return e, two_s, two_s * poly
+
+
+def ln(x: float) -> float:
+    """Natural logarithm of ``x`` > 0, platform-independent to the last bit."""
+    e, two_s, tail = _ln_parts(x)
+    return (e * _LN2_HI + two_s) + (tail + e * _LN2_LO)
 
 
 def ln_and_ln4(x: float) -> tuple[float, float]:
@@ -85,14 +92,7 @@ def ln_and_ln4(x: float) -> tuple[float, float]:
     4x has the mantissa of x and an exponent 2 higher (exact in binary)."""
     if not math.isfinite(4.0 * x):
         return ln(x), ln(4.0 * x)
-    m, e = math.frexp(x)
-    if m < _SQRT_HALF:
-        m, e = m * 2.0, e - 1
-    s = (m - 1.0) / (m + 1.0)
-    z = s * s
-    poly = (((((((((((_A12 * z + _A11) * z + _A10) * z + _A9) * z + _A8) * z + _A7) * z + _A6) * z + _A5) * z
-                 + _A4) * z + _A3) * z + _A2) * z + _A1) * z
-    two_s, tail = 2.0 * s, 2.0 * s * poly
+    e, two_s, tail = _ln_parts(x)
     e4 = e + 2
     return (e * _LN2_HI + two_s) + (tail + e * _LN2_LO), (e4 * _LN2_HI + two_s) + (tail + e4 * _LN2_LO)
 
