@@ -110,3 +110,53 @@ def test_kezdi_verdict_does_not_depend_on_an_empty_top_sieve():
         res = call_api("evaluate", sample=test)["result"]
         statuses[top_mm] = [c for c in res["checks"] if c["id"] == "stability.kezdi"][0]["status"]
     assert statuses == {9.5: "pass", 2.36: "pass"}
+
+
+# NRCS NEH 633-26 (1994) base categories by A, the percent passing 0.075 mm after regrading on 4.75 mm
+# (P' = P x 100 / P(4.75), step 3; from memory): 1 if A > 85, 2 if 40 <= A <= 85, 3 if 15 <= A < 40,
+# 4 if A < 15 (the documented edges). In each case below A is exactly an edge in decimal; the core used to
+# scale by the float CF = 100 / P(4.75) and land one unit in the last place on the wrong side
+# (14.999999999999998, 39.99999999999999, 85.00000000000001). Expected categories: the independent
+# computation in exact decimal.
+def _gravelly_base(p4_pct, p200_pct, **more):
+    return _passing([(19.0, 100.0), (9.5, (100.0 + p4_pct) / 2), (4.75, p4_pct), (0.425, (p4_pct + p200_pct) / 2),
+                     (0.075, p200_pct), (0.001, p200_pct / 10)],
+                    plasticity={"liquid_limit": 35, "plasticity_index": 15}, **more)
+
+
+@pytest.mark.parametrize("p4_pct, p200_pct, category", [
+    (50.1, 7.515, 3),     # A = 15 exactly: category 3 (15 <= A)
+    (50.2, 7.53, 3),
+    (50.1, 20.04, 2),     # A = 40 exactly: category 2 (40 <= A)
+    (50.2, 20.08, 2),
+    (50.3, 42.755, 2),    # A = 85 exactly: category 2 (A > 85 only for category 1)
+    (50.4, 42.84, 2),
+    (50.2, 20.0799, 3),   # just below 40 stays category 3
+    (50.3, 42.7551, 1),   # just above 85 is category 1
+])
+def test_category_edges_after_regrading(p4_pct, p200_pct, category):
+    res = call_api("evaluate", sample=FILTER_D15_06, base=_gravelly_base(p4_pct, p200_pct))["result"]
+    assert res["base_category"] == category
+
+
+def test_category_edge_from_masses():
+    # 1000.0 g dry; 498.0 g retained down to 4.75 mm (P = 50.2 %), 200.8 g passing 0.075 mm (P = 20.08 %):
+    # A = 200.8 / 502.0 = 40 % exactly, category 2.
+    base = {"sieves": [{"opening_mm": 19.0, "retained_g": 0.0}, {"opening_mm": 9.5, "retained_g": 250.0},
+                       {"opening_mm": 4.75, "retained_g": 248.0}, {"opening_mm": 0.425, "retained_g": 150.6},
+                       {"opening_mm": 0.075, "retained_g": 150.6}],
+            "dry_mass_g": 1000.0, "washed_dry_mass_g": 800.0, "pan_g": 0.8}
+    res = call_api("evaluate", sample=FILTER_D15_06, base=base)["result"]
+    assert res["base"]["points"][2]["passing_pct"] == 50.2
+    assert res["base"]["fines_pct"] == pytest.approx(20.08, abs=1e-12)
+    assert res["base_category"] == 2
+
+
+def test_dispersive_base_at_a_40_takes_the_category_2_limit():
+    # NEH 633-26 category 2 with a dispersive base: D15F <= 0.5 mm (from memory). On the wrong side of the
+    # edge (category 3, no dispersive variant known) the filter with D15 = 0.6 mm would only warn.
+    res = call_api("evaluate", sample=FILTER_D15_06, base=_gravelly_base(50.1, 20.04, dispersive=True))["result"]
+    ret = [c for c in res["checks"] if c["id"] == "filter.retention"][0]
+    assert res["base_category"] == 2
+    assert ret["limit"] == 0.5
+    assert ret["status"] == "fail"

@@ -89,7 +89,9 @@ ENTRIES: tuple[Entry, ...] = (
        "(15 <= A < 40 %): D15F <= ((40 - A)/(40 - 15)) x (4 x d85B - 0.7 mm) + 0.7 mm, with 0.7 mm when "
        "4 x d85B < 0.7 mm (no dispersive variant known: the non-dispersive limit is used and the check "
        "warns). Category 4 (A < 15 %): D15F <= 4 x d85B. A and d85B are read on the base regraded on "
-       "4.75 mm. Within 2 points of A = 85 % both neighbouring limits are computed and the check warns "
+       "4.75 mm; the category edges are decided on A = P(0.075) x 100 / P(4.75) in decimal, to 12 significant "
+       "digits, so that binary rounding cannot move a base across an edge. Within 2 points of A = 85 % both "
+       "neighbouring limits are computed and the check warns "
        "unless both pass. For a category 1 or 2 base whose dispersion is not reported (neither the base's "
        "dispersive flag nor rules.dispersive), the check also warns when the filter meets only the "
        "non-dispersive limit.",
