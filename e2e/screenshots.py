@@ -36,7 +36,7 @@ OUT = ROOT / "docs" / "img"
 #: (file name, what it shows). The order is the tour's.
 SHOTS = (
     ("01-welcome.png", "the welcome screen of an empty app, with 'Open the demo project'"),
-    ("02-demo-import.png", "the import preview of the demo project"),
+    ("02-demo-import.png", "the demo project opened in one tap: what was added"),
     ("03-records.png", "the records list after the import"),
     ("04-rejected-retention.png", "a delivery rejected for retention against the core (S-0918-T)"),
     ("05-rejected-fines.png", "the compacted sample of lot L11, rejected for fines (Q-L11-CP)"),
@@ -126,11 +126,10 @@ def _take(browser, site, out_dir: Path, log) -> list[Path]:
     shot(SHOTS[0][0])
 
     page.get_by_role("button", name="Open the demo project").click()
-    page.get_by_role("button", name="Apply the import").wait_for()
+    page.get_by_text("Imported the demo project").first.wait_for()
+    page.get_by_text("What was added").first.click()
     page.wait_for_timeout(200)
     shot(SHOTS[1][0])
-    page.get_by_role("button", name="Apply the import").click()
-    page.get_by_text("Imported the demo project").first.wait_for()
 
     ids = _record_ids()
     _go(page, "#/records")

@@ -85,6 +85,18 @@ def add_base_soil(page, site_id: str = "B-1") -> None:
     wait_screen(page)
 
 
+def add_preset_band(page, preset_id: str = "astm-c33-fine") -> dict:
+    """Copy one of the core's example bands into a band record and save it; returns the core's preset."""
+    go(page, "#/refs")
+    preset = next(p for p in cpython("band_presets")["result"]["presets"] if p["id"] == preset_id)
+    page.get_by_label("Start from a published band").select_option(label=preset["name"])
+    page.get_by_role("button", name="Copy into a new band").click()
+    page.wait_for_selector("#view[data-screen='band']")
+    page.get_by_role("button", name="Save band").click()
+    page.wait_for_selector("#view[data-screen='record']")
+    return preset
+
+
 def enter_sample(page, base_label: str | None = None) -> None:
     """Type the invented sample on the entry screen (stack preset, masses, totals)."""
     go(page, "#/entry")

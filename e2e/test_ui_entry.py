@@ -9,8 +9,8 @@ from __future__ import annotations
 
 import re
 
-from test_ui_common import (add_base_soil, base_test, cpython, enter_sample, go, open_app, sample_test, settle,
-                            SAMPLE_TYPED)
+from test_ui_common import (add_base_soil, add_preset_band, base_test, cpython, enter_sample, go, open_app,
+                            sample_test, settle, SAMPLE_TYPED)
 
 
 def shown_js_precision3(v: float) -> float:
@@ -229,14 +229,7 @@ def test_size_axis_direction_is_a_setting(page, site):
 
 def test_band_copied_from_the_core_examples_is_checked_like_cpython(page, site):
     open_app(page, site)
-    go(page, "#/refs")
-    presets = cpython("band_presets")["result"]["presets"]
-    fine = next(p for p in presets if p["id"] == "astm-c33-fine")
-    page.get_by_label("Band from the core's examples").select_option(label=fine["name"])
-    page.get_by_role("button", name="Copy into a new band").click()
-    page.wait_for_selector("#view[data-screen='band']")
-    page.get_by_role("button", name="Save band").click()
-    page.wait_for_selector("#view[data-screen='record']")
+    fine = add_preset_band(page, "astm-c33-fine")
     enter_sample(page)
     page.get_by_label("Specification band").select_option(label=fine["name"])
     settle(page)

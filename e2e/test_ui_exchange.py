@@ -18,7 +18,7 @@ from pathlib import Path
 
 from tamis.api import handle
 
-from test_ui_common import add_base_soil, enter_sample, go, open_app, settle, wait_screen
+from test_ui_common import add_base_soil, add_preset_band, enter_sample, go, open_app, settle, wait_screen
 
 DEMO_CSV = Path(__file__).resolve().parent.parent / "demo_data" / "demo_project.csv"
 
@@ -127,14 +127,7 @@ def test_export_is_byte_identical_to_the_core_and_import_asks_on_conflict(page, 
 def test_export_of_a_selection_carries_its_band_and_base_as_context(page, site):
     open_app(page, site)
     add_base_soil(page, "B-5")
-    go(page, "#/refs")
-    presets = core("band_presets")["presets"]
-    fine = next(p for p in presets if p["id"] == "astm-c33-fine")
-    page.get_by_label("Band from the core's examples").select_option(label=fine["name"])
-    page.get_by_role("button", name="Copy into a new band").click()
-    page.wait_for_selector("#view[data-screen='band']")
-    page.get_by_role("button", name="Save band").click()
-    page.wait_for_selector("#view[data-screen='record']")
+    fine = add_preset_band(page, "astm-c33-fine")
     enter_sample(page, base_label="B-5 · silty sand core")
     page.get_by_label("Specification band").select_option(label=fine["name"])
     settle(page)

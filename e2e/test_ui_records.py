@@ -54,7 +54,8 @@ def test_saved_test_is_there_after_reload_and_edit_keeps_history(page, site):
     assert rec["history"][-1]["by"] == "JQ" and rec["history"][-1]["summary"] == "edited"
     assert rec["history"][0]["summary"] == "created"
     go(page, f"#/record/{rid}")
-    assert "test.sieves[1].retained_g: 12.4 → 12.6" in page.text_content(".history")
+    # In words, with the stored path beside them.
+    assert "mass on 4.75 mm (g): 12.4 → 12.6 (test.sieves[1].retained_g)" in page.text_content(".history")
 
     # Saving again with nothing changed writes no empty revision.
     go(page, f"#/entry/{rid}")

@@ -101,3 +101,9 @@ export function announce(message) {
   clearTimeout(announce.timer);
   announce.timer = setTimeout(() => { node.textContent = ""; }, 6000);
 }
+
+/** An ISO UTC time for people: "2026-12-01T09:30:00Z" -> "2026-12-01 09:30 UTC" (anything else as it is). */
+export function when(iso) {
+  const m = /^(\d{4}-\d\d-\d\d)T(\d\d:\d\d)(:\d\d(\.\d+)?)?Z$/.exec(String(iso ?? ""));
+  return m ? `${m[1]} ${m[2]} UTC` : String(iso ?? "");
+}

@@ -6,7 +6,7 @@
 import { h, fill, field, newId, announce } from "./dom.js";
 import { ask, evaluateFields } from "./core.js";
 import { testEditor, enterMovesOn, showFieldError } from "./test_editor.js";
-import { renderVerdict, checkItem } from "./verdict.js";
+import { renderVerdict, checkItem, noticeNode, VERDICT_WORDS } from "./verdict.js";
 import { renderChart } from "./chart.js";
 import { renderDvalues, baseName } from "./entry.js";
 import { RULE_SETS } from "./presets.js";
@@ -128,13 +128,19 @@ export async function quickScreen(app, view) {
 function renderHeadline(box, resp, hasBase = false) {
   if (!resp || !resp.ok) {
     fill(box, h("h2", { text: "Retention and permeability" }),
-      h("p", { class: "muted", text: resp ? "No result yet: see the message above." : "Type the delivered material's figures to see them." }));
+      h("p", { class: "muted", text: resp ? "No result yet: see the message beside the entries." : "Type the delivered material's figures to see them." }),
+      noticeNode());
     return;
   }
   const checks = HEADLINE_CHECKS.map((id) => (resp.result.checks || []).find((c) => c.id === id && (c.subject || "sample") === "sample"))
     .filter(Boolean);
+  const vw = VERDICT_WORDS[resp.result.verdict] || { word: resp.result.verdict, symbol: "?" };
   fill(box, h("h2", { text: "Retention and permeability" }),
     hasBase ? null : h("p", { class: "hint", text: "No base soil given: both need one." }),
     checks.length ? h("ul", { class: "checks headline-checks" }, checks.map(checkItem))
-      : h("p", { class: "muted", text: "The core reported neither check for this input." }));
+      : h("p", { class: "muted", text: "The core reported neither check for this input." }),
+    h("p", { class: `verdict verdict-${resp.result.verdict}` },
+      h("span", { class: "status-mark", "aria-hidden": "true", text: vw.symbol }),
+      ` All checks together: ${vw.word} (see below)`),
+    noticeNode(resp.result.notice || undefined));
 }

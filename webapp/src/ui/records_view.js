@@ -1,6 +1,6 @@
 // Screens "Records" (list with search and filters) and a record's detail
 // (figures, verdict, chart, history).
-import { h, fill, field, fmt, announce } from "./dom.js";
+import { h, fill, field, fmt, announce, when } from "./dom.js";
 import { ask, evaluateRecord, errorText } from "./core.js";
 import { renderVerdict, verdictLine, VERDICT_WORDS } from "./verdict.js";
 import { renderChart } from "./chart.js";
@@ -106,11 +106,33 @@ function metaList(meta) {
   return h("dl", { class: "meta-list" }, rows.map(([k, v]) => [h("dt", { text: k.replaceAll("_", " ") }), h("dd", { text: typeof v === "object" ? JSON.stringify(v) : String(v) })]));
 }
 
+const TOTALS = { pan_g: "pan (g)", dry_mass_g: "dry mass before washing (g)", washed_dry_mass_g: "dry mass after washing (g)" };
+
+/**
+ * A changed field in words, the stored path after it: "mass on 2.36 mm (g)"
+ * for test.sieves[2].retained_g (the size is the record's current one at that row).
+ */
+export function fieldWords(path, rec) {
+  let m = /^test\.sieves\[(\d+)\]\.retained_g$/.exec(path);
+  const size = (list, i) => { const d = rec.test?.[list]?.[Number(i)]?.opening_mm; return d === undefined ? `row ${Number(i) + 1}` : `${fmt(d, 4)} mm`; };
+  if (m) return `mass on ${size("sieves", m[1])} (g)`;
+  if ((m = /^test\.passing\[(\d+)\]\.passing_pct$/.exec(path))) return `passing at ${size("passing", m[1])} (%)`;
+  if ((m = /^test\.passing\[(\d+)\]\.opening_mm$/.exec(path))) return `size of row ${Number(m[1]) + 1} (mm)`;
+  if ((m = /^test\.d_mm\.(D\d+(\.\d+)?)$/.exec(path))) return `${m[1]} (mm)`;
+  if ((m = /^test\.(pan_g|dry_mass_g|washed_dry_mass_g)$/.exec(path))) return TOTALS[m[1]];
+  if ((m = /^meta\.([a-z_]+)$/.exec(path))) return m[1].replaceAll("_", " ");
+  return null;
+}
+
 function historyList(rec) {
   return h("ol", { class: "history" }, (rec.history || []).slice().reverse().map((e) =>
     h("li", {},
-      h("p", {}, h("strong", { text: `Revision ${e.rev}` }), ` · ${e.at} · ${e.by || "unknown"} · ${e.summary}`),
-      e.changes?.length ? h("ul", {}, e.changes.map((c) => h("li", { text: `${c.field}: ${show(c.old)} → ${show(c.new)}` }))) : null)));
+      h("p", {}, h("strong", { text: `Revision ${e.rev}` }), ` · ${when(e.at)} · ${e.by || "unknown"} · ${e.summary}`),
+      e.changes?.length ? h("ul", {}, e.changes.map((c) => {
+        const words = fieldWords(c.field, rec);
+        return h("li", {}, words ? `${words}: ` : "", `${show(c.old)} → ${show(c.new)}`,
+          h("span", { class: "field-path", text: ` (${c.field})` }));
+      })) : null)));
 }
 const show = (v) => (v === null || v === undefined ? "empty" : typeof v === "object" ? JSON.stringify(v) : String(v));
 
@@ -145,7 +167,7 @@ export async function detailScreen(app, view, id) {
   fill(view, h("div", { class: "screen detail", dataset: { id: rec.record_id } },
     h("h1", { text: `${KIND_WORDS[rec.kind]} ${recordTitle(rec)}` }),
     rec.deleted ? h("p", { class: "core-error", text: "Deleted: kept on this device until it has been exported." }) : null,
-    h("p", { class: "hint", text: `Revision ${rec.rev}, saved ${rec.updated_at} by ${rec.updated_by || "unknown"}; ${notExported(rec) ? "not yet exported" : `exported ${rec.exported_at}`}.` }),
+    h("p", { class: "hint", text: `Revision ${rec.rev}, saved ${when(rec.updated_at)} by ${rec.updated_by || "unknown"}; ${notExported(rec) ? "not yet exported" : `exported ${when(rec.exported_at)}`}.` }),
     actions, status,
     rec.kind === "test" ? [verdictBox, dvalBox, chartBox] : chartBox,
     h("section", { class: "card" }, h("h2", { text: "Details" }), ...refs, metaList(rec.meta)),

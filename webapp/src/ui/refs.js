@@ -13,7 +13,7 @@ export async function refsScreen(app, view) {
   const presetBox = h("div");
   fill(view, h("div", { class: "screen" },
     h("h1", { text: "Bands and base soils" }),
-    h("p", { class: "hint", text: "Bands and base soils are stored as records: tests point to them, and they travel in the CSV exchange like tests." }),
+    h("p", { class: "hint", text: "Bands and base soils are stored as records: tests point to them, and they travel in the CSV files like tests." }),
     h("section", { class: "card" }, h("h2", { text: "Specification bands" }),
       h("ul", { class: "record-list", "aria-label": "Bands" }, bands.map((b) => h("li", { class: "record-item" },
         h("a", { class: "record-link", href: `#/record/${b.record_id}` }, h("span", { class: "record-title", text: bandName(b) }),
@@ -30,7 +30,7 @@ export async function refsScreen(app, view) {
   if (resp.ok && (resp.result.presets || resp.result.bands || []).length) {
     const list = resp.result.presets || resp.result.bands;
     const sel = h("select", {}, list.map((p, i) => h("option", { value: String(i), text: p.name || p.id })));
-    fill(presetBox, h("div", { class: "stack-controls" }, field("Band from the core's examples", sel).wrap,
+    fill(presetBox, h("div", { class: "stack-controls" }, field("Start from a published band", sel).wrap,
       h("button", { type: "button", class: "btn", text: "Copy into a new band", onclick: () => {
         const p = list[Number(sel.value)];
         const seed = blankRecord("band", { meta: { material: p.name || "" }, band: { name: p.name || p.id, limits: (p.limits || []).map((l) => ({ opening_mm: l.opening_mm, min_pct: l.min_pct, max_pct: l.max_pct })) } });

@@ -48,7 +48,7 @@ export function checkName(id) {
 /** "0.52 mm ≤ 0.70 mm" from a check's unrounded numbers (rounded for display only). */
 export function valueVsLimit(check) {
   if (check.value === null && check.limit === null) return "";
-  const unit = check.unit ? ` ${check.unit}` : "";
+  const unit = check.unit && check.unit !== "-" ? ` ${check.unit}` : ""; // "-": a ratio, no unit
   const v = `${fmt(check.value, 3)}${unit}`;
   if (check.limit === null || check.limit === undefined) return `value ${v}`;
   const rel = { "<=": "≤", ">=": "≥", "<": "<", ">": ">" }[check.relation] || check.relation || "vs";
@@ -73,7 +73,8 @@ export function bandMarginText(check) {
   return `Nearest a band limit: ${at.label}, ${pts} ${lower ? "above its lower" : "below its upper"} limit (inside the band).`;
 }
 
-const limitsText = (r) => `${r.min_pct === null ? "–" : fmt(r.min_pct, 3)} to ${r.max_pct === null ? "–" : fmt(r.max_pct, 3)}`;
+// Band limits are the user's own figures: shown as typed, not rounded.
+const limitsText = (r) => `${r.min_pct === null ? "no min" : r.min_pct}–${r.max_pct === null ? "no max" : r.max_pct}`;
 
 /** The band check's per-sieve rows (the core's), failing sieves marked in words. */
 function bandTable(check) {
@@ -83,7 +84,7 @@ function bandTable(check) {
     ["Sieve", "Passing (%)", "Band (%)", "Result"],
     h("tbody", {}, rows.map((r) => {
       const st = STATUS_WORDS[r.status] || { word: r.status, symbol: "?" };
-      const word = r.status === "warn" ? "inside (read between sieves)" : r.status === "pass" ? "inside" : r.status === "fail" ? "OUTSIDE" : st.word;
+      const word = { warn: "inside (interpolated)", pass: "inside", fail: "OUTSIDE" }[r.status] || st.word;
       return h("tr", { class: `status-${r.status}`, dataset: { opening: r.opening_mm, status: r.status } },
         h("th", { scope: "row", text: r.label || `${fmt(r.opening_mm, 4)} mm` }),
         h("td", { text: r.passing_pct === null ? "—" : fmtPct(r.passing_pct) }),
