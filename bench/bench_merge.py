@@ -149,7 +149,7 @@ def main(argv=None) -> int:
             versions["baseline"] = importlib.import_module(f"{load_baseline(args.baseline, pathlib.Path(tmp)).__name__}"
                                                            ".records")
         for mod in versions.values():     # first use imports modules and compiles patterns: not timed
-            run_phases(mod, [build_files(20, 1, seed=1)[0]], sample[:3] if sample else None)
+            run_phases(mod, build_files(30, 3, seed=1), sample[:3] if sample else None)
         runs = {k: [] for k in versions}
         for _ in range(max(1, args.rounds)):
             for k, mod in versions.items():
