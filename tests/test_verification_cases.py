@@ -160,3 +160,28 @@ def test_dispersive_base_at_a_40_takes_the_category_2_limit():
     assert res["base_category"] == 2
     assert ret["limit"] == 0.5
     assert ret["status"] == "fail"
+
+
+# ASTM D2487 (read in published reproductions): a soil with cobbles is classified on its minus-75 mm fraction
+# (D2487-17 §1.2); clean below 5 % fines, dual symbols from 5 to 12 %, fine-grained from 50 %; gravel when
+# more than half of the coarse fraction is retained on No. 4 (equal shares make a sand). In each case below
+# the minus-75 mm share is exactly on an edge in decimal; scaling by the float 100 / P(75) used to put it
+# one unit in the last place on the wrong side ("fines 5.00 % < 5 %", "fines 12.00 % > 12 %",
+# "fines 50.00 % < 50 %"). Expected symbols: the independent computation in exact decimal.
+def _with_cobbles(p75_pct, p200_pct):
+    p4 = round((p75_pct + p200_pct) / 2, 1)
+    pts = [(100.0, 100.0), (75.0, p75_pct), (19.0, (p75_pct + p4) / 2), (4.75, p4), (0.425, (p4 + p200_pct) / 2),
+           (0.15, (p4 + 3 * p200_pct) / 4), (0.075, p200_pct), (0.002, p200_pct / 20)]
+    return _passing(pts, plasticity={"nonplastic": True})
+
+
+@pytest.mark.parametrize("p75_pct, p200_pct, symbol", [
+    (90.0, 10.8, "SP-SM"),   # fines 12 % of the minus-75 mm part (dual); gravel = sand = 44 % (sand)
+    (90.9, 4.545, "GP-GM"),  # fines 5 % (dual); gravel 47.52 % > sand 47.48 %
+    (91.2, 4.56, "SP-SM"),   # fines 5 % (dual)
+    (90.9, 45.45, "ML"),     # fines 50 %: fine-grained, nonplastic fines
+])
+def test_uscs_edges_on_the_minus_75_mm_fraction(p75_pct, p200_pct, symbol):
+    res = call_api("gradation", test=_with_cobbles(p75_pct, p200_pct))["result"]
+    assert res["cobbles_pct"] == pytest.approx(100.0 - p75_pct, abs=1e-9)
+    assert res["uscs"]["symbol"] == symbol

@@ -30,12 +30,42 @@ says what would decide it; nothing is guessed.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from decimal import Decimal, localcontext
 
-from .curve import COBBLE_MM, Curve, coefficient_of_curvature, coefficient_of_uniformity, fractions, regrade, \
-    size_at
+from .curve import COBBLE_MM, GRAVEL_SAND_MM, SAND_FINES_MM, Curve, Fractions, coefficient_of_curvature, \
+    coefficient_of_uniformity, fractions, passing_at, regrade, size_at
 
 SOURCE = "ASTM D2487 (USCS); see docs/methods.md for which rules were read and which are from memory"
 NEEDS_LIMITS = "needs Atterberg limits (liquid limit and plasticity index) or a nonplastic result"
+DECIDE_DIGITS = 12   # significant digits of a percentage compared with a classification edge
+
+
+def decided_pct(num_pct: float, minus_pct: float = 0.0, of_pct: float = 100.0) -> float:
+    """(num_pct - minus_pct) x 100 / of_pct [%] as an edge sees it: in decimal on the percentages' shortest
+    decimal form, rounded to 12 significant digits.
+
+    Used where a percentage is compared with a published edge (USCS 5, 12, 50 %, gravel against sand;
+    base categories 15, 40, 85 %): float subtraction and scaling leave a value that is exactly on an
+    edge one unit in the last place to either side (55.3 - 10.6 is 44.699999999999996, 4.545 x 100 / 90.9
+    is 4.999999999999999), and that noise must not decide a class. Twelve digits are far below any
+    measured precision and far above the noise (about 1e-16).
+    """
+    with localcontext() as ctx:
+        ctx.prec = 40
+        v = (Decimal(repr(num_pct)) - Decimal(repr(minus_pct))) * 100 / Decimal(repr(of_pct))
+        ctx.prec = DECIDE_DIGITS
+        return float(+v)
+
+
+def decision_fractions(curve: Curve, cobbles: bool) -> Fractions:
+    """Gravel, sand and fines [%] of ``curve`` (of its minus-75 mm fraction when ``cobbles``), computed
+    with :func:`decided_pct` from the percentages passing 75, 4.75 and 0.075 mm."""
+    p75, p4, p200 = (passing_at(curve, d) for d in (COBBLE_MM, GRAVEL_SAND_MM, SAND_FINES_MM))
+    of = p75 if (cobbles and p75) else 100.0
+    gravel = None if (p75 is None or p4 is None) else decided_pct(p75, p4, of)
+    sand = None if (p4 is None or p200 is None) else decided_pct(p4, p200, of)
+    fines = None if p200 is None else decided_pct(p200, 0.0, of)
+    return Fractions(0.0 if cobbles else (None if p75 is None else decided_pct(100.0, p75)), gravel, sand, fines)
 
 
 @dataclass(frozen=True)
@@ -196,14 +226,16 @@ def classify(curve: Curve, plasticity: Plasticity | None = None) -> Uscs:
                         "(PI = 0.9 (LL - 8)): recheck the Atterberg limits")
     fr = fractions(curve)
     c = curve
-    if fr.cobbles_pct is not None and fr.cobbles_pct > 0:
+    cobbles = fr.cobbles_pct is not None and fr.cobbles_pct > 0
+    if cobbles:
         rg = regrade(curve, COBBLE_MM)
         if rg is None:
             return Uscs(None, None, ["nothing passes 75 mm"], ["needs the fraction finer than 75 mm"],
                         warnings)
-        c, fr = rg.curve, fractions(rg.curve)
+        c = rg.curve
         basis.append(f"{100.0 - rg.passing_on_pct:.2f} % cobbles and boulders (> 75 mm) set aside; "
                      "classified on the minus-75 mm fraction (name: add 'with cobbles')")
+    fr = decision_fractions(curve, cobbles)
     if fr.fines_pct is not None and fr.fines_pct >= 50.0 and fr.gravel_pct is None:
         # The top sieve retains material of unknown size, but the minus-75 mm fraction has at least as
         # large a share of fines as the whole sample (fines / P(75) >= fines), so the soil is fine-grained

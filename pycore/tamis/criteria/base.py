@@ -9,43 +9,31 @@ original curve for d15B).
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from decimal import Decimal, localcontext
 
+from ..classify import decided_pct
 from ..curve import Curve, passing_at, regrade, size_at
 from ..findings import Finding
 from .nrcs import base_category
 from .tables import CATEGORY_EDGES_PCT, NO_200_MM
 
 _FULL_PCT = 100.0 - 1e-9
-_EDGE_DIGITS = 12   # significant digits of A when its category edge is decided
 
 
 def category_a_pct(curve: Curve, on_mm: float | None) -> float | None:
     """A [%] as the category edges see it: P(0.075 mm) x 100 / P(on_mm) of the unregraded ``curve``
-    (P(0.075 mm) itself when ``on_mm`` is None), computed in decimal on the two percentages' shortest
-    decimal form and rounded to 12 significant digits.
+    (P(0.075 mm) itself when ``on_mm`` is None), by :func:`tamis.classify.decided_pct`.
 
-    The regraded curve scales each percentage by the float CF = 100 / P(on), which leaves A a unit in
-    the last place off when it is exactly 15, 40 or 85 % (e.g. 4.6 % passing 0.075 mm and 11.5 % passing
-    4.75 mm give 39.99999999999999): binary noise must not move a base across a category edge
-    (the edges are the NEH 633-26 1994 category table, from memory). Twelve digits are far below any
-    measured precision and far above the noise (about 1e-16). Only the category uses this value; ``a_pct``
-    and the cat 3 formula keep the unrounded A of the regraded curve.
+    The regraded curve scales each percentage by the float CF = 100 / P(on), which leaves A one unit in
+    the last place off when it is exactly 15, 40 or 85 % (4.6 % passing 0.075 mm and 11.5 % passing
+    4.75 mm give 39.99999999999999): binary noise must not move a base across a category edge (the edges
+    are the NEH 633-26 1994 category table, from memory). Only the category uses this value; ``a_pct``
+    and the category 3 formula keep the unrounded A of the regraded curve.
     """
     p200 = passing_at(curve, NO_200_MM)
-    if p200 is None:
-        return None
-    if on_mm is None:
+    if p200 is None or on_mm is None:
         return p200
     p_on = passing_at(curve, on_mm)
-    if not p_on:
-        return None
-    with localcontext() as ctx:
-        ctx.prec = 40
-        a = Decimal(repr(p200)) * 100 / Decimal(repr(p_on))
-        ctx.prec = _EDGE_DIGITS
-        return float(+a)
-_NO_PROPS = {"nonplastic": None, "liquid_limit": None, "plasticity_index": None, "dispersive": None}
+    return decided_pct(p200, 0.0, p_on) if p_on else None
 
 
 @dataclass(frozen=True)
