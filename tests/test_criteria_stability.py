@@ -54,8 +54,13 @@ def _np_kl(points, f_max):
 
 
 def _np_kezdi(points):
+    # Splits on measured material only (docs/decisions.md D5): D'15c at or below the coarsest point under
+    # 100 %, d'85f at or above the finest point over 0 %.
     p_min, p_max = points[-1][1], points[0][1]
-    ps = np.linspace(p_min / 0.85, (p_max - 15) / 0.85, 20001)
+    inner = [p for _, p in points if 0 < p < 100]
+    p_top = max(inner) if p_max >= 100 else p_max
+    p_bot = min(inner) if p_min <= 0 else p_min
+    ps = np.linspace(p_bot / 0.85, (p_top - 15) / 0.85, 20001)
     return max(_np_size(points, p + 0.15 * (100 - p)) / _np_size(points, 0.85 * p) for p in ps)
 
 

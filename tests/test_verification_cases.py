@@ -101,8 +101,8 @@ def test_category_2_retention_with_unknown_dispersion(rules, status):
 UNIFORM_SAND = [(1.18, 92.5), (0.85, 86.1), (0.425, 63.4), (0.3, 49.0), (0.15, 23.5), (0.075, 0.0)]
 
 
-@pytest.mark.xfail(strict=True, reason="stability.kezdi splits down to a vanishing coarse part (known defect, "
-                                       "fix in criteria/stability.py)")
+# Kezdi (1979) split test, D'15c/d'85f <= 4: the verdict must not change when an empty sieve is added on top
+# (the material is the same). Fixed by keeping splits on measured material (docs/decisions.md D5).
 def test_kezdi_verdict_does_not_depend_on_an_empty_top_sieve():
     statuses = {}
     for top_mm in (9.5, 2.36):

@@ -126,7 +126,10 @@ def handle(request_json: str) -> str:
             "result": result,
             "findings": [f.to_dict() if isinstance(f, Finding) else f for f in findings],
         }
-        return _dumps(_scrub(out))
+        try:
+            return _dumps(out)
+        except ValueError:  # a NaN or Infinity slipped through: replace it by null
+            return _dumps(_scrub(out))
     except InputError as err:
         return _error(req_id, err)
     except Exception as exc:  # a defect in the core: say so, never a traceback

@@ -247,7 +247,26 @@ def check_record(rec, path: str = "record", *, check_json: bool = True) -> dict:
     out["history"] = hist
     if check_json:  # a record read from CSV holds parsed JSON and typed cells only
         _plain_json(out, path)
+        _no_replacement_char(out, path)
     return out
+
+
+def _no_replacement_char(value, path: str) -> None:
+    """Refuse text holding U+FFFD, the mark a decoder leaves for bytes it could
+    not read. The CSV reader takes U+FFFD as the sign of a file saved in
+    another encoding, so such text could be exported but never read back; it
+    is refused here, where it enters, with the field that holds it."""
+    if isinstance(value, str):
+        if "\ufffd" in value:
+            raise InputError("replacement_char", f"{path or 'record'} holds the character U+FFFD, the mark of "
+                             "text read in the wrong encoding; retype it.", path)
+    elif isinstance(value, dict):
+        for k, v in value.items():
+            _no_replacement_char(k, path)
+            _no_replacement_char(v, join(path, str(k)))
+    elif isinstance(value, list):
+        for i, v in enumerate(value):
+            _no_replacement_char(v, join(path, i))
 
 
 def _plain_json(rec: dict, path: str) -> None:

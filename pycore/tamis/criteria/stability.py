@@ -63,10 +63,21 @@ def kezdi_1979(curve: Curve) -> Check:
     and d'85f the size at 0.85 Ps on the whole curve. The log of the ratio is
     linear in Ps between breakpoints, so its maximum is found at breakpoints
     (approached from both sides where the curve has flat steps).
+
+    Splits are kept where both parts are read on measured material: D'15c no
+    higher than the coarsest point below 100 % and d'85f no lower than the
+    finest point above 0 %. Between the last sieve passing 100 % and the first
+    one retaining material (and likewise at the 0 % end) the curve is only an
+    interpolation across an unmeasured interval, and reading a vanishing part
+    there would make the verdict depend on which empty sieve topped the stack
+    (implementation choice, derived; see docs/decisions.md D5).
     """
     p_min, p_max = _span(curve)
-    lo = max(p_min / 0.85, _EPS)
-    hi = min((p_max - 15.0) / 0.85, 100.0 - _EPS)
+    inner = [p for _, p in curve.points if 0.0 < p < 100.0]
+    p_top = max(inner) if (inner and p_max >= 100.0) else p_max
+    p_bot = min(inner) if (inner and p_min <= 0.0) else p_min
+    lo = max(p_bot / 0.85, _EPS)
+    hi = min((p_top - 15.0) / 0.85, 100.0 - _EPS)
     incomplete = p_min > 0.0 or p_max < 100.0
     if hi < lo:
         return make_check("stability.kezdi", NEEDS_DATA,
