@@ -50,3 +50,28 @@ def test_main_screens_have_no_axe_violations(page, site, width, height, theme):
         go(page, route)
         assert_no_violations(page, route)
         assert targets_too_small(page) == [], route
+
+
+@pytest.mark.parametrize("width", [360, 390])
+@pytest.mark.parametrize("theme", ["standard", "sunlight"])
+def test_tab_labels_are_whole_and_screens_fit_the_width(page, site, width, theme):
+    """Every tab label stays whole (no word broken over two lines, nothing cut off), each tab is at least
+    44 x 44 px, and no screen is wider than the phone (the sieve table's passing column stays in view)."""
+    page.set_viewport_size({"width": width, "height": 780})
+    open_app(page, site, "#/settings")
+    page.get_by_label("Theme").select_option(theme)
+    tabs = page.evaluate("""() => [...document.querySelectorAll('nav.tabs a')].map(a => {
+        const r = a.getBoundingClientRect();
+        return {w: r.width, h: r.height, left: r.left, right: r.right, fits: a.scrollWidth <= a.clientWidth,
+                words: [...a.querySelectorAll('span:not(.badge)')].map(s => [s.textContent, s.getClientRects().length,
+                        s.getBoundingClientRect().width <= r.width + 0.5])};
+    })""")
+    assert len(tabs) == 6
+    for t in tabs:
+        assert t["w"] >= 44 and t["h"] >= 44, t
+        assert t["left"] >= 0 and t["right"] <= width + 0.5 and t["fits"], t
+        assert all(lines == 1 and inside for _, lines, inside in t["words"]), t
+    enter_sample(page)
+    for route in ("#/entry", "#/quick", "#/records", "#/refs", "#/exchange", "#/settings"):
+        go(page, route)
+        assert page.evaluate("() => document.documentElement.scrollWidth") <= width, route

@@ -119,8 +119,8 @@ export function testEditor(box, test, { path = "sample", onChange = () => {}, pr
         h("td", { class: "calc pass", text: point ? fmtPct(point.passing_pct) : "—" }),
         h("td", {}, removeButton(`Remove sieve ${labelOf(row.opening_mm)}`, i))));
     });
-    return table({ class: "sieve-table" }, "Masses retained on each sieve",
-      ["Sieve", "Retained (g)", "Cum. retained (%)", "Passing (%)", null], tbody);
+    return table({ class: "sieve-table" }, "Masses retained on each sieve; cumulative retained (Cum.) and passing from the calculator",
+      ["Sieve", "Retained (g)", "Cum. (%)", "Passing (%)", null], tbody);
   }
 
   function passingRows(caption = "Percent passing at each size") {

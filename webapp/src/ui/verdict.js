@@ -39,6 +39,12 @@ const CHECK_NAMES = {
   "stability.li_fannin": "Internal stability (Li-Fannin)",
   "stability.burenkova": "Internal stability (Burenkova)",
   "stability.istomina": "Internal stability (Istomina)",
+  "stability.wan_fell": "Internal stability (Wan-Fell)",
+  "band.between_sieves": "Fraction between two band sieves",
+  "band.fineness_modulus": "Fineness modulus within the band",
+  "permeability.hazen": "Permeability estimate (Hazen)",
+  "permeability.kozeny_carman": "Permeability estimate (Kozeny-Carman)",
+  "permeability.ratio": "Permeability ratio, filter to base (estimate)",
 };
 
 export function checkName(id) {
