@@ -440,11 +440,13 @@ def header_for(cell_dicts) -> list[str]:
     """The header for a set of rows: every static column, and the opening columns
     that some row uses, coarsest first."""
     openings = {f: set() for f in FAMILIES}
+    used = set()
     for c in cell_dicts:
-        for col in c:
-            if "@" in col:
-                fam, _, rest = col.partition("@")
-                openings[fam].add(float(rest[:-2]))
+        used.update(c)  # each column name once, whatever the number of rows
+    for col in used:
+        if "@" in col:
+            fam, _, rest = col.partition("@")
+            openings[fam].add(float(rest[:-2]))
     band_ops = sorted(openings["band_min_pct"] | openings["band_max_pct"], reverse=True)
     cols = list(FIXED_COLUMNS) + list(META_COLUMNS) + list(TEST_HEAD)
     cols += [f"retained_g@{fmt_num(o)}mm" for o in sorted(openings["retained_g"], reverse=True)]
@@ -456,8 +458,11 @@ def header_for(cell_dicts) -> list[str]:
     return cols
 
 
+_NEEDS_QUOTES = re.compile('[,"\r\n]')
+
+
 def _quote(cell: str) -> str:
-    if "," in cell or '"' in cell or "\n" in cell or "\r" in cell:
+    if _NEEDS_QUOTES.search(cell):
         return '"' + cell.replace('"', '""') + '"'
     return cell
 
@@ -474,10 +479,11 @@ def write_csv(records, summaries=None, *, bom: bool = False) -> str:
     pos = {h: i for i, h in enumerate(header)}
     lines = [",".join(_quote(h) for h in header)]
     blank = [""] * len(header)
+    quotes = _NEEDS_QUOTES.search
     for c in cells:
         row = blank[:]
         for col, v in c.items():
-            row[pos[col]] = _quote(v)
+            row[pos[col]] = '"' + v.replace('"', '""') + '"' if quotes(v) else v  # _quote, inlined
         lines.append(",".join(row))
     return ("\ufeff" if bom else "") + "\r\n".join(lines) + "\r\n"
 
