@@ -843,18 +843,21 @@ def descends(a: dict, b: dict) -> bool:
 def merge_history(*histories, memo=None) -> list:
     """Union of history entries (an entry once, whatever the key order or int/float
     spelling of its numbers), ordered by rev, time, content."""
-    if histories and _ordered(histories[0]):
-        first = histories[0]
-        text = None
-        for h in histories[1:]:
-            if h is first:
+    longest = max(histories, key=len) if histories else None  # the first of the longest
+    if longest is not None and _ordered(longest):
+        texts = {}  # length -> text of that many first entries of ``longest``
+        for h in histories:
+            if h is longest:
                 continue
-            if text is None:
-                text = dump_json(first)
-            if dump_json(h) != text:
+            n = len(h)
+            if n not in texts:
+                texts[n] = dump_json(longest[:n])
+            if dump_json(h) != texts[n]:
                 break
         else:
-            return list(first)  # copies of one history: already its own union, in order
+            # every history is spelled as the start of ``longest`` (copies of one
+            # history, or older revisions' histories): ``longest`` is the union, in order
+            return list(longest)
     # memo: id(entry) -> (canonical text, text, entry), and text -> canonical text
     # (copies of one entry in several files are spelled alike: canonicalised once)
     memo = {} if memo is None else memo

@@ -1,0 +1,184 @@
+"""Shortcuts in the reader and the merge give the answers of the full rules.
+
+- Times: ``is_iso_utc`` decides most dates on their text (a day 01-28 exists
+  in every month); every other date is decided by the standard library's
+  ``datetime`` (proleptic Gregorian calendar, years 1-9999, Python
+  documentation, ``datetime`` module), which is the reference here.
+- Rows: the reader returns a row without a second validation when it already
+  fits; a row that does not must still be refused at the same cell, with the
+  same code, as ``docs/csv.md`` describes (header = row 1).
+- History union: ``merge_history`` returns the longer history as it is when
+  the others are spelled as its first entries; the expected unions below are
+  computed independently from the rule in its docstring (an entry once, the
+  int/float spellings of one number the same entry, the spelling that is the
+  smallest text kept, ordered by rev then time then content).
+"""
+
+from __future__ import annotations
+
+import json
+import random
+from datetime import datetime
+
+import pytest
+
+from tamis import api, records as R
+from test_records import UID, UID2, rec
+from test_records_import import edit, good_file, reject
+
+
+# ------------------------------------------------------------ times
+
+def _real(y, mo, d, h, mi, s) -> bool:
+    try:
+        datetime(int(y), int(mo), int(d), int(h), int(mi), int(s))
+    except ValueError:
+        return False
+    return True
+
+
+@pytest.mark.parametrize("year", ["0000", "0001", "1900", "2000", "2023", "2024", "9999"])
+def test_every_day_of_every_month_is_judged_as_the_calendar_does(year):
+    days = [f"{d:02d}" for d in range(0, 33)] + ["99"]
+    months = [f"{m:02d}" for m in range(0, 14)] + ["99"]
+    for mo in months:
+        for d in days:
+            text = f"{year}-{mo}-{d}T12:30:45Z"
+            assert R.is_iso_utc(text) is _real(year, mo, d, 12, 30, 45), text
+
+
+@pytest.mark.parametrize("clock", ["00:00:00", "23:59:59", "24:00:00", "23:60:00", "23:59:60", "29:00:00",
+                                   "09:99:00", "19:00:59.123456789"])
+def test_times_of_day_are_judged_as_the_calendar_does(clock):
+    for date in ("2026-01-15", "2026-02-28", "2024-02-29", "2026-12-31"):
+        text = f"{date}T{clock}Z"
+        y, mo, d = date.split("-")
+        h, mi, s = clock[:8].split(":")
+        assert R.is_iso_utc(text) is _real(y, mo, d, h, mi, s), text
+
+
+# ------------------------------------------------------------ rows refused at the same cell
+
+def test_a_leap_day_is_read_and_an_impossible_day_refused():
+    ok = edit(good_file(), 3, "updated_at", "2024-02-29T09:30:00Z")
+    out = json.loads(api.handle(json.dumps({"schema": 1, "op": "records_import_csv", "id": 1, "csv": ok})))
+    assert out["ok"], out
+    assert {r["updated_at"] for r in out["result"]["records"]} >= {"2024-02-29T09:30:00Z"}
+    reject(edit(good_file(), 3, "updated_at", "2026-02-29T09:30:00Z"), "csv.row[3].updated_at", "bad_time",
+           "Row 3, column updated_at", "2026-02-29")
+    reject(edit(good_file(), 2, "updated_at", "2026-04-31T09:30:00Z"), "csv.row[2].updated_at", "bad_time")
+    reject(edit(good_file(), 3, "exported_at", "2026-12-01T24:00:00Z"), "csv.row[3].exported_at", "bad_time",
+           "Row 3, column exported_at")
+
+
+@pytest.mark.parametrize("history,code,words", [
+    ([{"rev": 0, "at": "2026-12-01T09:30:00Z", "by": "AB"}], "bad_rev", ("history[0].rev",)),
+    ([{"rev": True, "at": "2026-12-01T09:30:00Z", "by": "AB"}], "bad_rev", ("history[0].rev",)),
+    ([{"rev": 1.0, "at": "2026-12-01T09:30:00Z", "by": "AB"}], "bad_rev", ("history[0].rev",)),
+    ([{"rev": 1, "at": "2026-12-01T09:30:00Z", "by": "AB"}, {"rev": 2, "at": "2026-06-31T09:30:00Z", "by": "AB"}],
+     "bad_time", ("history[1].at", "2026-06-31")),
+    ([{"rev": 1, "at": "2026-12-01T09:30:00Z", "by": 7}], "not_a_string", ("history[0].by",)),
+    ([{"rev": 1, "at": "2026-12-01T09:30:00Z"}], "not_a_string", ("history[0].by",)),
+    ([7], "not_an_object", ("history[0]",)),
+])
+def test_history_faults_are_refused_in_the_history_column(history, code, words):
+    text = edit(good_file(), 3, "history_json", R.dump_json(history))
+    reject(text, "csv.row[3].history_json", code, "Row 3, column history_json", *words)
+
+
+def test_a_fault_on_a_later_row_is_still_the_one_named():
+    text = edit(edit(good_file(), 3, "updated_at", "2026-11-31T00:00:00Z"), 2, "kind", "sample")
+    reject(text, "csv.row[2].kind", "bad_kind")  # row 2 is read first
+
+
+# ------------------------------------------------------------ history union
+
+def entry(rev, at, by="AB", **more):
+    return {"rev": rev, "at": at, "by": by, "summary": "edit", "changes": [], **more}
+
+
+def _floats(v):
+    if type(v) is int:
+        return float(v)
+    if isinstance(v, dict):
+        return {k: _floats(x) for k, x in v.items()}
+    if isinstance(v, list):
+        return [_floats(x) for x in v]
+    return v
+
+
+def reference_union(*histories):
+    """The rule of merge_history, written out: one entry per content (numbers
+    compared as floats), the entry whose compact JSON text is the smallest
+    (compared as text) kept, ordered by rev, time, content."""
+    best = {}
+    for hist in histories:
+        for h in hist:
+            canon = json.dumps(_floats(h), ensure_ascii=False, separators=(",", ":"))
+            text = json.dumps(h, ensure_ascii=False, separators=(",", ":"))
+            if canon not in best or text < best[canon][0]:
+                best[canon] = (text, h)
+    return [json.loads(best[c][0]) for c in sorted(best, key=lambda c: (best[c][1]["rev"], best[c][1]["at"], c))]
+
+
+def spelled(hist):
+    return R.dump_json(hist)
+
+
+def test_an_older_revisions_history_is_the_start_of_the_newer_one():
+    newer = [entry(1, "2026-12-01T09:00:00Z"), entry(2, "2026-12-02T09:00:00Z"), entry(3, "2026-12-03T09:00:00Z")]
+    older = json.loads(json.dumps(newer[:2]))  # another file's copy: equal, not the same objects
+    for args in ((newer, older), (older, newer), (older, newer, older[:1]), (newer,)):
+        got = R.merge_history(*args)
+        assert spelled(got) == spelled(newer) and got is not newer
+
+
+def test_a_history_spelled_otherwise_is_united_by_content():
+    newer = [entry(1, "2026-12-01T09:00:00Z", weight=12.0), entry(2, "2026-12-02T09:00:00Z")]
+    older = [entry(1, "2026-12-01T09:00:00Z", weight=12)]  # 12 and 12.0: one entry; "12.0}" < "12}"
+    for args in ((newer, older), (older, newer)):
+        got = R.merge_history(*args)
+        assert len(got) == 2 and type(got[0]["weight"]) is float
+    assert spelled(got) == spelled(reference_union(newer, older))
+
+
+def test_a_history_that_is_not_in_order_is_sorted_and_deduplicated():
+    a, b = entry(1, "2026-12-01T09:00:00Z"), entry(2, "2026-12-02T09:00:00Z")
+    got = R.merge_history([b, a, b], [a])
+    assert spelled(got) == spelled([a, b])
+
+
+def test_random_histories_give_the_reference_union():
+    rng = random.Random(404)
+    pool = []
+    for rev in range(1, 9):
+        at = f"2026-12-{rev:02d}T09:00:00Z"
+        pool.append([entry(rev, at, n=rev), entry(rev, at, n=float(rev))])  # two spellings of one entry
+        if rev % 3 == 0:
+            pool.append([entry(rev, at, by="QA")])  # another entry at the same rev and time
+    for _ in range(400):
+        hists = []
+        for _ in range(rng.randint(1, 4)):
+            picks = sorted(rng.sample(range(len(pool)), rng.randint(0, len(pool))))
+            if rng.random() < 0.5:
+                picks = picks[:rng.randint(0, len(picks))]
+            h = [json.loads(json.dumps(rng.choice(pool[i]))) for i in picks]
+            if rng.random() < 0.2:
+                rng.shuffle(h)
+            hists.append(h)
+        if rng.random() < 0.5 and hists[0]:  # a prefix of the first, as an older revision holds it
+            hists.append(json.loads(json.dumps(hists[0][:rng.randint(0, len(hists[0]))])))
+        assert spelled(R.merge_history(*hists)) == spelled(reference_union(*hists)), hists
+
+
+def test_merge_keeps_the_newer_revision_with_its_whole_history():
+    v1 = R.check_record(rec())
+    v2 = R.check_record(rec(rev=2, updated_at="2026-12-02T09:30:00Z",
+                            history=v1["history"] + [entry(2, "2026-12-02T09:30:00Z")]))
+    band = R.check_record(rec(record_id=UID2, kind="band", test=None, band={"name": "F1"}))
+    files = [R.write_csv([v1, band]), R.write_csv([v2]), R.write_csv([v1, v2, band][1:])]
+    out = json.loads(api.handle(json.dumps({"schema": 1, "op": "records_merge", "id": 1, "files": files})))
+    assert out["ok"] and out["result"]["conflicts"] == []
+    back = R.read_csv(out["result"]["csv"])[0]
+    mine = next(r for r in back if r["record_id"] == UID)
+    assert mine["rev"] == 2 and spelled(mine["history"]) == spelled(v2["history"])
