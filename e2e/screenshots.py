@@ -128,7 +128,8 @@ def _take(browser, site, out_dir: Path, log) -> list[Path]:
     page.get_by_role("button", name="Open the demo project").click()
     page.get_by_text("Imported the demo project").first.wait_for()
     page.get_by_text("What was added").first.click()
-    page.wait_for_timeout(200)
+    _quiet(page)
+    _scroll_to(page, "#view .ok-line")
     shot(SHOTS[1][0])
 
     ids = _record_ids()

@@ -243,7 +243,7 @@ def test_band_copied_from_the_core_examples_is_checked_like_cpython(page, site):
     assert_band_rows_shown(page, want)
     # 100 % passing 3/8 in against a band of 100 to 100 %: the smallest margin is 0 points there.
     assert want["value"] == 0.0 and "exactly on a limit" in page.text_content(BAND_CHECK + " .check-values")
-    assert "(limit)" not in page.text_content(BAND_CHECK)  # not "0 % >= 0 % (limit)"
+    assert "must be" not in page.text_content(BAND_CHECK)  # not "0 % (must be ≥ 0 %)"
 
     # 17.6 g moved from No. 8 to No. 4: the sample leaves the band at No. 4; the failing sieve is named.
     page.fill("input[data-field='sample.sieves[1].retained_g']", "30")
@@ -276,3 +276,15 @@ def assert_band_rows_shown(page, check: dict) -> None:
     rows = page.eval_on_selector_all(BAND_CHECK + " .band-rows tbody tr",
                                      "rs => rs.map(r => [Number(r.dataset.opening), r.dataset.status])")
     assert rows == [[r["opening_mm"], r["status"]] for r in check["sieves"]]
+
+
+def test_value_and_limit_never_read_as_equal_when_they_differ(page, site):
+    """Display only: a value that rounds to its limit is shown in full; the relation reads as the requirement."""
+    open_app(page, site)
+    shown = page.evaluate("""async () => {
+        const v = await import('/src/ui/verdict.js');
+        return [v.valueVsLimit({value: 0.7004, limit: 0.7, unit: 'mm', relation: '<='}),
+                v.valueVsLimit({value: 0.7419, limit: 0.7, unit: 'mm', relation: '<='}),
+                v.valueVsLimit({value: 0.652, limit: 1, unit: '-', relation: '<='})];
+    }""")
+    assert shown == ["0.7004 mm (must be ≤ 0.7 mm)", "0.742 mm (must be ≤ 0.7 mm)", "0.652 (must be ≤ 1)"]

@@ -104,7 +104,7 @@ def test_export_is_byte_identical_to_the_core_and_import_asks_on_conflict(page, 
     assert apply.is_enabled()
     apply.click()
     page.wait_for_selector(".import-result .ok-line")
-    assert "1 conflicts settled as new revisions" in page.text_content(".import-result")
+    assert "1 conflict settled as a new revision" in page.text_content(".import-result")
     now = next(r for r in all_records(page) if r["record_id"] == test["record_id"])
     # The core settled it (resolve, at, by): a new revision above both, with the file's content.
     settled = core("records_import_csv", csv=office_csv, existing=[local], resolve={test["record_id"]: "incoming"},

@@ -89,7 +89,7 @@ export async function exchangeScreen(app, view, opts = {}) {
   const demo = all.filter(isDemo);
   const live = all.filter((r) => !r.deleted);
   fill(view, h("div", { class: "screen" },
-    h("h1", { text: "Exchange with the office" }),
+    h("h1", { text: "Import and export" }),
     h("section", { class: "card" }, h("h2", { text: "Export as CSV" }),
       h("p", { class: "hint", text: "Data leaves this device only when you export it. Exported records are marked with the time of export." }),
       h("div", { class: "actions column" },
@@ -153,9 +153,11 @@ async function writeImport(r) {
 function doneView(app, box, status, name, r, written) {
   const added = written.filter((x) => (r.added || []).includes(x.record_id));
   const resolved = (r.resolved || []).length;
-  const msg = `Imported ${name}: ${r.added.length} added${added.length ? ` (${kindsText(added)})` : ""}, ` +
-    `${r.updated.length - resolved} updated, ${r.unchanged.length} unchanged` +
-    `${resolved ? `, ${resolved} conflicts settled as new revisions` : ""}.`;
+  const parts = [`${r.added.length} added${added.length ? ` (${kindsText(added)})` : ""}`];
+  if (r.updated.length - resolved) parts.push(`${r.updated.length - resolved} updated`);
+  if (r.unchanged.length) parts.push(`${r.unchanged.length} unchanged`);
+  if (resolved) parts.push(resolved === 1 ? "1 conflict settled as a new revision" : `${resolved} conflicts settled as new revisions`);
+  const msg = `Imported ${name}: ${parts.join(", ")}.`;
   fill(box, h("p", { class: "ok-line", text: msg }),
     added.length ? h("details", { class: "added-list" },
       h("summary", { text: `What was added (${added.length})` }),

@@ -51,14 +51,20 @@ export function checkName(id) {
   return CHECK_NAMES[id] || id;
 }
 
-/** "0.52 mm ≤ 0.70 mm" from a check's unrounded numbers (rounded for display only). */
+/** "0.52 mm (must be ≤ 0.7 mm)" from a check's unrounded numbers (rounded for display only). */
 export function valueVsLimit(check) {
   if (check.value === null && check.limit === null) return "";
   const unit = check.unit && check.unit !== "-" ? ` ${check.unit}` : ""; // "-": a ratio, no unit
-  const v = `${fmt(check.value, 3)}${unit}`;
+  // Value and limit that round to the same figure but differ are shown in
+  // full, so a failing value never reads as equal to its limit.
+  const same = typeof check.value === "number" && typeof check.limit === "number"
+    && check.value !== check.limit && fmt(check.value, 3) === fmt(check.limit, 3);
+  const show = (x) => (same ? String(x) : fmt(x, 3));
+  const v = `${show(check.value)}${unit}`;
   if (check.limit === null || check.limit === undefined) return `value ${v}`;
   const rel = { "<=": "≤", ">=": "≥", "<": "<", ">": ">" }[check.relation] || check.relation || "vs";
-  return `${v} ${rel} ${fmt(check.limit, 3)}${unit} (limit)`;
+  // The relation is the requirement, not a claim about the value: "0.742 mm (must be ≤ 0.7 mm)".
+  return `${v} (must be ${rel} ${show(check.limit)}${unit})`;
 }
 
 /**
