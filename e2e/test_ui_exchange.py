@@ -244,3 +244,25 @@ def test_record_list_verdicts_and_filters_match_cpython(page, site):
     assert page.locator("li.record-item").count() == len(expected)  # imported, never exported from here
     page.get_by_label("Search").fill("Q-0916-1R")
     assert page.eval_on_selector_all("li.record-item .record-title", "els => els.map(e => e.textContent)")[0].startswith("Q-0916-1R")
+
+
+def test_demo_shows_the_review_only_when_something_conflicts(page, site):
+    """A device holding another version of one demo record (same id and revision, other content): opening the
+    demo stops at the review, writes nothing until the user chooses, and the choice is settled by the core."""
+    demo_csv = DEMO_CSV.read_text(encoding="utf-8")
+    first = core("records_import_csv", csv=demo_csv, existing=[])["records"][0]
+    other = json.loads(json.dumps(first))
+    other["meta"]["notes"] = "edited on this device"
+    open_app(page, site, "#/exchange")
+    page.evaluate("async (r) => (await import('/src/storage/records.js')).putRecords([r])", other)
+    page.get_by_role("button", name="Open the demo project").click()
+    page.wait_for_selector(".conflict")
+    assert all_records(page) == [other]  # nothing written yet
+    page.get_by_label("Keep the one on this device").check()
+    page.get_by_label("Your name or initials, recorded with your choices").fill("JD")
+    page.get_by_role("button", name="Apply the import").click()
+    page.wait_for_selector(".import-result .ok-line")
+    kept = next(r for r in all_records(page) if r["record_id"] == other["record_id"])
+    assert kept["meta"]["notes"] == "edited on this device" and kept["rev"] == first["rev"] + 1
+    again = core("records_import_csv", csv=demo_csv, existing=all_records(page))
+    assert again["conflicts"] == []
