@@ -288,3 +288,30 @@ def test_value_and_limit_never_read_as_equal_when_they_differ(page, site):
                 v.valueVsLimit({value: 0.652, limit: 1, unit: '-', relation: '<='})];
     }""")
     assert shown == ["0.7004 mm (must be ≤ 0.7 mm)", "0.742 mm (must be ≤ 0.7 mm)", "0.652 (must be ≤ 1)"]
+
+
+def test_spot_check_does_not_store_a_base_soil_the_core_refuses(page, site):
+    """One D-value is one point, not a curve: the core refuses it, the screen says so beside the field,
+    and "Save as a test record" stores nothing."""
+    open_app(page, site)
+    go(page, "#/quick")
+    page.fill("input[data-field='base.d_mm.D15']", "0,01")
+    for i, (d, p) in enumerate(SPOT[:3]):
+        page.fill(f"input[data-field='sample.passing[{i}].opening_mm']", str(d))
+        page.fill(f"input[data-field='sample.passing[{i}].passing_pct']", p)
+    settle(page)
+    resp = cpython_error("evaluate", sample={"passing": [{"opening_mm": d, "passing_pct": float(p.replace(",", "."))}
+                                                         for d, p in SPOT[:3]]},
+                         base={"d_mm": {"D15": 0.01}}, rules={"criteria": "nrcs-1994"})
+    assert resp["error"]["message"] in page.text_content("#view")
+    page.get_by_role("button", name="Save as a test record").click()
+    page.get_by_text("Not saved: the base soil's figures are refused").wait_for()
+    assert page.evaluate("async () => (await import('/src/storage/records.js')).listRecords()") == []
+
+
+def cpython_error(op: str, **fields) -> dict:
+    import json
+    from tamis.api import handle
+    resp = json.loads(handle(json.dumps({"schema": 1, "op": op, "id": 1, **fields})))
+    assert resp["ok"] is False, resp
+    return resp

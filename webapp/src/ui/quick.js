@@ -114,6 +114,9 @@ export async function quickScreen(app, view) {
     if (app.settings.tester) meta.tested_by = app.settings.tester;
     if (record) meta.base_id = record.record_id;
     else if (base) {
+      // Only a base soil the core accepts is stored.
+      const check = await ask("gradation", { test: base });
+      if (!check.ok) { status.textContent = `Not saved: the base soil's figures are refused (${check.error?.message}).`; return; }
       // A typed base soil becomes a base record of its own, so the test can point to it.
       const baseRec = blankRecord("base", { meta: { sample_id: newSampleId().replace(/^S-/, "B-"), notes: "Typed in a spot check." }, test: base });
       const { record: saved } = await saveRecord(baseRec, { by: app.settings.tester || "", summary: "created in a spot check" });
