@@ -590,7 +590,8 @@ def parse_header(header: list[str], path: str) -> dict:
             raise InputError("missing_column", f"Row 1: the required column {col!r} is missing.", f"{where}.{col}")
     colinfo = {col: (f, op) for f in FAMILIES for op, col in fams[f]}
     return {"cols": header, "colinfo": colinfo,
-            "families": {f: sorted(fams[f], key=lambda t: -t[0]) for f in FAMILIES}}
+            "families": {f: (sorted(fams[f], key=lambda t: -t[0]), frozenset(col for _, col in fams[f]))
+                         for f in FAMILIES}}
 
 
 def _meta_from(cells: dict, where: str) -> dict:
@@ -681,8 +682,9 @@ def _column_of(rel_field: str) -> str:
 def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = False, families=None) -> dict:
     """One record from the non-blank cells of a row; ``where`` is ``csv.row[n]``;
     ``colinfo`` maps each opening column to ``(family, opening_mm)``;
-    ``families`` (optional, from :func:`parse_header`) lists each family's
-    ``(opening_mm, column)`` coarsest first, so it is not sorted again per row."""
+    ``families`` (optional, from :func:`parse_header`) gives each family's
+    ``(opening_mm, column)`` coarsest first and the set of its columns, so they
+    are not sorted again per row, and a family with no cell on the row is skipped."""
     if families is None:
         fams = {f: [] for f in FAMILIES}
         for col in cells:
@@ -691,8 +693,9 @@ def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = Fal
                 fams[info[0]].append((info[1], col))
         for lst in fams.values():
             lst.sort(key=lambda t: -t[0])
-    else:  # only the blank cells are left out (the parsers below skip them anyway)
-        fams = families
+    else:  # blank cells are left in the lists (the parsers below skip them anyway)
+        keys = cells.keys()
+        fams = {f: ([] if keys.isdisjoint(cols) else lst) for f, (lst, cols) in families.items()}
     if cells.get(MARKER) != CSV_VERSION:
         raise cell_error("unsupported_version", f"{where}.{MARKER}", f"must be {CSV_VERSION} (the CSV version "
                          f"this core reads), got {cells.get(MARKER, '')!r}.")
