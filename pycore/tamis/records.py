@@ -32,7 +32,9 @@ References
 
 from __future__ import annotations
 
+import contextlib
 import csv
+import gc
 import io
 import json
 import math
@@ -139,6 +141,22 @@ def _reject_constant(name):
 
 
 _DECODER = json.JSONDecoder(parse_constant=_reject_constant)  # stateless; made once
+
+
+@contextlib.contextmanager
+def _acyclic_work():
+    """Pause the cyclic garbage collector while a whole file of records is built or
+    merged, and restore it as it was. Records are trees (no reference cycles),
+    so nothing waits for the collector meanwhile; left running, it would walk
+    every record already built again and again as a large file is read (about
+    a third of the reading time). Reference counting still frees everything."""
+    was_enabled = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was_enabled:
+            gc.enable()
 
 
 def is_iso_utc(s) -> bool:
@@ -470,6 +488,11 @@ def _quote(cell: str) -> str:
 def write_csv(records, summaries=None, *, bom: bool = False) -> str:
     """CSV text of checked records: one header, one row per record, CRLF line ends,
     rows in :func:`row_order`. ``summaries`` maps record id -> calc cells."""
+    with _acyclic_work():
+        return _write_rows(records, summaries, bom)
+
+
+def _write_rows(records, summaries, bom: bool) -> str:
     recs = sorted(records, key=row_order)
     cells = [record_cells(r) for r in recs]
     if summaries:
@@ -779,7 +802,8 @@ def read_csv(text: str, path: str = "csv") -> tuple[list[dict], list[dict]]:
     old_limit = csv.field_size_limit()
     csv.field_size_limit(_FIELD_LIMIT)
     try:
-        return _read_rows(text, path)
+        with _acyclic_work():
+            return _read_rows(text, path)
     finally:
         csv.field_size_limit(old_limit)
 
@@ -957,6 +981,11 @@ def merge_all(record_lists) -> tuple[list[dict], list[dict]]:
     """Merge lists of checked records by id. Returns ``(records, conflicts)``,
     records in row order, conflicts as ``{"record_id", "local", "incoming", "reason"}``
     (``local`` is the version kept) ordered by id."""
+    with _acyclic_work():
+        return _merge_all(record_lists)
+
+
+def _merge_all(record_lists):
     by_id = {}
     for lst in record_lists:
         for r in lst:
