@@ -185,7 +185,7 @@ class Curve:
         return j, False
 
 
-def make_curve(points, path: str = "passing") -> Curve:
+def make_curve(points, path: str = "passing", field_of=None) -> Curve:
     """Build a :class:`Curve` from ``(opening_mm, passing_pct)`` pairs in any order.
 
     Parameters
@@ -194,6 +194,10 @@ def make_curve(points, path: str = "passing") -> Curve:
         Opening [mm] > 0 and percent passing [%] in 0..100, in entry order.
     path : str
         Field path of the list, used in error messages (``passing[2].opening_mm``).
+    field_of : callable, optional
+        ``field_of(i, "opening_mm" | "passing_pct" | "")`` -> the field path of
+        point ``i`` when the points do not come from one list (e.g. D-values
+        beside sieve points); by default ``path[i].name``.
 
     Raises
     ------
@@ -202,28 +206,30 @@ def make_curve(points, path: str = "passing") -> Curve:
         0..100, two points at the same opening, or a percentage that rises as
         sizes fall.
     """
+    if field_of is None:
+        def field_of(i: int, name: str) -> str:
+            return join(join(path, i), name) if name else join(path, i)
     pts = [(float(d), float(p), i) for i, (d, p) in enumerate(points)]
     if len(pts) < 2:
         raise InputError("too_few_points", f"{path} needs at least two sieves to make a curve.", path)
     for d, p, i in pts:
         if not (math.isfinite(d) and d > 0):
-            raise InputError("bad_opening", f"{join(join(path, i), 'opening_mm')} must be a positive size in mm.",
-                             join(join(path, i), "opening_mm"))
+            f = field_of(i, "opening_mm")
+            raise InputError("bad_opening", f"{f} must be a positive size in mm.", f)
         if not (math.isfinite(p) and 0.0 <= p <= 100.0):
-            raise InputError("passing_out_of_range",
-                             f"{join(join(path, i), 'passing_pct')} must lie between 0 and 100 %, got {p:g}.",
-                             join(join(path, i), "passing_pct"))
+            f = field_of(i, "passing_pct")
+            raise InputError("passing_out_of_range", f"{f} must lie between 0 and 100 %, got {p:g}.", f)
     pts.sort(key=lambda t: -t[0])
     for (d1, p1, i1), (d2, p2, i2) in zip(pts, pts[1:]):
         if same_size(d1, d2):
+            f = field_of(i2, "opening_mm")
             raise InputError("duplicate_opening",
-                             f"{join(join(path, i2), 'opening_mm')} repeats the opening {d2:g} mm "
-                             f"of {join(path, i1)}.", join(join(path, i2), "opening_mm"))
+                             f"{f} repeats the opening {d2:g} mm of {field_of(i1, '')}.", f)
         if p2 > p1:
+            f = field_of(i2, "passing_pct")
             raise InputError("passing_rises",
-                             f"{join(join(path, i2), 'passing_pct')} = {p2:g} % at {d2:g} mm is more than "
-                             f"{p1:g} % at the coarser {d1:g} mm; percent passing cannot rise as sizes fall.",
-                             join(join(path, i2), "passing_pct"))
+                             f"{f} = {p2:g} % at {d2:g} mm is more than {p1:g} % at the coarser {d1:g} mm; "
+                             "percent passing cannot rise as sizes fall.", f)
     return Curve(tuple((d, p) for d, p, _ in pts))
 
 

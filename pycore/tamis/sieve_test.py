@@ -329,26 +329,13 @@ def parse_passing(test: dict, path: str) -> SieveTest:
             pts.append((resolve_opening(it, ip), number(it, "passing_pct", ip), ip))
     if test.get("d_mm") is not None:
         pts.extend(_d_value_points(test, path))
-    try:
-        curve = make_curve([(d, p) for d, p, _ in pts], "points")
-    except InputError as err:
-        # make_curve names "points[i]..."; point the error at the field the user typed.
-        field = err.field
-        for i, (_, _, fp) in enumerate(pts):
-            head = f"points[{i}]"
-            if field == head or field.startswith(head + "."):
-                tail = field[len(head):]
-                field = fp + (tail if not fp.startswith(join(path, "d_mm")) else "")
-                break
-        msg = err.message
-        for i, (_, _, fp) in reversed(list(enumerate(pts))):
-            if fp.startswith(join(path, "d_mm")):
-                for tail in (".opening_mm", ".passing_pct"):
-                    msg = msg.replace(f"points[{i}]{tail}", fp)
-            msg = msg.replace(f"points[{i}]", fp)
-        if field == "points":
-            field = join(path, "passing")
-        raise InputError(err.code, msg.replace("points", join(path, "passing")), field)
+    dp = join(path, "d_mm")
+
+    def field_of(i: int, name: str) -> str:
+        f = pts[i][2]  # a D-value is one field; a sieve point has opening_mm and passing_pct
+        return f if (f.startswith(dp) or not name) else join(f, name)
+
+    curve = make_curve([(d, p) for d, p, _ in pts], join(path, "passing"), field_of)
     order = sorted(range(len(pts)), key=lambda i: -pts[i][0])
     rows = tuple(Row(d, label_for(d), None, None, None, p, i)
                  for i, (d, p) in zip(order, curve.points))
