@@ -89,6 +89,14 @@ def timed(fn):
     return out, time.perf_counter() - w0, time.process_time() - c0
 
 
+def summaries_of(R):
+    """The module holding ``summaries_for`` next to records module ``R`` (it moved
+    from records to summaries; a baseline may be older)."""
+    if hasattr(R, "summaries_for"):
+        return R
+    return importlib.import_module(R.__name__.rsplit(".", 1)[0] + ".summaries")
+
+
 def run_phases(R, texts: list[str], sample: list[dict] | None) -> dict:
     """Each phase with module ``R`` (a tamis.records): ``{phase: (output, wall s, cpu s)}``."""
     out = {}
@@ -96,7 +104,7 @@ def run_phases(R, texts: list[str], sample: list[dict] | None) -> dict:
     out["merge"] = timed(lambda: R.merge_all(out["read"][0]))
     out["write"] = timed(lambda: R.write_csv(out["merge"][0][0]))
     if sample is not None:
-        out["calc"] = timed(lambda: R.summaries_for(sample))
+        out["calc"] = timed(lambda: summaries_of(R).summaries_for(sample))
     return out
 
 

@@ -23,6 +23,7 @@ import sys
 
 from . import SCREENING_NOTICE, __version__
 from . import records as R
+from . import summaries as S
 from .errors import InputError
 
 EXIT_OK, EXIT_FLAGGED, EXIT_BAD_INPUT = 0, 1, 2
@@ -141,7 +142,7 @@ def report_rows(recs: list[dict], rows: list[dict]) -> list[dict]:
     for rec, row in zip(recs, rows):
         if rec["kind"] != "test" or rec["deleted"]:
             continue
-        s = R.compute_summary(rec, index)
+        s = S.compute_summary(rec, index)
         stored = row["calc"].get("calc_verdict")
         out.append({
             "row": row["row"], "record_id": rec["record_id"], "sample_id": rec["meta"].get("sample_id"),
