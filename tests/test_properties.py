@@ -106,6 +106,9 @@ def test_uscs_symbol_is_consistent_with_the_fractions(t, plasticity):
         assert g["uscs"]["needs"]
         return
     fines, gravel, sand = g["fines_pct"], g["gravel_pct"], g["sand_pct"]
+    # D2487 (section 1.2, 3.1) classifies the material passing the 75-mm sieve; the fractions above
+    # are of the whole sample, cobbles included, so the fines share is taken of the minus-75 mm part.
+    fines = fines * 100 / (100 - (g["cobbles_pct"] or 0))
     if fines >= 50:
         assert sym in ("CL", "ML", "CL-ML", "CH", "MH")
         return
