@@ -23,7 +23,7 @@ from datetime import datetime
 import pytest
 
 from tamis import api, records as R
-from test_records import UID, UID2, rec
+from test_records import UID, UID2, parse_rfc4180, rec
 from test_records_import import edit, good_file, reject
 
 
@@ -182,3 +182,96 @@ def test_merge_keeps_the_newer_revision_with_its_whole_history():
     back = R.read_csv(out["result"]["csv"])[0]
     mine = next(r for r in back if r["record_id"] == UID)
     assert mine["rev"] == 2 and spelled(mine["history"]) == spelled(v2["history"])
+
+
+# ------------------------------------------------------------ numbers read in bulk
+
+def test_of_two_bad_numbers_the_first_in_reading_order_is_named():
+    # docs/csv.md: a row is read column group by column group, sieves coarsest first; the bulk
+    # check of a row's numbers must name the same cell as reading them one by one.
+    text = edit(edit(good_file(), 2, "retained_g@9.5mm", "x"), 2, "retained_g@4.75mm", "1e999")
+    reject(text, "csv.row[2].retained_g@9.5mm", "not_a_number", "'x'")
+    text = edit(edit(good_file(), 2, "retained_g@9.5mm", "1e999"), 2, "retained_g@4.75mm", "x")
+    reject(text, "csv.row[2].retained_g@9.5mm", "not_finite")
+    text = edit(edit(good_file(), 2, "retained_g@9.5mm", "x"), 2, "dry_mass_g", "-1e400")
+    reject(text, "csv.row[2].dry_mass_g", "not_finite")
+
+
+@pytest.mark.parametrize("cells", [["1", "2"], ["+1.", ".5e-3"], ["0", "-0.0"], ["12", "7E2"]])
+def test_numbers_read_in_bulk_are_those_float_reads(cells):
+    r = R.check_record(rec())
+    text = R.write_csv([r])
+    for col, v in zip(("retained_g@9.5mm", "retained_g@4.75mm"), cells):
+        text = edit(text, 2, col, v)
+    (back,), _ = R.read_csv(text)
+    assert [s["retained_g"] for s in back["test"]["sieves"]] == [float(c) for c in cells]
+
+
+def test_a_header_with_sieves_finest_first_gives_the_same_record():
+    r = R.check_record(rec(test={"sieves": [{"opening_mm": o, "retained_g": float(i)} for i, o in
+                                            enumerate((37.5, 19.0, 9.5, 4.75, 0.075))], "pan_g": 1.0}))
+    rows = parse_rfc4180(R.write_csv([r]))
+    sieve_cols = [i for i, c in enumerate(rows[0]) if c.startswith("retained_g@")]
+    order = list(range(len(rows[0])))
+    order[sieve_cols[0]:sieve_cols[-1] + 1] = reversed(sieve_cols)
+    text = "\r\n".join(",".join(R._quote(row[i]) for i in order) for row in rows) + "\r\n"
+    (back,), _ = R.read_csv(text)
+    (canonical,), _ = R.read_csv(R.write_csv([r]))
+    assert R.dump_json(back) == R.dump_json(canonical) and back == r
+    assert [s["opening_mm"] for s in back["test"]["sieves"]] == [37.5, 19.0, 9.5, 4.75, 0.075]
+
+
+# ------------------------------------------------------------ rows shared between files
+
+def _with_calc(text: str, verdict: str) -> str:
+    rows = parse_rfc4180(text)
+    for row in rows[1:]:
+        row[rows[0].index("calc_verdict")] = verdict
+    return "\r\n".join(",".join(R._quote(c) for c in r) for r in rows) + "\r\n"
+
+
+def test_read_files_gives_what_each_file_gives_alone():
+    a = R.check_record(rec(meta={"sample_id": "S-1", "notes": "a\ufffe b"}))
+    b = R.check_record(rec(record_id=UID2, test={"sieves": [{"opening_mm": 0.075, "retained_g": 2.0}]}))
+    band = R.check_record(rec(record_id="0" * 8 + "-0000-4000-8000-" + "0" * 12, kind="band", test=None,
+                              band={"name": "F1", "limits": [{"opening_mm": 4.75, "min_pct": 95.0,
+                                                              "max_pct": None}]}))
+    files = [_with_calc(R.write_csv([a, b]), "accept"), _with_calc(R.write_csv([b, band]), "reject"),
+             R.write_csv([a, band])]  # other headers (other sieve columns), other calc cells
+    together = R.read_files(files)
+    alone = [R.read_csv(t)[0] for t in files]
+    assert [[R.dump_json(r) for r in f] for f in together] == [[R.dump_json(r) for r in f] for f in alone]
+    # copies of a row are one object, which the merge then takes as one version
+    found = [{r["record_id"]: r for r in f} for f in together]
+    assert found[0][b["record_id"]] is found[1][b["record_id"]] and found[0][UID] is found[2][UID]
+    assert found[1][band["record_id"]] is found[2][band["record_id"]]
+    merged, conflicts = R.merge_all(together)
+    assert conflicts == [] and [r["record_id"] for r in merged] == sorted([a["record_id"], b["record_id"],
+                                                                          band["record_id"]],
+                                                                         key=lambda i: (i != band["record_id"], i))
+
+
+@pytest.mark.parametrize("left,right", [
+    ({"sample_id": "x"}, {"notes": "x"}),                           # one text in another column
+    ({"sample_id": "a\ufffeb", "notes": "c"}, {"sample_id": "a", "notes": "\ufffeb c"}),
+    ({"sample_id": "a,b"}, {"sample_id": "a", "notes": "b"}),
+    ({"sample_id": "'=1"}, {"sample_id": "=1"}),                    # the escape quote is part of the text
+])
+def test_rows_that_differ_in_any_cell_are_never_taken_for_each_other(left, right):
+    ra, rb = (R.check_record(rec(rev=2, meta=m, history=[])) for m in (left, right))
+    files = [R.write_csv([ra]), R.write_csv([rb])]
+    got = R.read_files(files)
+    assert got[0][0]["meta"] == left and got[1][0]["meta"] == right
+    merged, conflicts = R.merge_all(got)
+    assert len(conflicts) == 1  # same id and rev, other content: a conflict, never one silently kept
+
+
+def test_an_error_in_a_later_file_names_that_file():
+    good = R.write_csv([R.check_record(rec())])
+    bad = edit(good, 2, "rev", "two")
+    with pytest.raises(R.InputError) as exc:
+        R.read_files([good, good, bad])
+    assert exc.value.field == "files[2].row[2].rev"
+    with pytest.raises(R.InputError) as exc:
+        R.read_files([good, bad], ["phone-a.csv", "phone-b.csv"])
+    assert exc.value.field == "phone-b.csv.row[2].rev"

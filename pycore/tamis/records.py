@@ -77,6 +77,7 @@ REQUIRED_COLUMNS = FIXED_COLUMNS + ("history_json",)
 FAMILIES = ("retained_g", "passing_pct", "band_min_pct", "band_max_pct")
 _FAMILY_RE = re.compile(r"(retained_g|passing_pct|band_min_pct|band_max_pct)@([0-9.eE+-]+)mm", re.ASCII)
 
+_CALC_SET = frozenset(CALC_COLUMNS)
 _STATIC_COLUMNS = frozenset(FIXED_COLUMNS + META_COLUMNS + TEST_HEAD + TEST_TAIL + CALC_COLUMNS
                             + ("band_name", "band_extra_json", "history_json"))
 
@@ -87,6 +88,13 @@ TRIGGERS = frozenset("=+-@\t\r\n'")
 _UUID_RE = re.compile(r"[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}", re.ASCII)
 _ISO_RE = re.compile(r"(\d{4})-(\d{2})-(\d{2})T(\d{2}):(\d{2}):(\d{2})(\.\d{1,9})?Z", re.ASCII)
 _NUM_RE = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?", re.ASCII)  # used with fullmatch
+#: Several numbers of :data:`_NUM_RE` joined by U+FFFD (which no cell of a file read can hold).
+_NUMS_RE = re.compile(r"(?:[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)"
+                      r"(?:\ufffd[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)*", re.ASCII)
+#: The times :func:`is_iso_utc` accepts on their text alone: a year other than 0000, a month,
+#: a day 01-28 (every month has it), a time of day 00:00:00-23:59:59.
+_ISO_SURE_RE = re.compile(r"(?!0000)\d{4}-(?:0[1-9]|1[0-2])-(?:0[1-9]|1\d|2[0-8])"
+                          r"T(?:[01]\d|2[0-3]):[0-5]\d:[0-5]\d(?:\.\d{1,9})?Z", re.ASCII)
 _MAX_EXACT_INT = 2 ** 53
 _FIELD_LIMIT = 1 << 26  # 64 Mi characters per cell while reading
 
@@ -163,6 +171,8 @@ def is_iso_utc(s) -> bool:
     """``YYYY-MM-DDTHH:MM:SS[.fraction]Z`` naming a real instant (ISO 8601 / RFC 3339, UTC)."""
     if not isinstance(s, str):
         return False
+    if _ISO_SURE_RE.fullmatch(s):
+        return True
     m = _ISO_RE.fullmatch(s)
     if not m:
         return False
@@ -568,6 +578,18 @@ def _parse_num(cell: str, where: str, col: str) -> float:
     return v
 
 
+def _parse_nums(cells: dict, cols, where: str) -> list[float]:
+    """The numbers in the non-blank cells ``cols``, in that order: what
+    :func:`_parse_num` gives for each, checked in one pass; when one is not a
+    finite number, :func:`_parse_num` names the first that is not."""
+    texts = [cells[c] for c in cols]
+    if _NUMS_RE.fullmatch("\ufffd".join(texts)):
+        vals = list(map(float, texts))
+        if math.inf not in vals and -math.inf not in vals:
+            return vals
+    return [_parse_num(cells[c], where, c) for c in cols]
+
+
 def _parse_bool(cell: str, where: str, col: str) -> bool:
     low = cell.lower()
     if low in ("true", "false"):
@@ -612,23 +634,28 @@ def parse_header(header: list[str], path: str) -> dict:
         if col not in seen:
             raise InputError("missing_column", f"Row 1: the required column {col!r} is missing.", f"{where}.{col}")
     colinfo = {col: (f, op) for f in FAMILIES for op, col in fams[f]}
-    return {"cols": header, "colinfo": colinfo,
-            "families": {f: (sorted(fams[f], key=lambda t: -t[0]), frozenset(col for _, col in fams[f]))
-                         for f in FAMILIES}}
+    return {"cols": header, "colinfo": colinfo, "static": frozenset(seen - set(colinfo)),
+            "coarse_first": all(fams[f] == sorted(fams[f], key=lambda t: -t[0]) for f in FAMILIES)}
+
+
+#: META_COLUMNS with how each is read: 0 text, 1 number, 2 the rules object (meta_extra_json comes last, apart).
+_META_PLAN = tuple((c, 1 if c in META_NUM else 2 if c == "rules_json" else 0)
+                   for c in META_COLUMNS if c != "meta_extra_json")
 
 
 def _meta_from(cells: dict, where: str) -> dict:
     meta = {}
-    for col in META_COLUMNS:
-        cell = cells.get(col)
+    get = cells.get
+    for col, how in _META_PLAN:
+        cell = get(col)
         if not cell:
             continue
-        if col in META_NUM:
+        if how == 0:
+            meta[col] = cell[1:] if cell[0] == "'" else cell  # unescape_text, inlined
+        elif how == 1:
             meta[col] = _parse_num(cell, where, col)
-        elif col == "rules_json":
+        else:
             meta["rules"] = _parse_json(cell, f"{where}.{col}", dict)
-        elif col != "meta_extra_json":
-            meta[col] = unescape_text(cell)
     _add_extra(meta, cells, "meta_extra_json", "meta", where)
     return meta
 
@@ -648,14 +675,14 @@ def _add_extra(obj: dict, cells: dict, col: str, group: str, where: str) -> bool
 
 def _test_from(cells: dict, fams: dict, where: str):
     test = {}
-    for col in TEST_NUM:
-        if cells.get(col):
-            test[col] = _parse_num(cells[col], where, col)
+    present = [col for col in TEST_NUM if col in cells]
+    if present:
+        test.update(zip(present, _parse_nums(cells, present, where)))
     for fam, key, val in (("retained_g", "sieves", "retained_g"), ("passing_pct", "passing", "passing_pct")):
-        pts = [{"opening_mm": op, val: _parse_num(cells[col], where, col)}
-               for op, col in fams[fam] if cells.get(col)]
+        pts = fams[fam]
         if pts:
-            test[key] = pts
+            vals = _parse_nums(cells, [col for _, col in pts], where)
+            test[key] = [{"opening_mm": op, val: v} for (op, _), v in zip(pts, vals)]
     plast = {}
     if cells.get("nonplastic"):
         plast["nonplastic"] = _parse_bool(cells["nonplastic"], where, "nonplastic")
@@ -678,9 +705,8 @@ def _band_from(cells: dict, fams: dict, where: str):
     lims = {}
     for fam, key in (("band_min_pct", "min_pct"), ("band_max_pct", "max_pct")):
         for op, col in fams[fam]:
-            if cells.get(col):
-                lims.setdefault(op, {"opening_mm": op, "min_pct": None, "max_pct": None})[key] = \
-                    _parse_num(cells[col], where, col)
+            lims.setdefault(op, {"opening_mm": op, "min_pct": None, "max_pct": None})[key] = \
+                _parse_num(cells[col], where, col)
     if lims:
         band["limits"] = [lims[op] for op in sorted(lims, reverse=True)]
     if _add_extra(band, cells, "band_extra_json", "band", where):
@@ -702,23 +728,21 @@ def _column_of(rel_field: str) -> str:
     return top
 
 
-def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = False, families=None) -> dict:
+def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = False,
+               coarse_first: bool = False) -> dict:
     """One record from the non-blank cells of a row; ``where`` is ``csv.row[n]``;
     ``colinfo`` maps each opening column to ``(family, opening_mm)``;
-    ``families`` (optional, from :func:`parse_header`) gives each family's
-    ``(opening_mm, column)`` coarsest first and the set of its columns, so they
-    are not sorted again per row, and a family with no cell on the row is skipped."""
-    if families is None:
-        fams = {f: [] for f in FAMILIES}
-        for col in cells:
-            info = colinfo.get(col)
-            if info is not None:
-                fams[info[0]].append((info[1], col))
+    ``coarse_first`` (from :func:`parse_header`) says that the header has each
+    family's columns coarsest first, so the cells, in header order, need no
+    sorting."""
+    fams = {f: [] for f in FAMILIES}
+    for col in cells:
+        info = colinfo.get(col)
+        if info is not None:
+            fams[info[0]].append((info[1], col))
+    if not coarse_first:
         for lst in fams.values():
             lst.sort(key=lambda t: -t[0])
-    else:  # blank cells are left in the lists (the parsers below skip them anyway)
-        keys = cells.keys()
-        fams = {f: ([] if keys.isdisjoint(cols) else lst) for f, (lst, cols) in families.items()}
     if cells.get(MARKER) != CSV_VERSION:
         raise cell_error("unsupported_version", f"{where}.{MARKER}", f"must be {CSV_VERSION} (the CSV version "
                          f"this core reads), got {cells.get(MARKER, '')!r}.")
@@ -773,13 +797,20 @@ def _row_fits(rec: dict) -> bool:
     return True
 
 
-def read_csv(text: str, path: str = "csv") -> tuple[list[dict], list[dict]]:
+def read_csv(text: str, path: str = "csv", *, memo: dict | None = None) -> tuple[list[dict], list[dict]]:
     """Parse and validate a whole CSV file.
 
     Returns ``(records, rows)`` where ``rows[i]`` is ``{"row": n, "calc": {...}}``
     for ``records[i]``: the spreadsheet row number and the stored calc cells
     (kept only for ``report`` to compare; never used as data). Identical rows
     for the same id are read once.
+
+    ``memo`` (optional, a dict the caller keeps while it reads several files,
+    see :func:`read_files`): a row whose cells (calc columns aside) are those
+    of a row read before gives that row's record object again instead of
+    being parsed a second time. The same cells always make the same record,
+    so only the work is saved; records are never changed after they are
+    built, so sharing one between files is safe.
 
     Raises
     ------
@@ -803,12 +834,46 @@ def read_csv(text: str, path: str = "csv") -> tuple[list[dict], list[dict]]:
     csv.field_size_limit(_FIELD_LIMIT)
     try:
         with _acyclic_work():
-            return _read_rows(text, path)
+            return _read_rows(text, path, memo)
     finally:
         csv.field_size_limit(old_limit)
 
 
-def _read_rows(text: str, path: str):
+def read_files(texts, paths=None) -> list[list[dict]]:
+    """The records of several CSV files (``files[i]`` in errors unless ``paths``
+    names them), rows repeated across files read once (see ``memo`` in
+    :func:`read_csv`)."""
+    memo = {}
+    return [read_csv(t, f"files[{i}]" if paths is None else paths[i], memo=memo)[0] for i, t in enumerate(texts)]
+
+
+def _memo_key(cols: list[str]):
+    """How a row of a file with header ``cols`` is keyed in a reading memo: a function
+    of the row naming its non-blank cells and their columns, calc columns left
+    out (they are never data), so the same record gives the same key whatever
+    the calc cells and whatever other columns the header has. The parts are
+    joined by U+FFFD, which :func:`read_csv` refuses anywhere in a file, so
+    the key tells the cells apart exactly."""
+    sep = "\ufffd"
+    calc = [i for i, c in enumerate(cols) if c in _CALC_SET]
+    if not calc:
+        return lambda row: (sep.join(compress(cols, row)), sep.join(compress(row, row)))
+    a, b = calc[0], calc[-1] + 1
+    if b - a == len(calc):  # one block (as this module writes them): cut it out at C speed
+        rest = cols[:a] + cols[b:]
+
+        def cut(row):
+            r = row[:a] + row[b:]
+            return sep.join(compress(rest, r)), sep.join(compress(r, r))
+        return cut
+
+    def scattered(row):
+        pairs = [p for p in compress(zip(cols, row), row) if p[0] not in _CALC_SET]
+        return sep.join(p[0] for p in pairs), sep.join(p[1] for p in pairs)
+    return scattered
+
+
+def _read_rows(text: str, path: str, memo):
     reader = csv.reader(io.StringIO(text, newline=""), strict=True)
     n = 0
     records, rows, by_id = [], [], {}
@@ -818,6 +883,8 @@ def _read_rows(text: str, path: str):
             if hdr is None:
                 hdr = parse_header(row, path)
                 cols = hdr["cols"]
+                calc_cols = [c for c in CALC_COLUMNS if c in hdr["static"]]
+                keyed = None if memo is None else _memo_key(cols)
                 continue
             if not any(row):
                 continue  # a blank line holds nothing
@@ -827,17 +894,23 @@ def _read_rows(text: str, path: str):
                                                      f"{len(cols)}; the line may be truncated or hold an "
                                                      "unquoted comma.", where)
             cells = dict(compress(zip(cols, row), row))  # the non-blank cells
-            rec = row_record(cells, hdr["colinfo"], where, families=hdr["families"])
+            if memo is None:
+                rec = row_record(cells, hdr["colinfo"], where, coarse_first=hdr["coarse_first"])
+            else:
+                key = keyed(row)
+                rec = memo.get(key)
+                if rec is None:
+                    rec = memo[key] = row_record(cells, hdr["colinfo"], where, coarse_first=hdr["coarse_first"])
             prev = by_id.get(rec["record_id"])
             if prev is not None:
-                if content_key(prev[0]) == content_key(rec) and prev[0]["history"] == rec["history"] \
-                        and prev[0]["exported_at"] == rec["exported_at"]:
+                if prev[0] is rec or (content_key(prev[0]) == content_key(rec) and prev[0]["history"] ==
+                                      rec["history"] and prev[0]["exported_at"] == rec["exported_at"]):
                     continue
                 raise cell_error("duplicate_id", f"{where}.record_id", f"record {rec['record_id']} is also on row "
                                  f"{prev[1]} with different content.")
             by_id[rec["record_id"]] = (rec, n)
             records.append(rec)
-            rows.append({"row": n, "calc": {c: unescape_text(cells[c]) for c in CALC_COLUMNS if c in cells}})
+            rows.append({"row": n, "calc": {c: unescape_text(cells[c]) for c in calc_cols if c in cells}})
     except csv.Error as exc:
         n += 1  # the row being read when the reader gave up
         raise InputError("bad_csv", f"Row {n}: {exc} (an opened quote is never closed, or text follows a "
@@ -993,6 +1066,8 @@ def _merge_all(record_lists):
     out, conflicts = [], []
     for rid in sorted(by_id):
         vs = by_id[rid]
+        if len(vs) > 1:  # copies of one row, read once (read_csv's memo), are one version
+            vs = list({id(v): v for v in vs}.values())
         if len(vs) == 1:
             out.append(vs[0])
             continue
@@ -1143,6 +1218,6 @@ def op_import_csv(req: dict):
 def op_merge(req: dict):
     """``{"files": [csv text, ...]}`` -> ``{"csv", "count", "conflicts"}``."""
     files = require_list(req.get("files"), "files", min_len=1)
-    lists = [read_csv(t, f"files[{i}]")[0] for i, t in enumerate(files)]
+    lists = read_files(files)
     merged, conflicts = merge_all(lists)
     return {"csv": export_csv(merged), "count": len(merged), "conflicts": conflicts}, []
