@@ -9,8 +9,9 @@ written without calc columns (a reader ignores them anyway). Timed phases:
 1. read: decode, parse and validate every file (tamis.records.read_csv);
 2. merge: by id and revision (tamis.records.merge_all);
 3. write: the merged CSV without calc columns (tamis.records.write_csv);
-4. calc: recomputing the calc columns (evaluate/gradation through
-   tamis.api.handle) for ``--calc-n`` realistic tests derived from the demo
+4. calc: recomputing the calc columns (tamis.summaries.summaries_for: the
+   code of the evaluate/gradation ops called directly, each band and base
+   soil parsed once) for ``--calc-n`` realistic tests derived from the demo
    project, printed as a rate; ``python -m tamis merge`` does this for every
    record unless ``--no-calc`` is given.
 

@@ -11,7 +11,7 @@ the display rounds.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 
 from . import SCREENING_NOTICE
 from .bands import band_checks, parse_band
@@ -144,30 +144,77 @@ def op_gradation(req: dict):
 
 
 def _tag(checks, subject: str) -> list[Check]:
-    return [replace(c, extra={**c.extra, "subject": subject}) for c in checks]
+    """Copies of ``checks`` with ``extra.subject`` set. As ``dataclasses.replace``
+    (the same fields, through ``__init__``), without its per-call field scan:
+    this runs for every check of every evaluation."""
+    return [type(c)(**{**c.__dict__, "extra": {**c.extra, "subject": subject}}) for c in checks]
 
 
-def op_evaluate(req: dict):
-    """API op ``evaluate``: a sample, optionally its base soil, band and rules ->
-    QA, band and filter checks and one verdict."""
+@dataclass(frozen=True)
+class Evaluation:
+    """What :func:`evaluate_reduced` finds: everything the ``evaluate`` op returns, unserialised.
+
+    Attributes
+    ----------
+    sample, base : Reduced, Reduced or None
+        As given (never modified).
+    band : tamis.bands.Band or None
+        As given.
+    checks : list of Check
+        Lab QA of the sample (subject ``sample``), of the base (subject
+        ``base``), the band checks (subject ``sample``), then the filter criteria.
+    findings : list of Finding
+    outcome : tamis.criteria.FilterOutcome
+    verdict : str
+        ``accept`` / ``reject`` / ``review`` of ``checks``.
+    """
+
+    sample: Reduced
+    base: Reduced | None
+    band: object
+    checks: list
+    findings: list
+    outcome: object
+    verdict: str
+
+
+def evaluate_reduced(sample: Reduced, base: Reduced | None = None, band=None, rules: dict | None = None) -> Evaluation:
+    """The ``evaluate`` op after parsing: a reduced sample, optionally a reduced base
+    soil and a parsed band (:func:`tamis.bands.parse_band`), and the ``rules``
+    dict (or None) -> :class:`Evaluation`.
+
+    The op calls it, and so do the calc columns of the CSV exchange
+    (:mod:`tamis.summaries`) with a base and a band parsed once per file:
+    ``sample``, ``base`` and ``band`` are only read, never modified, so they
+    may be shared between calls. Raises :class:`~tamis.errors.InputError` for
+    bad ``rules`` (field path under ``rules``).
+    """
     from . import criteria  # written in parallel; imported late so a broken criteria module names itself
-    sample = reduce_test(_require(req, "sample"), "sample")
-    base = None if req.get("base") is None else reduce_test(req["base"], "base")
-    rules = req.get("rules")
-    if rules is not None:
-        require_mapping(rules, "rules")
     checks = _tag(sample.checks, "sample")
     findings = list(sample.findings)
     if base is not None:
         checks += _tag(base.checks, "base")
         findings += base.findings
-    band = None
-    if req.get("band") is not None:
-        band = parse_band(req["band"], "band")
+    if band is not None:
         checks += _tag(band_checks(band, sample.curve), "sample")
     outcome = criteria.run_filter_checks(sample, base, rules, "rules")
     checks += list(outcome.checks)
     findings += list(outcome.findings)
+    return Evaluation(sample, base, band, checks, findings, outcome, verdict(checks))
+
+
+def op_evaluate(req: dict):
+    """API op ``evaluate``: a sample, optionally its base soil, band and rules ->
+    QA, band and filter checks and one verdict (parsed here, judged by
+    :func:`evaluate_reduced`)."""
+    sample = reduce_test(_require(req, "sample"), "sample")
+    base = None if req.get("base") is None else reduce_test(req["base"], "base")
+    rules = req.get("rules")
+    if rules is not None:
+        require_mapping(rules, "rules")
+    band = None if req.get("band") is None else parse_band(req["band"], "band")
+    ev = evaluate_reduced(sample, base, band, rules)
+    outcome = ev.outcome
     info = outcome.base_info or {}
     result = {
         "sample": sample.gradation,
@@ -178,8 +225,8 @@ def op_evaluate(req: dict):
         "limits": dict(outcome.limits),
         "band": None if band is None else band.name,
         "rules": dict(outcome.rules_used),
-        "checks": [c.to_dict() for c in checks],
-        "verdict": verdict(checks),
+        "checks": [c.to_dict() for c in ev.checks],
+        "verdict": ev.verdict,
         "notice": SCREENING_NOTICE,
     }
-    return result, findings
+    return result, ev.findings

@@ -6,20 +6,24 @@
     in any order give the same bytes. Exit 1 when conflicts remain (the kept
     version is written, every other one is listed with ``--conflicts``).
 ``python -m tamis report FILE.csv [--json]``
-    Recompute every test's verdict with the current core through
-    :func:`tamis.api.handle` and flag the rows whose stored verdict differs.
-    Exit 1 when a stored verdict differs.
+    Recompute every test's verdict with the current core (the code of the
+    ``evaluate`` op, :mod:`tamis.summaries`) and flag the rows whose stored
+    verdict differs. Exit 1 when a stored verdict differs.
 ``python -m tamis check FILE.csv``
     Validate the file; write nothing.
 
 Every command exits 2 when a file cannot be read, naming the file, the row
-(as a spreadsheet numbers it, header = 1) and the column.
+(as a spreadsheet numbers it, header = 1) and the column. On long work
+(more than :data:`PROGRESS_MIN` records) ``merge`` and ``report`` say how far
+they are on standard error (:class:`Progress`); standard output stays the
+CSV, the table or the JSON.
 """
 
 from __future__ import annotations
 
 import json
 import sys
+import time
 
 from . import SCREENING_NOTICE, __version__
 from . import records as R
@@ -27,6 +31,35 @@ from . import summaries as S
 from .errors import InputError
 
 EXIT_OK, EXIT_FLAGGED, EXIT_BAD_INPUT = 0, 1, 2
+
+#: Progress is shown only when there are more records than this.
+PROGRESS_MIN = 2000
+#: At most one progress line per this many seconds (plus the last one).
+PROGRESS_EVERY_S = 2.0
+
+
+class Progress:
+    """A ``progress(done, total)`` callback that prints ``<what>: 12,000 of 100,000
+    <unit> (12 %)`` to ``stream`` (standard error), at most once every
+    ``every_s`` seconds and once when ``done == total``; silent when
+    ``total <= min_total``. The percentage is rounded down (100 % only when done).
+    """
+
+    def __init__(self, what: str, unit: str, *, stream=None, min_total: int = PROGRESS_MIN,
+                 every_s: float = PROGRESS_EVERY_S, clock=time.monotonic) -> None:
+        self.what, self.unit, self.stream = what, unit, stream
+        self.min_total, self.every_s, self.clock = min_total, every_s, clock
+        self.last = clock()
+
+    def __call__(self, done: int, total: int) -> None:
+        if total <= self.min_total:
+            return
+        now = self.clock()
+        if done < total and now - self.last < self.every_s:
+            return
+        self.last = now
+        print(f"{self.what}: {done:,} of {total:,} {self.unit} ({100 * done // total} %)",
+              file=self.stream or sys.stderr, flush=True)
 
 
 EPILOGS = {
@@ -109,7 +142,9 @@ def _merge(args) -> int:
             return loaded
         lists.append(loaded[0])
     merged, conflicts = R.merge_all(lists)
-    text = R.write_csv(merged, bom=args.bom) if args.no_calc else R.export_csv(merged, bom=args.bom)
+    # R.export_csv(merged), with the progress of the calc columns shown
+    calc = None if args.no_calc else S.summaries_for(merged, progress=Progress("calc columns", "records"))
+    text = R.write_csv(merged, calc, bom=args.bom)
     if args.output == "-":
         sys.stdout.buffer.write(text.encode("utf-8"))
         sys.stdout.buffer.flush()
@@ -135,14 +170,14 @@ def _merge(args) -> int:
     return EXIT_OK
 
 
-def report_rows(recs: list[dict], rows: list[dict]) -> list[dict]:
-    """One entry per live test record: recomputed summary beside the stored verdict."""
+def report_rows(recs: list[dict], rows: list[dict], progress=None) -> list[dict]:
+    """One entry per live test record: recomputed summary beside the stored verdict.
+    ``progress(done, total)`` follows the tests (:func:`tamis.summaries.compute_summaries`)."""
     index = {r["record_id"]: r for r in recs}
+    live = [(rec, row) for rec, row in zip(recs, rows) if rec["kind"] == "test" and not rec["deleted"]]
+    sums = S.compute_summaries([rec for rec, _ in live], index, progress)
     out = []
-    for rec, row in zip(recs, rows):
-        if rec["kind"] != "test" or rec["deleted"]:
-            continue
-        s = S.compute_summary(rec, index)
+    for (rec, row), s in zip(live, sums):
         stored = row["calc"].get("calc_verdict")
         out.append({
             "row": row["row"], "record_id": rec["record_id"], "sample_id": rec["meta"].get("sample_id"),
@@ -190,7 +225,7 @@ def _report(args) -> int:
     if isinstance(loaded, int):
         return loaded
     recs, rows = loaded
-    entries = report_rows(recs, rows)
+    entries = report_rows(recs, rows, Progress("report", "tests"))
     summary = summarise(entries)
     if args.json:
         print(json.dumps({"file": args.file, "core_version": __version__, "summary": summary, "tests": entries,

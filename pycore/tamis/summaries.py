@@ -5,31 +5,101 @@ They are written for people reading the file (D-values, Cu, fines, verdict,
 failing checks) and are never read back as data (``docs/csv.md``): a reader
 recomputes. :func:`compute_summary` gives the same verdict the app shows for
 the same record, band, base soil and rules, because both go through the same
-``evaluate`` op (:mod:`tamis.evaluation`).
+code: the app's ``evaluate`` op parses its request and calls
+:func:`tamis.evaluation.evaluate_reduced`; here the core is called directly
+(no JSON in between), with each base soil reduced and each band parsed once
+per file (:class:`FileParts`). The summaries are the ones the JSON boundary
+would give (``tests/test_summaries.py`` compares both, record by record).
 """
 
 from __future__ import annotations
 
-import json
+import math
 
-from .records import _is_num, dump_json, escape_text, fmt_num
+from . import __version__
+from .bands import parse_band
+from .errors import InputError
+from .evaluation import evaluate_reduced, reduce_test
+from .records import _is_num, escape_text, fmt_num
 
-def _call(op: str, fields: dict) -> dict:
-    from . import api
-    return json.loads(api.handle(dump_json({"schema": api.SCHEMA, "op": op, "id": None, **fields})))
+#: ``progress(done, total)`` is called after every this many records (and after the last).
+PROGRESS_STEP = 100
 
 
-def compute_summary(rec: dict, index: dict) -> dict:
-    """Recompute a record's summary with the current core, through :func:`tamis.api.handle`.
+def error_note(exc: Exception) -> str:
+    """The ``note`` of a record the core refused: ``not computed: <field or test>: <message>``.
+
+    An :class:`~tamis.errors.InputError` names its field; any other exception
+    (a defect in the core) gives the ``internal_error`` message
+    :func:`tamis.api.handle` answers with, so that one bad record never stops
+    a merge and the note is the one the app would show.
+    """
+    if isinstance(exc, InputError):
+        field, message = exc.field, exc.message
+    else:
+        field, message = "", (f"tamis could not compute this request ({type(exc).__name__}: {exc}). "
+                              "Please report it with the input.")
+    return f"not computed: {field or 'test'}: {message}"
+
+
+def _attempt(fn, *args):
+    """``(fn(*args), None)``, or ``(None, note)`` when the core refuses or fails."""
+    try:
+        return fn(*args), None
+    except Exception as exc:  # noqa: BLE001 - InputError or a defect: both become the note (error_note)
+        return None, error_note(exc)
+
+
+class FileParts:
+    """The bands and base soils of one file (``index``: record id -> record), each
+    parsed or reduced once, on first use, and kept with the note of a refusal.
+
+    The kept objects are shared by every test naming them; the core only
+    reads them (:func:`tamis.evaluation.evaluate_reduced`).
+    """
+
+    def __init__(self, index: dict) -> None:
+        self.index = index
+        self._bases: dict = {}
+        self._bands: dict = {}
+
+    def base(self, record_id: str):
+        """``(Reduced, None)`` of the base soil record ``record_id`` (field paths under
+        ``base``), or ``(None, note)``."""
+        got = self._bases.get(record_id)
+        if got is None:
+            got = self._bases[record_id] = _attempt(reduce_test, self.index[record_id]["test"], "base")
+        return got
+
+    def band(self, record_id: str):
+        """``(Band, None)`` of the band record ``record_id`` (field paths under ``band``),
+        or ``(None, note)``."""
+        got = self._bands.get(record_id)
+        if got is None:
+            got = self._bands[record_id] = _attempt(parse_band, self.index[record_id]["band"], "band")
+        return got
+
+
+def _finite(v):
+    """``v``, or None for NaN/infinity (what the JSON boundary writes for them)."""
+    return None if isinstance(v, float) and not math.isfinite(v) else v
+
+
+def compute_summary(rec: dict, index: dict, parts: FileParts | None = None) -> dict:
+    """Recompute a record's summary with the current core.
 
     A test is evaluated with the band (``meta.band_id``), base soil
     (``meta.base_id``) and ``meta.rules`` it names, looked up in ``index``
     (record id -> record, the same file). When a named band or base is not
     there, no verdict is given (a verdict without that check could read as
     a pass); D-values still are. A base soil gets its gradation only.
+    ``parts`` (a :class:`FileParts` of the same ``index``) keeps the parsed
+    bands and bases between calls; without it they are parsed for this call.
 
     Returns ``{"d_mm": {...}|None, "cu", "fines_pct", "verdict", "failing_checks",
-    "note", "core_version"}``; numbers unrounded, ``None`` when not computed.
+    "note", "core_version"}``; numbers unrounded (never NaN or infinity),
+    ``None`` when not computed. A record the core refuses gets
+    ``note = "not computed: <field or test>: <message>"`` (:func:`error_note`).
     """
     out = {"d_mm": None, "cu": None, "fines_pct": None, "verdict": None, "failing_checks": [],
            "note": None, "core_version": None}
@@ -42,10 +112,14 @@ def compute_summary(rec: dict, index: dict) -> dict:
     if test is None:
         out["note"] = "no test data yet"
         return out
-    fields, missing = {"sample": test}, []
+    if parts is None:
+        parts = FileParts(index)
+    elif parts.index is not index:
+        raise ValueError("parts belongs to another index")
+    refs, missing, rules = {}, [], None
     if rec["kind"] == "test":
         meta = rec["meta"]
-        for key, kind, field, part in (("band_id", "band", "band", "band"), ("base_id", "base", "base", "test")):
+        for key, kind, part in (("band_id", "band", "band"), ("base_id", "base", "test")):
             ref = meta.get(key)
             if ref is None:
                 continue
@@ -53,32 +127,55 @@ def compute_summary(rec: dict, index: dict) -> dict:
             if other is None or other["kind"] != kind or other["deleted"] or other[part] is None:
                 missing.append(f"meta.{key} names {ref}, which is not a {kind} record with data in this file")
             else:
-                fields[field] = other[part]
+                refs[kind] = ref
         if isinstance(meta.get("rules"), dict):
-            fields["rules"] = meta["rules"]
+            rules = meta["rules"]
     if rec["kind"] == "base" or missing:
-        resp = _call("gradation", {"test": test})
-        grad = resp.get("result") if resp.get("ok") else None
+        red, note = _attempt(reduce_test, test, "test")     # the gradation op's reduction
+        grad = None if red is None else red.gradation
     else:
-        resp = _call("evaluate", fields)
-        res = resp.get("result") if resp.get("ok") else None
-        grad = res.get("sample") if res else None
-        if res:
-            out["verdict"] = res.get("verdict")
-            out["failing_checks"] = sorted({c.get("id") for c in res.get("checks", [])
-                                            if c.get("status") == "fail"})
-    if not resp.get("ok"):
-        err = resp.get("error", {})
-        out["note"] = f"not computed: {err.get('field') or 'test'}: {err.get('message')}"
+        # the evaluate op's order: the sample, the base, the band, then the checks (rules)
+        sample, note = _attempt(reduce_test, test, "sample")
+        base = band = ev = None
+        if note is None and "base" in refs:
+            base, note = parts.base(refs["base"])
+        if note is None and "band" in refs:
+            band, note = parts.band(refs["band"])
+        if note is None:
+            ev, note = _attempt(evaluate_reduced, sample, base, band, rules)
+        grad = None
+        if ev is not None:
+            grad = sample.gradation
+            out["verdict"] = ev.verdict
+            out["failing_checks"] = sorted({c.id for c in ev.checks if c.status == "fail"})
+    if note is not None:
+        out["note"] = note
         return out
-    out["core_version"] = resp.get("core_version")
+    out["core_version"] = __version__
     if isinstance(grad, dict):
         d = grad.get("d_mm") or {}
-        out["d_mm"] = {k: d.get(k) for k in ("D10", "D15", "D60", "D85")}
-        out["cu"] = grad.get("cu")
-        out["fines_pct"] = grad.get("fines_pct")
+        out["d_mm"] = {k: _finite(d.get(k)) for k in ("D10", "D15", "D60", "D85")}
+        out["cu"] = _finite(grad.get("cu"))
+        out["fines_pct"] = _finite(grad.get("fines_pct"))
     if missing:
         out["note"] = "no verdict: " + "; ".join(missing)
+    return out
+
+
+def compute_summaries(records: list[dict], index: dict, progress=None) -> list[dict]:
+    """:func:`compute_summary` of each record, in order, with one :class:`FileParts`
+    for all; ``progress(done, total)`` (optional) is called after every
+    :data:`PROGRESS_STEP` records and after the last, ``done`` increasing to
+    ``total = len(records)``."""
+    parts = FileParts(index)
+    total = len(records)
+    out = []
+    for i, rec in enumerate(records, 1):
+        out.append(compute_summary(rec, index, parts))
+        if progress is not None and (i % PROGRESS_STEP == 0 or i == total):
+            progress(i, total)
+    if progress is not None and total == 0:
+        progress(0, 0)
     return out
 
 
@@ -114,8 +211,13 @@ def summary_cells(s: dict) -> dict:
     return c
 
 
-def summaries_for(records: list[dict], context=()) -> dict:
-    """record id -> calc cells, each record looked up against the others (then ``context``)."""
+def summaries_for(records: list[dict], context=(), progress=None) -> dict:
+    """record id -> calc cells, each record looked up against the others (then ``context``).
+
+    ``progress(done, total)`` (optional) follows the records whose cells are
+    computed (bands have none): see :func:`compute_summaries`.
+    """
     index = {r["record_id"]: r for r in context}
     index.update({r["record_id"]: r for r in records})
-    return {r["record_id"]: summary_cells(compute_summary(r, index)) for r in records if r["kind"] != "band"}
+    todo = [r for r in records if r["kind"] != "band"]
+    return {r["record_id"]: summary_cells(s) for r, s in zip(todo, compute_summaries(todo, index, progress))}
