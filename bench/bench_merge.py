@@ -1,6 +1,6 @@
 """Merge N invented records spread over F CSV files, on one core (printed, never asserted).
 
-    python bench/bench_merge.py [--n 100000] [--files 50] [--calc-n 2000]
+    python bench/bench_merge.py [--n 100000] [--files 50] [--calc-n 2000] [--cli] [--baseline REV]
 
 Each record is in one to three files; a fifth of the copies are older
 revisions of the same record, so the merge has real work to do. The files are
@@ -15,6 +15,13 @@ written without calc columns (a reader ignores them anyway). Timed phases:
    project, printed as a rate; ``python -m tamis merge`` does this for every
    record unless ``--no-calc`` is given.
 
+Reading and merging run with the cyclic garbage collector paused and what
+they built then frozen, as ``python -m tamis merge`` runs them (records are
+trees; see ``tamis.records.acyclic_work``). ``--cli`` also runs
+``python -m tamis merge --no-calc`` on the same files in a child process and
+prints its wall and cpu time, start-up included, and whether it wrote the same
+bytes as the write phase.
+
 With ``--baseline REV`` the same phases are run, on the same files, by the
 ``pycore/tamis`` of that git revision as well (imported under another name,
 see ``bench_evaluate.py``), alternating with the working tree ``--rounds``
@@ -26,10 +33,15 @@ cells; the exit status is 1 only if they do not.
 from __future__ import annotations
 
 import argparse
+import contextlib
 import copy
+import gc
 import importlib
+import os
 import pathlib
 import random
+import resource
+import subprocess
 import sys
 import tempfile
 import time
@@ -101,12 +113,47 @@ def summaries_of(R):
 def run_phases(R, texts: list[str], sample: list[dict] | None) -> dict:
     """Each phase with module ``R`` (a tamis.records): ``{phase: (output, wall s, cpu s)}``."""
     out = {}
-    out["read"] = timed(lambda: [R.read_csv(t, f"files[{i}]")[0] for i, t in enumerate(texts)])
-    out["merge"] = timed(lambda: R.merge_all(out["read"][0]))
-    out["write"] = timed(lambda: R.write_csv(out["merge"][0][0]))
-    if sample is not None:
-        out["calc"] = timed(lambda: summaries_of(R).summaries_for(sample))
+    # as ``python -m tamis merge`` runs them: the cyclic collector paused over reading and merging,
+    # then what they built frozen (the same for a baseline, so the ratios compare the code)
+    pause = getattr(R, "acyclic_work", None) or getattr(R, "_acyclic_work", None) or contextlib.nullcontext
+    with pause():
+        if hasattr(R, "read_files"):  # rows repeated across files read once, as the office merge does
+            out["read"] = timed(lambda: R.read_files(texts))
+        else:
+            out["read"] = timed(lambda: [R.read_csv(t, f"files[{i}]")[0] for i, t in enumerate(texts)])
+        out["merge"] = timed(lambda: R.merge_all(out["read"][0]))
+        gc.freeze()
+    try:
+        out["write"] = timed(lambda: R.write_csv(out["merge"][0][0]))
+        if sample is not None:
+            out["calc"] = timed(lambda: summaries_of(R).summaries_for(sample))
+    finally:
+        gc.unfreeze()
     return out
+
+
+def run_cli(texts: list[str], tmp: pathlib.Path, expected: str) -> None:
+    """``python -m tamis merge`` on the files, in a child process: wall and cpu time, and
+    whether it wrote what the phases above wrote."""
+    paths = []
+    for i, t in enumerate(texts):
+        paths.append(tmp / f"device-{i:02d}.csv")
+        paths[-1].write_bytes(t.encode("utf-8"))
+    out = tmp / "merged.csv"
+    env = dict(os.environ, PYTHONPATH=str(HERE.parent / "pycore"))
+    before = resource.getrusage(resource.RUSAGE_CHILDREN)
+    w0 = time.perf_counter()
+    proc = subprocess.run([sys.executable, "-m", "tamis", "merge", *map(str, paths), "-o", str(out), "--no-calc"],
+                          env=env, capture_output=True, text=True)
+    wall = time.perf_counter() - w0
+    after = resource.getrusage(resource.RUSAGE_CHILDREN)
+    cpu = (after.ru_utime - before.ru_utime) + (after.ru_stime - before.ru_stime)
+    same = proc.returncode == 0 and out.read_bytes() == expected.encode("utf-8")
+    print(f"[cli] python -m tamis merge of {len(texts)} files --no-calc: {wall:.2f} s wall, {cpu:.2f} s cpu "
+          f"(start-up and file reading included; exit {proc.returncode}; output "
+          f"{'identical to the write phase' if same else 'DIFFERS'})", flush=True)
+    if not same:
+        print(proc.stderr[-2000:], file=sys.stderr)
 
 
 def fastest(runs: list[dict]) -> dict:
@@ -143,6 +190,7 @@ def main(argv=None) -> int:
     ap.add_argument("--calc-n", type=int, default=2000, help="tests whose calc columns are recomputed")
     ap.add_argument("--baseline", metavar="REV", help="git revision to compare with (e.g. HEAD~3)")
     ap.add_argument("--rounds", type=int, default=1, help="rounds per version; the fastest is kept (default 1)")
+    ap.add_argument("--cli", action="store_true", help="also time python -m tamis merge --no-calc on the files")
     args = ap.parse_args(argv)
 
     t0 = time.perf_counter()
@@ -164,6 +212,8 @@ def main(argv=None) -> int:
             for k, mod in versions.items():
                 runs[k].append(run_phases(mod, texts, sample))
         best = {k: fastest(v) for k, v in runs.items()}
+        if args.cli:
+            run_cli(texts, pathlib.Path(tmp), best["now"]["write"][0])
     for k, res in best.items():
         report(k, res, args.files, rows)
     if "baseline" not in best:

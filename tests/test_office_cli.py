@@ -163,3 +163,20 @@ def test_report_flags_a_stored_verdict_that_differs(tmp_path):
     assert flagged[0]["stored_verdict"] == "accept" and flagged[0]["verdict"] == "reject"
     p = run("report", forged, cwd=tmp_path)
     assert p.returncode == 1 and "DIFFERS" in p.stdout
+
+
+def test_merge_of_many_files_reads_copies_once_and_shows_its_reading_on_stderr(tmp_path):
+    # twelve devices holding overlapping slices of the demo project: every record in several files,
+    # some with calc columns and some without (a reader never takes them as data)
+    recs = [R.check_record(r) for r in demo.load_records()]
+    paths = []
+    for i in range(12):
+        part = recs[i % 5::2]
+        text = R.export_csv(part) if i % 2 else R.write_csv(part)
+        paths.append(write(tmp_path / f"device-{i:02d}.csv", text))
+    p = run("merge", *paths, "-o", "-", "--no-calc", cwd=tmp_path)
+    assert p.returncode == 0, p.stderr
+    assert p.stdout == R.write_csv(recs).replace("\r\n", "\n")  # text mode reads CRLF as LF
+    assert "read: 12 of 12 files (100 %)" in p.stderr
+    few = run("merge", *paths[:3], "-o", "-", "--no-calc", cwd=tmp_path)
+    assert few.returncode == 0 and "read:" not in few.stderr

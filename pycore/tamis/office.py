@@ -21,6 +21,7 @@ CSV, the table or the JSON.
 
 from __future__ import annotations
 
+import gc
 import json
 import sys
 import time
@@ -34,6 +35,8 @@ EXIT_OK, EXIT_FLAGGED, EXIT_BAD_INPUT = 0, 1, 2
 
 #: Progress is shown only when there are more records than this.
 PROGRESS_MIN = 2000
+#: Reading progress is shown only when there are more files than this.
+PROGRESS_MIN_FILES = 10
 #: At most one progress line per this many seconds (plus the last one).
 PROGRESS_EVERY_S = 2.0
 
@@ -90,11 +93,12 @@ def add_arguments(name: str, parser) -> None:
         raise ValueError(name)
 
 
-def read_file(path: str) -> tuple[list[dict], list[dict]]:
-    """Read and validate one CSV exchange file: ``(records, rows)``."""
+def read_file(path: str, memo: dict | None = None) -> tuple[list[dict], list[dict]]:
+    """Read and validate one CSV exchange file: ``(records, rows)``; ``memo`` as in
+    :func:`tamis.records.read_csv` (kept across the files of one merge)."""
     with open(path, "rb") as fh:
         data = fh.read()
-    return R.read_csv(R.decode_csv_bytes(data))
+    return R.read_csv(R.decode_csv_bytes(data), memo=memo)
 
 
 def describe_error(path: str, err: InputError) -> str:
@@ -111,10 +115,10 @@ def run(name: str, args) -> int:
     return {"merge": _merge, "report": _report, "check": _check}[name](args)
 
 
-def _load(path: str):
+def _load(path: str, memo: dict | None = None):
     """``(records, rows)`` of a file, or the exit status after printing why it cannot be read."""
     try:
-        return read_file(path)
+        return read_file(path, memo)
     except InputError as err:
         return _fail(path, err)
     except OSError as err:
@@ -135,13 +139,17 @@ def _check(args) -> int:
 
 
 def _merge(args) -> int:
-    lists = []
-    for path in args.files:
-        loaded = _load(path)
-        if isinstance(loaded, int):
-            return loaded
-        lists.append(loaded[0])
-    merged, conflicts = R.merge_all(lists)
+    lists, memo = [], {}
+    reading = Progress("read", "files", min_total=PROGRESS_MIN_FILES)
+    with R.acyclic_work():  # one pause over all files and the merge: the collector would walk every record
+        for i, path in enumerate(args.files, 1):
+            loaded = _load(path, memo)
+            if isinstance(loaded, int):
+                return loaded
+            lists.append(loaded[0])
+            reading(i, len(args.files))
+        merged, conflicts = R.merge_all(lists)
+        gc.freeze()  # the records live to the end of the command: the collector need never walk them again
     # R.export_csv(merged), with the progress of the calc columns shown
     calc = None if args.no_calc else S.summaries_for(merged, progress=Progress("calc columns", "records"))
     text = R.write_csv(merged, calc, bom=args.bom)
@@ -225,6 +233,7 @@ def _report(args) -> int:
     if isinstance(loaded, int):
         return loaded
     recs, rows = loaded
+    gc.freeze()  # the records live to the end of the command: the collector need never walk them again
     entries = report_rows(recs, rows, Progress("report", "tests"))
     summary = summarise(entries)
     if args.json:

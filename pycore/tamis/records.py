@@ -62,6 +62,7 @@ META_TEXT = ("sample_id", "project", "material", "zone", "source", "sampling_poi
 META_NUM = ("offset_m", "elevation_m", "latitude", "longitude")
 TEST_NUM = ("dry_mass_g", "washed_dry_mass_g", "pan_g")
 PLASTICITY_NUM = ("liquid_limit", "plasticity_index")
+_META_TEXT_SET, _META_NUM_SET, _TEST_NUM_SET = frozenset(META_TEXT), frozenset(META_NUM), frozenset(TEST_NUM)
 
 FIXED_COLUMNS = (MARKER, "record_id", "kind", "rev", "updated_at", "updated_by", "deleted", "exported_at")
 META_COLUMNS = ("sample_id", "project", "material", "zone", "source", "sampling_point", "station",
@@ -152,12 +153,15 @@ _DECODER = json.JSONDecoder(parse_constant=_reject_constant)  # stateless; made 
 
 
 @contextlib.contextmanager
-def _acyclic_work():
+def acyclic_work():
     """Pause the cyclic garbage collector while a whole file of records is built or
     merged, and restore it as it was. Records are trees (no reference cycles),
     so nothing waits for the collector meanwhile; left running, it would walk
     every record already built again and again as a large file is read (about
-    a third of the reading time). Reference counting still frees everything."""
+    a third of the reading time). Reference counting still frees everything.
+    Nested uses pause once; a caller doing several steps on many records (the
+    office ``merge``) wraps them all, so the collector does not walk every
+    record between the steps either."""
     was_enabled = gc.isenabled()
     gc.disable()
     try:
@@ -355,11 +359,6 @@ def _falling_fit(v, entry_fits) -> bool:
     return True
 
 
-def _pairs_fit(v, value_key: str) -> bool:
-    """``[{"opening_mm", value_key}, ...]`` of numbers, coarsest first."""
-    return _falling_fit(v, lambda e: len(e) == 2 and _is_num(e.get(value_key)))
-
-
 def _limit_fits(e: dict) -> bool:
     if set(e) != {"opening_mm", "min_pct", "max_pct"}:
         return False
@@ -400,9 +399,9 @@ def record_cells(rec: dict) -> dict:
         c["exported_at"] = rec["exported_at"]
     extra = {}
     for k, v in rec["meta"].items():
-        if k in META_TEXT and isinstance(v, str):
-            c[k] = escape_text(v)
-        elif k in META_NUM and _is_num(v):
+        if k in _META_TEXT_SET and isinstance(v, str):
+            c[k] = "'" + v if not v or v[0] in TRIGGERS else v  # escape_text, inlined
+        elif k in _META_NUM_SET and _is_num(v):
             c[k] = fmt_num(v)
         elif k == "rules" and isinstance(v, dict):
             c["rules_json"] = escape_text(dump_json(v))
@@ -432,12 +431,13 @@ def _group_cells(obj: dict, put, c: dict, extra_col: str) -> None:
 
 def _test_cell(k: str, v, c: dict) -> bool:
     """Put test key ``k`` into its columns if they hold it exactly; False if not."""
-    if k in TEST_NUM and _is_num(v):
+    if k in _TEST_NUM_SET and _is_num(v):
         c[k] = fmt_num(v)
-    elif k in ("sieves", "passing") and _pairs_fit(v, "retained_g" if k == "sieves" else "passing_pct"):
-        val = "retained_g" if k == "sieves" else "passing_pct"
-        for e in v:
-            c[f"{val}@{fmt_num(e['opening_mm'])}mm"] = fmt_num(e[val])
+    elif k in ("sieves", "passing"):
+        got = _pairs_cells(v, "retained_g" if k == "sieves" else "passing_pct")
+        if got is None:
+            return False
+        c.update(got)
     elif k == "plasticity" and _plasticity_fit(v):
         for pk, x in v.items():
             c[pk] = _bool_cell(x) if pk == "nonplastic" else fmt_num(x)
@@ -446,6 +446,40 @@ def _test_cell(k: str, v, c: dict) -> bool:
     else:
         return False
     return True
+
+
+#: (family, opening_mm) -> column name, filled as columns are written (bounded: openings come from files).
+_COLUMN_NAMES: dict = {}
+
+
+def _column_name(family: str, opening_mm: float) -> str:
+    name = _COLUMN_NAMES.get((family, opening_mm))
+    if name is None:
+        name = f"{family}@{fmt_num(opening_mm)}mm"
+        if len(_COLUMN_NAMES) < 4096:
+            _COLUMN_NAMES[(family, opening_mm)] = name
+    return name
+
+
+def _pairs_cells(v, val: str):
+    """The cells of ``[{"opening_mm", val}, ...]`` when the columns hold it exactly
+    (a non-empty list of such pairs of numbers, openings strictly falling), else None."""
+    if not isinstance(v, list) or not v:
+        return None
+    out, last, names = {}, math.inf, _COLUMN_NAMES
+    for e in v:
+        if not isinstance(e, dict) or len(e) != 2:
+            return None
+        op, x = e.get("opening_mm"), e.get(val)
+        if not (_is_num(op) and _is_num(x)):
+            return None
+        op = float(op)
+        if not (0 < op < last):
+            return None
+        last = op
+        r = repr(x if type(x) is float else float(x))  # fmt_num, inlined
+        out[names.get((val, op)) or _column_name(val, op)] = r[:-2] if r[-2:] == ".0" else r
+    return out
 
 
 def _band_cell(k: str, v, c: dict) -> bool:
@@ -487,6 +521,13 @@ def header_for(cell_dicts) -> list[str]:
 
 
 _NEEDS_QUOTES = re.compile('[,"\r\n]')
+#: Columns whose cells this module writes without a comma, quote or line break: the CSV
+#: version, a UUID, a kind, a whole number, ISO times, true/false, and numbers (``fmt_num``;
+#: the opening columns, whose names hold ``@``, too).
+_PLAIN_COLUMNS = frozenset((MARKER, "record_id", "kind", "rev", "updated_at", "deleted", "exported_at")
+                           + META_NUM + TEST_NUM + PLASTICITY_NUM + ("nonplastic", "dispersive")
+                           + ("calc_d10_mm", "calc_d15_mm", "calc_d60_mm", "calc_d85_mm", "calc_cu",
+                              "calc_fines_pct"))
 
 
 def _quote(cell: str) -> str:
@@ -498,7 +539,7 @@ def _quote(cell: str) -> str:
 def write_csv(records, summaries=None, *, bom: bool = False) -> str:
     """CSV text of checked records: one header, one row per record, CRLF line ends,
     rows in :func:`row_order`. ``summaries`` maps record id -> calc cells."""
-    with _acyclic_work():
+    with acyclic_work():
         return _write_rows(records, summaries, bom)
 
 
@@ -513,12 +554,16 @@ def _write_rows(records, summaries, bom: bool) -> str:
     lines = [",".join(_quote(h) for h in header)]
     blank = [""] * len(header)
     quotes = _NEEDS_QUOTES.search
+    plain = {h for h in header if h in _PLAIN_COLUMNS or "@" in h}  # cells that never need quotes
     for c in cells:
         row = blank[:]
         for col, v in c.items():
-            row[pos[col]] = '"' + v.replace('"', '""') + '"' if quotes(v) else v  # _quote, inlined
+            row[pos[col]] = v if col in plain or not quotes(v) else '"' + v.replace('"', '""') + '"'
         lines.append(",".join(row))
-    return ("\ufeff" if bom else "") + "\r\n".join(lines) + "\r\n"
+    if bom:
+        lines[0] = "\ufeff" + lines[0]
+    lines.append("")  # the last row ends with CRLF too
+    return "\r\n".join(lines)
 
 
 # ---------------------------------------------------------------- cells -> record
@@ -833,7 +878,7 @@ def read_csv(text: str, path: str = "csv", *, memo: dict | None = None) -> tuple
     old_limit = csv.field_size_limit()
     csv.field_size_limit(_FIELD_LIMIT)
     try:
-        with _acyclic_work():
+        with acyclic_work():
             return _read_rows(text, path, memo)
     finally:
         csv.field_size_limit(old_limit)
@@ -844,7 +889,9 @@ def read_files(texts, paths=None) -> list[list[dict]]:
     names them), rows repeated across files read once (see ``memo`` in
     :func:`read_csv`)."""
     memo = {}
-    return [read_csv(t, f"files[{i}]" if paths is None else paths[i], memo=memo)[0] for i, t in enumerate(texts)]
+    with acyclic_work():  # one pause for all files: else each file's end makes the collector walk all before
+        return [read_csv(t, f"files[{i}]" if paths is None else paths[i], memo=memo)[0]
+                for i, t in enumerate(texts)]
 
 
 def _memo_key(cols: list[str]):
@@ -1054,7 +1101,7 @@ def merge_all(record_lists) -> tuple[list[dict], list[dict]]:
     """Merge lists of checked records by id. Returns ``(records, conflicts)``,
     records in row order, conflicts as ``{"record_id", "local", "incoming", "reason"}``
     (``local`` is the version kept) ordered by id."""
-    with _acyclic_work():
+    with acyclic_work():
         return _merge_all(record_lists)
 
 
