@@ -240,6 +240,10 @@ def test_read_files_gives_what_each_file_gives_alone():
              R.write_csv([a, band])]  # other headers (other sieve columns), other calc cells
     together = R.read_files(files)
     alone = [R.read_csv(t)[0] for t in files]
+    memo = {}  # the stored calc cells of each row are those of its own file, memo or not
+    assert [R.read_csv(t, memo=memo)[1] for t in files] == [R.read_csv(t)[1] for t in files]
+    assert [row["calc"].get("calc_verdict") for t in files for row in R.read_csv(t, memo=memo)[1]] == \
+        ["accept", "accept", "reject", "reject", None, None]
     assert [[R.dump_json(r) for r in f] for f in together] == [[R.dump_json(r) for r in f] for f in alone]
     # copies of a row are one object, which the merge then takes as one version
     found = [{r["record_id"]: r for r in f} for f in together]

@@ -940,14 +940,17 @@ def _read_rows(text: str, path: str, memo):
                 raise InputError("wrong_cell_count", f"Row {n} has {len(row)} cells but the header has "
                                                      f"{len(cols)}; the line may be truncated or hold an "
                                                      "unquoted comma.", where)
-            cells = dict(compress(zip(cols, row), row))  # the non-blank cells
             if memo is None:
+                cells = dict(compress(zip(cols, row), row))  # the non-blank cells
                 rec = row_record(cells, hdr["colinfo"], where, coarse_first=hdr["coarse_first"])
             else:
                 key = keyed(row)
                 rec = memo.get(key)
                 if rec is None:
+                    cells = dict(compress(zip(cols, row), row))
                     rec = memo[key] = row_record(cells, hdr["colinfo"], where, coarse_first=hdr["coarse_first"])
+                elif calc_cols:  # a row read before: only its calc cells are wanted
+                    cells = dict(compress(zip(cols, row), row))
             prev = by_id.get(rec["record_id"])
             if prev is not None:
                 if prev[0] is rec or (content_key(prev[0]) == content_key(rec) and prev[0]["history"] ==
@@ -957,7 +960,8 @@ def _read_rows(text: str, path: str, memo):
                                  f"{prev[1]} with different content.")
             by_id[rec["record_id"]] = (rec, n)
             records.append(rec)
-            rows.append({"row": n, "calc": {c: unescape_text(cells[c]) for c in calc_cols if c in cells}})
+            rows.append({"row": n, "calc": {c: unescape_text(cells[c]) for c in calc_cols if c in cells}
+                         if calc_cols else {}})
     except csv.Error as exc:
         n += 1  # the row being read when the reader gave up
         raise InputError("bad_csv", f"Row {n}: {exc} (an opened quote is never closed, or text follows a "
