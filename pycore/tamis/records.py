@@ -653,7 +653,9 @@ def _parse_json(cell: str, field: str, want: type):
 
 
 def parse_header(header: list[str], path: str) -> dict:
-    """Check the header row; return ``{"cols": [...], "colinfo": {column: (family, opening_mm)}}``."""
+    """Check the header row; return ``{"cols": [...], "colinfo": {column: (family, opening_mm)},
+    "static": frozenset of the other columns, "coarse_first": bool}``; ``coarse_first`` is
+    True when every family's columns come coarsest first (as :func:`header_for` writes them)."""
     where = f"{path}.row[1]"
     if not header or header[0] != MARKER:
         raise InputError("not_tamis_csv", f"Row 1 must be the header of a tamis CSV file, starting with the "
