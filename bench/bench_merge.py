@@ -50,8 +50,8 @@ HERE = pathlib.Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent / "pycore"))
 sys.path.insert(0, str(HERE.parent / "tests"))
 
-from tamis import demo, records as R  # noqa: E402
-from test_records_gen import make_records  # noqa: E402
+from tamis import records as R  # noqa: E402
+from test_records_gen import demo_variants, make_records  # noqa: E402
 from bench_evaluate import load_baseline  # noqa: E402
 
 
@@ -81,18 +81,8 @@ def build_files(n: int, n_files: int, seed: int = 5) -> list[str]:
 
 def realistic_tests(n: int, seed: int = 9) -> list[dict]:
     """Demo deliveries with their masses varied by up to 2 %, plus the demo bands and bases."""
-    rng = random.Random(seed)
-    pool = [R.check_record(r) for r in demo.load_records()]
-    refs = [r for r in pool if r["kind"] != "test"]
-    tests = [r for r in pool if r["kind"] == "test"]
-    out = []
-    for i in range(n):
-        t = copy.deepcopy(rng.choice(tests))
-        t["record_id"] = f"{i:08x}-0000-4000-8000-{rng.getrandbits(48):012x}"
-        for s in (t["test"] or {}).get("sieves", []):
-            s["retained_g"] = s["retained_g"] * (1 + rng.uniform(-0.02, 0.02))
-        out.append(t)
-    return out + refs
+    refs, tests = demo_variants(n, seed, 0.02)
+    return tests + refs
 
 
 def timed(fn):

@@ -9,11 +9,13 @@ directly through tamis.api.handle, the function the app calls.
 from __future__ import annotations
 
 import json
+import os
 import subprocess
 import sys
 
-from tamis import api, demo, records as R
+from tamis import api, demo, office, records as R, summaries as S
 from test_records import UID, parse_rfc4180, rec
+from test_records_gen import demo_variants
 from test_records_merge import V1, V2, V3, V3_FORK, csv_of
 
 
@@ -180,3 +182,39 @@ def test_merge_of_many_files_reads_copies_once_and_shows_its_reading_on_stderr(t
     assert "read: 12 of 12 files (100 %)" in p.stderr
     few = run("merge", *paths[:3], "-o", "-", "--no-calc", cwd=tmp_path)
     assert few.returncode == 0 and "read:" not in few.stderr
+
+
+def varied_tests(n: int, seed: int = 31):
+    """Tests made from the demo deliveries, masses varied by up to 5 %; every 97th without its band."""
+    return demo_variants(n, seed, 0.05, missing_band_every=97)
+
+
+def test_verdicts_recomputed_by_several_processes_are_those_of_one(tmp_path):
+    refs, tests = varied_tests(office.PARALLEL_MIN + 300)
+    path = write(tmp_path / "many.csv", R.write_csv(refs + tests))
+    one = run("merge", path, "-o", "-", "--jobs", "1", cwd=tmp_path)
+    two = run("merge", path, "-o", "-", "--jobs", "2", cwd=tmp_path)
+    assert one.returncode == two.returncode == 0, two.stderr
+    assert one.stdout == two.stdout == R.export_csv(refs + tests).replace("\r\n", "\n")  # the app's export
+    rep1 = run("report", "--json", "--jobs", "1", path, cwd=tmp_path)
+    rep3 = run("report", "--json", "--jobs", "3", path, cwd=tmp_path)
+    a, b = json.loads(rep1.stdout), json.loads(rep3.stdout)
+    assert a == b and a["summary"]["tests"] == len(tests)
+    assert a["summary"]["accept"] > 0 and a["summary"]["reject"] > 0 and a["summary"]["no_verdict"] > 0
+
+
+def test_parallel_summaries_come_from_other_processes_in_the_order_given(monkeypatch):
+    refs, tests = varied_tests(office.PARALLEL_MIN + 50, seed=5)
+    index = {r["record_id"]: r for r in refs + tests}
+    real = S.compute_summaries
+    want = real(tests, index)
+    monkeypatch.setattr(S, "compute_summaries",
+                        lambda todo, idx, progress=None: [dict(s, pid=os.getpid()) for s in real(todo, idx)])
+    steps = []
+    got = office.summaries_in_parallel(tests, index, 2, lambda done, total: steps.append((done, total)))
+    pids = {s.pop("pid") for s in got}
+    assert os.getpid() not in pids
+    assert got == want
+    assert steps[-1] == (len(tests), len(tests)) and [d for d, _ in steps] == sorted(d for d, _ in steps)
+    few = office.summaries_in_parallel(tests[:10], index, 2)  # too few to be worth other processes
+    assert {s.pop("pid") for s in few} == {os.getpid()}

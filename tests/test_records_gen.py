@@ -8,6 +8,9 @@ non-ASCII text, empty strings, unsorted or odd lists that fall back to the
 JSON columns, one-sided band limits, drafts without a test, tombstones.
 Numbers in the typed columns are floats (the codec reads them back as
 floats); numbers inside JSON columns keep their int/float spelling.
+
+``demo_variants(n, seed, spread)`` gives realistic tests instead: the demo
+project's deliveries with their masses varied (for the calc columns).
 """
 
 from __future__ import annotations
@@ -170,6 +173,29 @@ def make_records(n: int, seed: int = 1) -> list[dict]:
         ids.append(rid)
         out.append(rec)
     return out
+
+
+def demo_variants(n: int, seed: int, spread: float, missing_band_every: int = 0) -> tuple[list, list]:
+    """``(refs, tests)``: the demo project's bands and base soils (checked records), and
+    ``n`` tests drawn from its deliveries with each sieve mass scaled by a factor in
+    ``1 +/- spread``; every ``missing_band_every``-th test (0: none) names a band that
+    is not among ``refs``, so it gets no verdict."""
+    import copy
+    from tamis import demo, records as R
+    rng = random.Random(seed)
+    pool = [R.check_record(r) for r in demo.load_records()]
+    refs = [r for r in pool if r["kind"] != "test"]
+    tests = [r for r in pool if r["kind"] == "test"]
+    out = []
+    for i in range(n):
+        t = copy.deepcopy(rng.choice(tests))
+        t["record_id"] = f"{i:08x}-0000-4000-8000-{rng.getrandbits(48):012x}"
+        for s in (t["test"] or {}).get("sieves", []):
+            s["retained_g"] = s["retained_g"] * (1 + rng.uniform(-spread, spread))
+        if missing_band_every and i % missing_band_every == 0:
+            t["meta"] = dict(t["meta"], band_id="ffffffff-0000-4000-8000-000000000000")
+        out.append(t)
+    return refs, out
 
 
 def test_generator_is_deterministic_and_covers_every_kind():

@@ -23,6 +23,8 @@ from __future__ import annotations
 
 import gc
 import json
+import multiprocessing
+import os
 import sys
 import time
 
@@ -35,6 +37,8 @@ EXIT_OK, EXIT_FLAGGED, EXIT_BAD_INPUT = 0, 1, 2
 
 #: Progress is shown only when there are more records than this.
 PROGRESS_MIN = 2000
+#: Verdicts are recomputed by several processes (``--jobs``) only when there are more records than this.
+PARALLEL_MIN = 2000
 #: Reading progress is shown only when there are more files than this.
 PROGRESS_MIN_FILES = 10
 #: At most one progress line per this many seconds (plus the last one).
@@ -84,13 +88,77 @@ def add_arguments(name: str, parser) -> None:
         parser.add_argument("--no-calc", action="store_true",
                             help="leave the calc_* columns blank (faster for very large merges; "
                                  "report recomputes them anyway)")
+        _jobs_argument(parser)
     elif name == "report":
         parser.add_argument("file", help="CSV exchange file")
         parser.add_argument("--json", action="store_true", help="print JSON for machines instead of a table")
+        _jobs_argument(parser)
     elif name == "check":
         parser.add_argument("file", help="CSV exchange file")
     else:  # pragma: no cover - cli.py only sends the three names above
         raise ValueError(name)
+
+
+def _jobs_argument(parser) -> None:
+    parser.add_argument("--jobs", type=int, default=0, metavar="N",
+                        help=f"processes that recompute verdicts when there are more than {PARALLEL_MIN:,} records "
+                             "(default 0: one per processor; 1: none besides this one); the output is the same")
+
+
+def available_cpus() -> int:
+    try:
+        return len(os.sched_getaffinity(0))
+    except (AttributeError, OSError):  # not on every system
+        return os.cpu_count() or 1
+
+
+#: What the forked workers of :func:`summaries_in_parallel` read (set before the fork, never changed).
+_SHARED: tuple = ()
+
+
+def _summaries_of_slice(bounds: tuple[int, int]) -> tuple[int, list[dict]]:
+    todo, index = _SHARED
+    a, b = bounds
+    return a, S.compute_summaries(todo[a:b], index)
+
+
+def summaries_in_parallel(todo: list[dict], index: dict, jobs: int, progress=None) -> list[dict]:
+    """:func:`tamis.summaries.compute_summaries` of ``todo``, the same list, computed by
+    ``jobs`` forked processes when that is worth it (more than :data:`PARALLEL_MIN`
+    records, ``jobs`` > 1, a system where a process can fork: Linux), else here.
+    Each record's summary depends only on it and ``index``, so the answer does not
+    depend on how the records are shared out; each process parses each band and
+    base soil once for itself."""
+    global _SHARED
+    jobs = available_cpus() if jobs <= 0 else jobs
+    total = len(todo)
+    if jobs <= 1 or total <= PARALLEL_MIN or not sys.platform.startswith("linux") \
+            or "fork" not in multiprocessing.get_all_start_methods():
+        return S.compute_summaries(todo, index, progress)
+    step = max(100, total // (jobs * 16))  # small slices: progress moves, and no process waits long at the end
+    slices = [(a, min(a + step, total)) for a in range(0, total, step)]
+    out: list = [None] * total
+    done = 0
+    _SHARED = (todo, index)
+    try:
+        with multiprocessing.get_context("fork").Pool(jobs) as pool:
+            for a, part in pool.imap_unordered(_summaries_of_slice, slices):
+                out[a:a + len(part)] = part
+                done += len(part)
+                if progress is not None:
+                    progress(done, total)
+    finally:
+        _SHARED = ()
+    return out
+
+
+def calc_cells(records: list[dict], jobs: int, progress=None) -> dict:
+    """:func:`tamis.summaries.summaries_for` of ``records`` (no context), computed by
+    :func:`summaries_in_parallel`."""
+    index = {r["record_id"]: r for r in records}
+    todo = [r for r in records if r["kind"] != "band"]
+    sums = summaries_in_parallel(todo, index, jobs, progress)
+    return {r["record_id"]: S.summary_cells(s) for r, s in zip(todo, sums)}
 
 
 def read_file(path: str, memo: dict | None = None) -> tuple[list[dict], list[dict]]:
@@ -151,7 +219,7 @@ def _merge(args) -> int:
         merged, conflicts = R.merge_all(lists)
         gc.freeze()  # the records live to the end of the command: the collector need never walk them again
     # R.export_csv(merged), with the progress of the calc columns shown
-    calc = None if args.no_calc else S.summaries_for(merged, progress=Progress("calc columns", "records"))
+    calc = None if args.no_calc else calc_cells(merged, args.jobs, Progress("calc columns", "records"))
     text = R.write_csv(merged, calc, bom=args.bom)
     if args.output == "-":
         sys.stdout.buffer.write(text.encode("utf-8"))
@@ -178,12 +246,13 @@ def _merge(args) -> int:
     return EXIT_OK
 
 
-def report_rows(recs: list[dict], rows: list[dict], progress=None) -> list[dict]:
+def report_rows(recs: list[dict], rows: list[dict], progress=None, jobs: int = 1) -> list[dict]:
     """One entry per live test record: recomputed summary beside the stored verdict.
-    ``progress(done, total)`` follows the tests (:func:`tamis.summaries.compute_summaries`)."""
+    ``progress(done, total)`` follows the tests (:func:`tamis.summaries.compute_summaries`);
+    ``jobs`` as in :func:`summaries_in_parallel`."""
     index = {r["record_id"]: r for r in recs}
     live = [(rec, row) for rec, row in zip(recs, rows) if rec["kind"] == "test" and not rec["deleted"]]
-    sums = S.compute_summaries([rec for rec, _ in live], index, progress)
+    sums = summaries_in_parallel([rec for rec, _ in live], index, jobs, progress)
     out = []
     for (rec, row), s in zip(live, sums):
         stored = row["calc"].get("calc_verdict")
@@ -234,7 +303,7 @@ def _report(args) -> int:
         return loaded
     recs, rows = loaded
     gc.freeze()  # the records live to the end of the command: the collector need never walk them again
-    entries = report_rows(recs, rows, Progress("report", "tests"))
+    entries = report_rows(recs, rows, Progress("report", "tests"), args.jobs)
     summary = summarise(entries)
     if args.json:
         print(json.dumps({"file": args.file, "core_version": __version__, "summary": summary, "tests": entries,
