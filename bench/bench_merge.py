@@ -6,10 +6,10 @@ Each record is in one to three files; a fifth of the copies are older
 revisions of the same record, so the merge has real work to do. The files are
 written without calc columns (a reader ignores them anyway). Timed phases:
 
-1. read: decode, parse and validate every file (tamis.records.read_csv);
-2. merge: by id and revision (tamis.records.merge_all);
-3. write: the merged CSV without calc columns (tamis.records.write_csv);
-4. calc: recomputing the calc columns (tamis.summaries.summaries_for: the
+1. read: decode, parse and validate every file (tamis.exchange.csv_read.read_files);
+2. merge: by id and revision (tamis.exchange.merge.merge_all);
+3. write: the merged CSV without calc columns (tamis.exchange.csv_write.write_csv);
+4. calc: recomputing the calc columns (tamis.exchange.summaries.summaries_for: the
    code of the evaluate/gradation ops called directly, each band and base
    soil parsed once) for ``--calc-n`` realistic tests derived from the demo
    project, printed as a rate; ``python -m tamis merge`` does this for every
@@ -17,7 +17,7 @@ written without calc columns (a reader ignores them anyway). Timed phases:
 
 Reading and merging run with the cyclic garbage collector paused and what
 they built then frozen, as ``python -m tamis merge`` runs them (records are
-trees; see ``tamis.records.acyclic_work``). ``--cli`` also runs
+trees; see ``tamis.exchange.record.acyclic_work``). ``--cli`` also runs
 ``python -m tamis merge --no-calc`` on the same files in a child process and
 prints its wall and cpu time, start-up included, and whether it wrote the same
 bytes as the write phase.
@@ -50,7 +50,6 @@ HERE = pathlib.Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent / "pycore"))
 sys.path.insert(0, str(HERE.parent / "tests"))
 
-from tamis import records as R  # noqa: E402
 from test_records_gen import demo_variants, make_records  # noqa: E402
 from bench_evaluate import load_baseline  # noqa: E402
 
@@ -67,7 +66,7 @@ def older(rec: dict) -> dict:
 
 def build_files(n: int, n_files: int, seed: int = 5) -> list[str]:
     rng = random.Random(seed)
-    recs = [R.check_record(r) for r in make_records(n, seed=seed)]
+    recs = [NOW.check_record(r) for r in make_records(n, seed=seed)]
     files: list[list[dict]] = [[] for _ in range(n_files)]
     for r in recs:
         copies = rng.choice((1, 1, 2, 3))
@@ -76,7 +75,7 @@ def build_files(n: int, n_files: int, seed: int = 5) -> list[str]:
             if i > 0 and r["rev"] > 1 and len(r["history"]) == r["rev"] and rng.random() < 0.6:
                 v = older(r)
             files[f].append(v)
-    return [R.write_csv(f) for f in files]
+    return [NOW.write_csv(f) for f in files]
 
 
 def realistic_tests(n: int, seed: int = 9) -> list[dict]:
@@ -92,16 +91,35 @@ def timed(fn):
     return out, time.perf_counter() - w0, time.process_time() - c0
 
 
-def summaries_of(R):
-    """The module holding ``summaries_for`` next to records module ``R`` (it moved
-    from records to summaries; a baseline may be older)."""
-    if hasattr(R, "summaries_for"):
-        return R
-    return importlib.import_module(R.__name__.rsplit(".", 1)[0] + ".summaries")
+class Codec:
+    """The functions the phases call, from one version of the package ``pkg`` (the
+    working tree's ``tamis`` or a baseline's copy): from ``exchange/`` when it has
+    one, else from the single ``records`` module of older revisions (``summaries_for``
+    from ``summaries`` when records has none)."""
+
+    NAMES = ("check_record", "dump_json", "acyclic_work", "read_files", "read_csv", "merge_all", "write_csv",
+             "summaries_for")
+
+    def __init__(self, pkg: str):
+        try:
+            mods = [importlib.import_module(f"{pkg}.exchange.{m}")
+                    for m in ("record", "csv_read", "csv_write", "merge", "summaries")]
+        except ModuleNotFoundError:
+            mods = [importlib.import_module(f"{pkg}.records")]
+            with contextlib.suppress(ModuleNotFoundError):
+                mods.append(importlib.import_module(f"{pkg}.summaries"))
+        for name in self.NAMES + ("_acyclic_work",):
+            for m in mods:
+                if hasattr(m, name):
+                    setattr(self, name, getattr(m, name))
+                    break
+
+
+NOW = Codec("tamis")
 
 
 def run_phases(R, texts: list[str], sample: list[dict] | None) -> dict:
-    """Each phase with module ``R`` (a tamis.records): ``{phase: (output, wall s, cpu s)}``."""
+    """Each phase with ``R`` (a :class:`Codec`): ``{phase: (output, wall s, cpu s)}``."""
     out = {}
     # as ``python -m tamis merge`` runs them: the cyclic collector paused over reading and merging,
     # then what they built frozen (the same for a baseline, so the ratios compare the code)
@@ -116,7 +134,7 @@ def run_phases(R, texts: list[str], sample: list[dict] | None) -> dict:
     try:
         out["write"] = timed(lambda: R.write_csv(out["merge"][0][0]))
         if sample is not None:
-            out["calc"] = timed(lambda: summaries_of(R).summaries_for(sample))
+            out["calc"] = timed(lambda: R.summaries_for(sample))
     finally:
         gc.unfreeze()
     return out
@@ -191,10 +209,9 @@ def main(argv=None) -> int:
     print(f"setup: {args.files} files, {mb:.1f} MB, built in {time.perf_counter() - t0:.1f} s", flush=True)
 
     with tempfile.TemporaryDirectory() as tmp:
-        versions = {"now": R}
+        versions = {"now": NOW}
         if args.baseline:
-            versions["baseline"] = importlib.import_module(f"{load_baseline(args.baseline, pathlib.Path(tmp)).__name__}"
-                                                           ".records")
+            versions["baseline"] = Codec(load_baseline(args.baseline, pathlib.Path(tmp)).__name__)
         for mod in versions.values():     # first use imports modules and compiles patterns: not timed
             run_phases(mod, build_files(30, 3, seed=1), sample[:3] if sample else None)
         runs = {k: [] for k in versions}
@@ -215,9 +232,9 @@ def main(argv=None) -> int:
     print(f"speed-up baseline {args.baseline} / now (cpu): {ratios}; read+merge+write x{cpu_base / cpu_now:.2f}")
     same = {ph: now[ph][0] == base[ph][0] for ph in now}
     # equal values are not enough for records: the same spelling (key order, 12 vs 12.0) is required too
-    same["read"] = same["read"] and all(R.dump_json(a) == R.dump_json(b)
+    same["read"] = same["read"] and all(NOW.dump_json(a) == NOW.dump_json(b)
                                         for x, y in zip(now["read"][0], base["read"][0]) for a, b in zip(x, y))
-    same["merge"] = same["merge"] and R.dump_json(now["merge"][0]) == R.dump_json(base["merge"][0])
+    same["merge"] = same["merge"] and NOW.dump_json(now["merge"][0]) == NOW.dump_json(base["merge"][0])
     print("outputs " + ", ".join(f"{ph} {'identical' if ok else 'DIFFER'}" for ph, ok in same.items()))
     return 0 if all(same.values()) else 1
 

@@ -16,7 +16,7 @@ sys.path.insert(0, str(ROOT / "pycore"))
 
 from tamis import SCREENING_NOTICE  # noqa: E402
 from tamis.criteria import rules as rules_mod  # noqa: E402
-from tamis.criteria.registry import ENTRIES, PROVENANCE_TAGS  # noqa: E402
+from tamis.registry import ENTRIES, PROVENANCE_TAGS  # noqa: E402
 from tamis.criteria.tables import (CATEGORY_EDGES_PCT, DEFAULT_RULE_SET, MATERIAL, PROVENANCE,  # noqa: E402
                                    RULE_SETS, SEGREGATION_ROWS)
 

@@ -73,14 +73,14 @@ def test_evaluate_merges_qa_band_and_criteria_checks():
 
 
 def test_evaluate_verdict_follows_the_checks():
-    # Sample only, a clean band pass, every QA check passing: the verdict comes from tamis.findings.verdict.
+    # Sample only, a clean band pass, every QA check passing: the verdict comes from tamis.checks.verdict.
     t = {"sieves": [{"opening_mm": 4.75, "retained_g": 0.0}, {"opening_mm": 2.36, "retained_g": 100.0},
                     {"opening_mm": 0.6, "retained_g": 150.0}, {"opening_mm": 0.075, "retained_g": 150.0}],
          "pan_g": 9.0, "dry_mass_g": 420.0, "washed_dry_mass_g": 410.0}
     band = {"name": "B", "limits": [{"opening_mm": 4.75, "min_pct": 95, "max_pct": 100}]}
     r = call_api("evaluate", sample=t, band=band)["result"]
     statuses = [c["status"] for c in r["checks"]]
-    from tamis.findings import ACCEPT, REJECT, REVIEW
+    from tamis.checks import ACCEPT, REJECT, REVIEW
     want = REJECT if "fail" in statuses else (REVIEW if ("warn" in statuses or "needs_data" in statuses)
                                               else ACCEPT)
     assert r["verdict"] == want

@@ -83,7 +83,7 @@ def test_non_finite_numbers_made_by_an_op_never_reach_the_output(monkeypatch):
 def test_d_value_on_a_measured_point_is_that_sieve_exactly():
     # A D-value whose percentage equals a measured point is the sieve opening itself
     # (no round trip through log/exp), so "exactly at the limit" compares exactly.
-    from tamis.curve import make_curve, size_at
+    from tamis.lab.curve import make_curve, size_at
     c = make_curve([(4.75, 100.0), (1.18, 60.0), (0.3, 15.0), (0.075, 3.0)])
     assert size_at(c, 15.0) == 0.3
     assert size_at(c, 60.0) == 1.18

@@ -8,8 +8,8 @@ sieves" requirements (read in a reproduction); C33 Table 3 sizes 57 and 67
 
 import pytest
 
-from tamis import bands
-from tamis.curve import make_curve
+from tamis.lab import bands
+from tamis.lab.curve import make_curve
 from tamis.errors import InputError
 
 BAND = {"name": "filter sand F1", "limits": [

@@ -67,7 +67,7 @@ def test_table_output_for_an_error_names_the_field():
 
 def test_table_renderer_shows_interfaces_and_designed_bands():
     from tamis import api
-    from tamis.tables import render
+    from tamis.cli_text import render
     golden = pathlib.Path(__file__).resolve().parent / "golden"
     for name, must in (("design_band-three-bases", ["feasible:", "min %", "step 1:"]),
                        ("zones-three-zone-usbr", ["->", "filter.retention"])):

@@ -6,7 +6,7 @@ import importlib.util
 import pathlib
 import re
 
-from tamis.criteria import registry
+from tamis import registry
 
 ROOT = pathlib.Path(__file__).resolve().parent.parent
 

@@ -16,8 +16,8 @@ from conftest import EXAMPLE_29
 
 from tamis.criteria import permeability as pm
 from tamis.criteria.rules import parse_rules
-from tamis.curve import make_curve
-from tamis.evaluation import reduce_test
+from tamis.lab.curve import make_curve
+from tamis.lab.reduction import reduce_test
 
 
 def test_hazen_formula():

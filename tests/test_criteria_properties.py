@@ -14,7 +14,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from tamis.criteria import run_filter_checks
-from tamis.curve import make_curve
+from tamis.lab.curve import make_curve
 
 SIEVES = (75.0, 37.5, 19.0, 9.5, 4.75, 2.36, 1.18, 0.6, 0.3, 0.15, 0.075, 0.02, 0.005)
 

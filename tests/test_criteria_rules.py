@@ -18,10 +18,10 @@ import pytest
 from tamis.criteria import nrcs, run_filter_checks
 from tamis.criteria.base import analyse_base
 from tamis.criteria.material import fines_check, max_size_check, plasticity_check, segregation_check
-from tamis.criteria.pairs import permeability_check, retention_check
+from tamis.criteria.against_base import permeability_check, retention_check
 from tamis.criteria.rules import parse_rules
 from tamis.criteria.tables import RULE_SETS, segregation_d90_max_mm
-from tamis.curve import make_curve
+from tamis.lab.curve import make_curve
 from tamis.errors import InputError
 
 NRCS = RULE_SETS["nrcs-1994"]

@@ -20,7 +20,7 @@ import numpy as np
 import pytest
 
 from tamis.criteria import stability as st
-from tamis.curve import make_curve
+from tamis.lab.curve import make_curve
 
 CURVE_A = [(37.5, 100), (19, 85), (9.5, 65), (4.75, 50), (2.0, 38), (0.85, 30), (0.425, 26), (0.25, 22),
            (0.15, 17), (0.075, 10)]                       # W4 synthetic curve "A" (derived)

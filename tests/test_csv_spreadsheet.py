@@ -27,7 +27,8 @@ import xml.etree.ElementTree as ET
 
 import pytest
 
-from tamis import api, records as R
+from tamis import api
+from tamis.exchange import csv_format, csv_write
 from test_records import UID, UID2, parse_rfc4180, rec
 
 SOFFICE = shutil.which("soffice") or shutil.which("libreoffice")
@@ -112,7 +113,7 @@ def test_formula_texts_stay_inert_text_and_numbers_stay_numbers(tmp_path):
             if csv_cell.startswith("'"):
                 # The prefix is visible text: the cell shows the quote, then the text.
                 assert shown.startswith("'"), (key, shown)
-            assert R.unescape_text(csv_cell) == s
+            assert csv_format.unescape_text(csv_cell) == s
     for key in ("retained_g@4.75mm", "dry_mass_g", "pan_g", "rev"):
         assert test_row[col[key]][0] == "float", key
     band_row = sheet[1 + next(i for i, r in enumerate(rows) if r[col["record_id"]] == UID2)]
@@ -124,8 +125,8 @@ def test_formula_texts_stay_inert_text_and_numbers_stay_numbers(tmp_path):
 def test_control_the_same_texts_unprotected_do_become_formulas(tmp_path):
     path, text, _ = exported_file(tmp_path)
     header, *rows = parse_rfc4180(text)
-    raw = [header] + [[R.unescape_text(c) if c.startswith("'") else c for c in r] for r in rows]
+    raw = [header] + [[csv_format.unescape_text(c) if c.startswith("'") else c for c in r] for r in rows]
     control = tmp_path / "control.csv"
-    control.write_bytes(("\r\n".join(",".join(R._quote(c) for c in r) for r in raw) + "\r\n").encode("utf-8"))
+    control.write_bytes(("\r\n".join(",".join(csv_write._quote(c) for c in r) for r in raw) + "\r\n").encode("utf-8"))
     sheet = cells_of(to_ods(control, tmp_path))
     assert any(cell[2] for row in sheet for cell in row), "LibreOffice read no formula in the control file"

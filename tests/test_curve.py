@@ -19,10 +19,10 @@ import random
 import numpy as np
 import pytest
 
-from tamis import curve as cv
-from tamis.bands import PRESETS
+from tamis.lab import curve as cv
+from tamis.lab.bands import PRESETS
 from tamis.errors import InputError
-from tamis.evaluation import reduce_test
+from tamis.lab.reduction import reduce_test
 
 W2_PASSING = [(4.75, 99.15932746), (2.0, 87.46997598), (0.85, 66.29303443), (0.425, 43.89511609),
               (0.25, 26.22097678), (0.106, 7.325860689), (0.075, 4.163330665)]

@@ -154,7 +154,7 @@ def passing_at(d, p, size_mm):
 def independent_limits(sample: dict, base: dict, regrade: bool = True) -> dict:
     """Limits of NEH 633-26 (1994) for this sample and base, computed here.
     ``regrade=False``: the base is read on its own curve (a clean filter zone
-    used as the base of the next zone, as ``tamis.zones`` does by default)."""
+    used as the base of the next zone, as ``tamis.project.zones`` does by default)."""
     bd, bp = curve_of(base)
     p475 = passing_at(bd, bp, 4.75) if (regrade and bd.max() >= 4.75) else 100.0
     keep = bd <= 4.75 if regrade else np.ones_like(bd, dtype=bool)

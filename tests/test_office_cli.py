@@ -13,7 +13,10 @@ import os
 import subprocess
 import sys
 
-from tamis import api, demo, office, records as R, summaries as S
+from tamis import api, demo
+from tamis.exchange import office
+from tamis.exchange import summaries as S
+from tamis.exchange import csv_read, csv_write, ops, record
 from test_records import UID, parse_rfc4180, rec
 from test_records_gen import demo_variants
 from test_records_merge import V1, V2, V3, V3_FORK, csv_of
@@ -30,9 +33,9 @@ def write(path, text: str, encoding="utf-8"):
 
 
 def demo_files(tmp_path):
-    recs = [R.check_record(r) for r in demo.load_records()]
-    a = write(tmp_path / "phone-a.csv", R.export_csv(recs[:18]))
-    b = write(tmp_path / "phone-b.csv", R.export_csv(recs[9:]))
+    recs = [record.check_record(r) for r in demo.load_records()]
+    a = write(tmp_path / "phone-a.csv", ops.export_csv(recs[:18]))
+    b = write(tmp_path / "phone-b.csv", ops.export_csv(recs[9:]))
     return recs, a, b
 
 
@@ -49,14 +52,14 @@ def test_check_bad_file_names_file_row_and_column(tmp_path):
     text = a.read_text(encoding="utf-8")
     rows = parse_rfc4180(text)
     rows[5][rows[0].index("rev")] = "2.0"
-    bad = write(tmp_path / "bad.csv", "\r\n".join(",".join(R._quote(c) for c in r) for r in rows) + "\r\n")
+    bad = write(tmp_path / "bad.csv", "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows) + "\r\n")
     p = run("check", bad, cwd=tmp_path)
     assert p.returncode == 2
     assert f"{bad}: Row 6, column rev" in p.stderr and "Traceback" not in p.stderr
 
 
 def test_check_wrong_encoding_and_missing_file(tmp_path):
-    latin = write(tmp_path / "latin.csv", csv_of(R.check_record(rec(meta={"notes": "séché"}))), "latin-1")
+    latin = write(tmp_path / "latin.csv", csv_of(record.check_record(rec(meta={"notes": "séché"}))), "latin-1")
     p = run("check", latin, cwd=tmp_path)
     assert p.returncode == 2 and "Row 2" in p.stderr and "UTF-8" in p.stderr
     p = run("check", tmp_path / "nope.csv", cwd=tmp_path)
@@ -78,7 +81,7 @@ def test_merge_is_deterministic_and_matches_the_op(tmp_path):
     app = json.loads(api.handle(json.dumps({"schema": 1, "op": "records_export_csv", "id": None,
                                             "records": demo.load_records()})))
     assert ab == app["result"]["csv"].encode("utf-8")
-    back, _ = R.read_csv(ab.decode("utf-8"))
+    back, _ = csv_read.read_csv(ab.decode("utf-8"))
     assert len(back) == len(recs)
     p = subprocess.run([sys.executable, "-m", "tamis", "merge", str(a), str(b), "-o", "-", "--bom"],
                        capture_output=True, timeout=120, cwd=tmp_path)  # bytes: CRLF kept as written
@@ -89,8 +92,8 @@ def test_merge_without_calc_columns_holds_the_same_records(tmp_path):
     recs, a, b = demo_files(tmp_path)
     assert run("merge", a, b, "-o", tmp_path / "calc.csv", cwd=tmp_path).returncode == 0
     assert run("merge", a, b, "-o", tmp_path / "raw.csv", "--no-calc", cwd=tmp_path).returncode == 0
-    with_calc, rows = R.read_csv((tmp_path / "calc.csv").read_text(encoding="utf-8"))
-    without, rows2 = R.read_csv((tmp_path / "raw.csv").read_text(encoding="utf-8"))
+    with_calc, rows = csv_read.read_csv((tmp_path / "calc.csv").read_text(encoding="utf-8"))
+    without, rows2 = csv_read.read_csv((tmp_path / "raw.csv").read_text(encoding="utf-8"))
     assert with_calc == without
     assert any(r["calc"] for r in rows) and not any(r["calc"] for r in rows2)
 
@@ -111,7 +114,7 @@ def test_merge_newer_revisions_exit_0(tmp_path):
     files = [write(tmp_path / f"{i}.csv", csv_of(v)) for i, v in enumerate((V1, V2, V3))]
     p = run("merge", *files, "-o", tmp_path / "out.csv", cwd=tmp_path)
     assert p.returncode == 0, p.stderr
-    (got,), _ = R.read_csv((tmp_path / "out.csv").read_text(encoding="utf-8"))
+    (got,), _ = csv_read.read_csv((tmp_path / "out.csv").read_text(encoding="utf-8"))
     assert got["rev"] == 3 and got["history"] == V3["history"]
 
 
@@ -125,7 +128,7 @@ def test_merge_bad_file_exits_2_without_writing(tmp_path):
 
 def test_report_recomputes_every_verdict(tmp_path):
     recs, a, b = demo_files(tmp_path)
-    merged = write(tmp_path / "all.csv", R.export_csv(recs))
+    merged = write(tmp_path / "all.csv", ops.export_csv(recs))
     p = run("report", merged, "--json", cwd=tmp_path)
     assert p.returncode == 0, p.stderr
     out = json.loads(p.stdout)
@@ -150,13 +153,13 @@ def test_report_recomputes_every_verdict(tmp_path):
 
 
 def test_report_flags_a_stored_verdict_that_differs(tmp_path):
-    recs = [R.check_record(r) for r in demo.load_records()]
-    text = R.export_csv(recs)
+    recs = [record.check_record(r) for r in demo.load_records()]
+    text = ops.export_csv(recs)
     rows = parse_rfc4180(text)
     col = rows[0].index("calc_verdict")
     target = next(i for i, r in enumerate(rows) if r[col] == "reject")
     rows[target][col] = "accept"  # someone "fixed" the verdict in a spreadsheet
-    forged = write(tmp_path / "forged.csv", "\r\n".join(",".join(R._quote(c) for c in r) for r in rows) + "\r\n")
+    forged = write(tmp_path / "forged.csv", "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows) + "\r\n")
     p = run("report", forged, "--json", cwd=tmp_path)
     assert p.returncode == 1
     out = json.loads(p.stdout)
@@ -170,15 +173,15 @@ def test_report_flags_a_stored_verdict_that_differs(tmp_path):
 def test_merge_of_many_files_reads_copies_once_and_shows_its_reading_on_stderr(tmp_path):
     # twelve devices holding overlapping slices of the demo project: every record in several files,
     # some with calc columns and some without (a reader never takes them as data)
-    recs = [R.check_record(r) for r in demo.load_records()]
+    recs = [record.check_record(r) for r in demo.load_records()]
     paths = []
     for i in range(12):
         part = recs[i % 5::2]
-        text = R.export_csv(part) if i % 2 else R.write_csv(part)
+        text = ops.export_csv(part) if i % 2 else csv_write.write_csv(part)
         paths.append(write(tmp_path / f"device-{i:02d}.csv", text))
     p = run("merge", *paths, "-o", "-", "--no-calc", cwd=tmp_path)
     assert p.returncode == 0, p.stderr
-    assert p.stdout == R.write_csv(recs).replace("\r\n", "\n")  # text mode reads CRLF as LF
+    assert p.stdout == csv_write.write_csv(recs).replace("\r\n", "\n")  # text mode reads CRLF as LF
     assert "read: 12 of 12 files (100 %)" in p.stderr
     few = run("merge", *paths[:3], "-o", "-", "--no-calc", cwd=tmp_path)
     assert few.returncode == 0 and "read:" not in few.stderr
@@ -191,11 +194,11 @@ def varied_tests(n: int, seed: int = 31):
 
 def test_verdicts_recomputed_by_several_processes_are_those_of_one(tmp_path):
     refs, tests = varied_tests(office.PARALLEL_MIN + 300)
-    path = write(tmp_path / "many.csv", R.write_csv(refs + tests))
+    path = write(tmp_path / "many.csv", csv_write.write_csv(refs + tests))
     one = run("merge", path, "-o", "-", "--jobs", "1", cwd=tmp_path)
     two = run("merge", path, "-o", "-", "--jobs", "2", cwd=tmp_path)
     assert one.returncode == two.returncode == 0, two.stderr
-    assert one.stdout == two.stdout == R.export_csv(refs + tests).replace("\r\n", "\n")  # the app's export
+    assert one.stdout == two.stdout == ops.export_csv(refs + tests).replace("\r\n", "\n")  # the app's export
     rep1 = run("report", "--json", "--jobs", "1", path, cwd=tmp_path)
     rep3 = run("report", "--json", "--jobs", "3", path, cwd=tmp_path)
     a, b = json.loads(rep1.stdout), json.loads(rep3.stdout)

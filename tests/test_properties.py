@@ -15,9 +15,9 @@ import math
 from hypothesis import given, settings, strategies as st
 
 from tamis import api
-from tamis.curve import size_at
-from tamis.evaluation import reduce_test
-from tamis.sieves import ASTM_E11
+from tamis.lab.curve import size_at
+from tamis.lab.reduction import reduce_test
+from tamis.lab.sieves import ASTM_E11
 
 OPENINGS = [d for d, _ in ASTM_E11 if 0.075 <= d <= 75.0]
 

@@ -27,7 +27,8 @@ import struct
 
 import pytest
 
-from tamis import api, records as R
+from tamis import api
+from tamis.exchange import csv_format, csv_read, csv_write, record
 from test_records_gen import make_records
 
 UID = "0b7e7c3e-1d2a-4c8e-9a51-2f3b4c5d6e7f"
@@ -58,7 +59,7 @@ def parse_rfc4180(text):
 
 def test_rfc4180_line_ends_quoting_and_field_count():
     r = rec(meta={"sample_id": "S-1", "notes": 'wet, "clayey"\r\nsecond line'})
-    text = R.write_csv([R.check_record(r)])
+    text = csv_write.write_csv([record.check_record(r)])
     # Rule 1: each record ends with CRLF; outside quoted fields there is no bare LF.
     assert text.endswith("\r\n")
     unquoted = "".join(part for i, part in enumerate(text.split('"')) if i % 2 == 0)
@@ -78,7 +79,7 @@ def test_header_names_carry_units_and_openings_in_mm():
     band = rec(record_id=UID2, kind="band", test=None,
                band={"name": "F1", "limits": [{"opening_mm": 9.5, "min_pct": 100.0, "max_pct": 100.0},
                                               {"opening_mm": 0.075, "min_pct": None, "max_pct": 5.0}]})
-    text = R.write_csv([R.check_record(rec()), R.check_record(band)])
+    text = csv_write.write_csv([record.check_record(rec()), record.check_record(band)])
     header = parse_rfc4180(text)[0]
     assert header[0] == "tamis_csv"
     for col in ("retained_g@9.5mm", "retained_g@4.75mm", "band_min_pct@9.5mm", "band_max_pct@0.075mm",
@@ -89,18 +90,18 @@ def test_header_names_carry_units_and_openings_in_mm():
     # Coarsest first within a family.
     assert header.index("retained_g@9.5mm") < header.index("retained_g@4.75mm")
     # Every row carries the format version.
-    assert all(row[0] == R.CSV_VERSION for row in parse_rfc4180(text)[1:])
+    assert all(row[0] == csv_format.CSV_VERSION for row in parse_rfc4180(text)[1:])
 
 
 def test_rows_are_ordered_bands_bases_tests_then_id():
     recs = make_records(200, seed=3)
-    checked = [R.check_record(r) for r in recs]
-    rows = parse_rfc4180(R.write_csv(checked))[1:]
-    keys = [(R.KINDS.index(r[2]), r[1]) for r in rows]
+    checked = [record.check_record(r) for r in recs]
+    rows = parse_rfc4180(csv_write.write_csv(checked))[1:]
+    keys = [(record.KINDS.index(r[2]), r[1]) for r in rows]
     assert keys == sorted(keys)
     shuffled = checked[:]
     random.Random(5).shuffle(shuffled)
-    assert R.write_csv(shuffled) == R.write_csv(checked)
+    assert csv_write.write_csv(shuffled) == csv_write.write_csv(checked)
 
 
 def test_bom_option():
@@ -119,8 +120,8 @@ OWASP_TRIGGERS = ("=", "+", "-", "@", "\t", "\r", "\n")
 @pytest.mark.parametrize("first", OWASP_TRIGGERS + ("'",))
 def test_trigger_text_is_prefixed_and_restored(first):
     s = first + "SUM(1+1)"
-    assert R.escape_text(s) == "'" + s
-    assert R.unescape_text(R.escape_text(s)) == s
+    assert csv_format.escape_text(s) == "'" + s
+    assert csv_format.unescape_text(csv_format.escape_text(s)) == s
 
 
 def test_escape_is_exact_for_every_string():
@@ -129,18 +130,18 @@ def test_escape_is_exact_for_every_string():
     samples = ["", "'", "''", "a'", " =x"] + ["".join(rng.choice(alphabet) for _ in range(rng.randint(0, 6)))
                                               for _ in range(3000)]
     for s in samples:
-        e = R.escape_text(s)
+        e = csv_format.escape_text(s)
         assert e != ""  # an empty cell always means "absent"
         assert e[0] not in OWASP_TRIGGERS
-        assert R.unescape_text(e) == s
+        assert csv_format.unescape_text(e) == s
 
 
 def test_no_text_cell_starts_with_a_trigger_in_the_file():
-    recs = [R.check_record(r) for r in make_records(500, seed=4)]
-    rows = parse_rfc4180(R.write_csv(recs))
+    recs = [record.check_record(r) for r in make_records(500, seed=4)]
+    rows = parse_rfc4180(csv_write.write_csv(recs))
     header = rows[0]
-    numeric = {i for i, h in enumerate(header) if "@" in h or h in R.META_NUM or h in R.TEST_NUM
-               or h in R.PLASTICITY_NUM or h.startswith("calc_d") or h in ("calc_cu", "calc_fines_pct", "rev")}
+    numeric = {i for i, h in enumerate(header) if "@" in h or h in record.META_NUM or h in record.TEST_NUM
+               or h in record.PLASTICITY_NUM or h.startswith("calc_d") or h in ("calc_cu", "calc_fines_pct", "rev")}
     seen_negative = False
     for row in rows[1:]:
         for i, cell in enumerate(row):
@@ -164,9 +165,9 @@ def test_numbers_round_trip_exactly_on_random_doubles():
         if not math.isfinite(x):
             continue
         n += 1
-        cell = R.fmt_num(x)
+        cell = csv_format.fmt_num(x)
         assert float(cell) == x and math.copysign(1.0, float(cell)) == math.copysign(1.0, x)
-        assert R._NUM_RE.fullmatch(cell), cell
+        assert csv_format._NUM_RE.fullmatch(cell), cell
 
 
 def test_integral_numbers_are_written_without_decimals_and_read_as_floats():
@@ -175,7 +176,7 @@ def test_integral_numbers_are_written_without_decimals_and_read_as_floats():
     assert "retained_g@10mm" in text and ",512," in text
     back = call("records_import_csv", csv=text, existing=[r])["result"]
     assert back["unchanged"] == [UID] and back["conflicts"] == []
-    assert back["records"][0] == R.check_record(r)  # the device's record is kept as it was
+    assert back["records"][0] == record.check_record(r)  # the device's record is kept as it was
     t = call("records_import_csv", csv=text, existing=[])["result"]["records"][0]["test"]
     assert t == {"sieves": [{"opening_mm": 10.0, "retained_g": 12.0}], "dry_mass_g": 512.0}
     assert isinstance(t["dry_mass_g"], float) and isinstance(t["sieves"][0]["opening_mm"], float)
@@ -188,7 +189,7 @@ def test_integral_numbers_are_written_without_decimals_and_read_as_floats():
     ("2026-12-01T09:30:00Z\n", False), ("２０２６-12-01T09:30:00Z", False),
 ])
 def test_times_are_iso8601_utc(value, ok):
-    assert R.is_iso_utc(value) is ok
+    assert record.is_iso_utc(value) is ok
 
 
 # ------------------------------------------------------------ the round trip
@@ -204,12 +205,12 @@ def test_round_trip_of_10000_invented_records_is_exact_and_stable():
     assert back["ok"], back.get("error")
     res = back["result"]
     assert res["rows"] == 10000 and len(res["added"]) == 10000 and not res["conflicts"]
-    expected = {r["record_id"]: R.check_record(copy.deepcopy(r)) for r in recs}
+    expected = {r["record_id"]: record.check_record(copy.deepcopy(r)) for r in recs}
     got = {r["record_id"]: r for r in res["records"]}
     assert got.keys() == expected.keys()
     for rid, e in expected.items():
         assert got[rid] == e, rid
-        assert R.content_key(got[rid]) == R.content_key(e)
+        assert record.content_key(got[rid]) == record.content_key(e)
     # The same records written again give the same bytes.
     again = call("records_export_csv", records=res["records"])["result"]["csv"]
     assert again == text
@@ -234,7 +235,7 @@ def test_device_local_keys_are_not_exported():
     text = call("records_export_csv", records=[r])["result"]["csv"]
     assert "_cached_result" not in text and "accept" not in text.split("\r\n")[0]
     assert call("records_import_csv", csv=text, existing=[])["result"]["records"][0] == \
-        R.check_record({k: v for k, v in r.items() if not k.startswith("_")})
+        record.check_record({k: v for k, v in r.items() if not k.startswith("_")})
 
 
 # ------------------------------------------------------------ calc columns
@@ -300,10 +301,10 @@ def test_text_with_the_replacement_character_is_refused_where_it_enters():
                                                            st.booleans(), st.none()), max_size=3))
 def test_any_text_and_any_finite_number_round_trip(notes, by, station, offset, mass, extra):
     meta = {"notes": notes, "station": station, "offset_m": offset, **{f"x_{k}": v for k, v in extra.items()}}
-    r = R.check_record(rec(updated_by=by, meta=meta,
+    r = record.check_record(rec(updated_by=by, meta=meta,
                            test={"sieves": [{"opening_mm": 4.75, "retained_g": mass}], "dry_mass_g": 100.0}))
-    text = R.write_csv([r])
-    (back,), _ = R.read_csv(text)
+    text = csv_write.write_csv([r])
+    (back,), _ = csv_read.read_csv(text)
     assert back == r
-    assert R.write_csv([back]) == text
+    assert csv_write.write_csv([back]) == text
     assert math.copysign(1.0, back["test"]["sieves"][0]["retained_g"]) == math.copysign(1.0, mass)

@@ -22,7 +22,9 @@ from datetime import datetime
 
 import pytest
 
-from tamis import api, records as R
+from tamis import api
+from tamis.exchange import csv_read, csv_write, merge, record
+from tamis.errors import InputError
 from test_records import UID, UID2, parse_rfc4180, rec
 from test_records_import import edit, good_file, reject
 
@@ -44,7 +46,7 @@ def test_every_day_of_every_month_is_judged_as_the_calendar_does(year):
     for mo in months:
         for d in days:
             text = f"{year}-{mo}-{d}T12:30:45Z"
-            assert R.is_iso_utc(text) is _real(year, mo, d, 12, 30, 45), text
+            assert record.is_iso_utc(text) is _real(year, mo, d, 12, 30, 45), text
 
 
 @pytest.mark.parametrize("clock", ["00:00:00", "23:59:59", "24:00:00", "23:60:00", "23:59:60", "29:00:00",
@@ -54,7 +56,7 @@ def test_times_of_day_are_judged_as_the_calendar_does(clock):
         text = f"{date}T{clock}Z"
         y, mo, d = date.split("-")
         h, mi, s = clock[:8].split(":")
-        assert R.is_iso_utc(text) is _real(y, mo, d, h, mi, s), text
+        assert record.is_iso_utc(text) is _real(y, mo, d, h, mi, s), text
 
 
 # ------------------------------------------------------------ rows refused at the same cell
@@ -82,7 +84,7 @@ def test_a_leap_day_is_read_and_an_impossible_day_refused():
     ([7], "not_an_object", ("history[0]",)),
 ])
 def test_history_faults_are_refused_in_the_history_column(history, code, words):
-    text = edit(good_file(), 3, "history_json", R.dump_json(history))
+    text = edit(good_file(), 3, "history_json", record.dump_json(history))
     reject(text, "csv.row[3].history_json", code, "Row 3, column history_json", *words)
 
 
@@ -122,14 +124,14 @@ def reference_union(*histories):
 
 
 def spelled(hist):
-    return R.dump_json(hist)
+    return record.dump_json(hist)
 
 
 def test_an_older_revisions_history_is_the_start_of_the_newer_one():
     newer = [entry(1, "2026-12-01T09:00:00Z"), entry(2, "2026-12-02T09:00:00Z"), entry(3, "2026-12-03T09:00:00Z")]
     older = json.loads(json.dumps(newer[:2]))  # another file's copy: equal, not the same objects
     for args in ((newer, older), (older, newer), (older, newer, older[:1]), (newer,)):
-        got = R.merge_history(*args)
+        got = merge.merge_history(*args)
         assert spelled(got) == spelled(newer) and got is not newer
 
 
@@ -137,14 +139,14 @@ def test_a_history_spelled_otherwise_is_united_by_content():
     newer = [entry(1, "2026-12-01T09:00:00Z", weight=12.0), entry(2, "2026-12-02T09:00:00Z")]
     older = [entry(1, "2026-12-01T09:00:00Z", weight=12)]  # 12 and 12.0: one entry; "12.0}" < "12}"
     for args in ((newer, older), (older, newer)):
-        got = R.merge_history(*args)
+        got = merge.merge_history(*args)
         assert len(got) == 2 and type(got[0]["weight"]) is float
     assert spelled(got) == spelled(reference_union(newer, older))
 
 
 def test_a_history_that_is_not_in_order_is_sorted_and_deduplicated():
     a, b = entry(1, "2026-12-01T09:00:00Z"), entry(2, "2026-12-02T09:00:00Z")
-    got = R.merge_history([b, a, b], [a])
+    got = merge.merge_history([b, a, b], [a])
     assert spelled(got) == spelled([a, b])
 
 
@@ -168,18 +170,18 @@ def test_random_histories_give_the_reference_union():
             hists.append(h)
         if rng.random() < 0.5 and hists[0]:  # a prefix of the first, as an older revision holds it
             hists.append(json.loads(json.dumps(hists[0][:rng.randint(0, len(hists[0]))])))
-        assert spelled(R.merge_history(*hists)) == spelled(reference_union(*hists)), hists
+        assert spelled(merge.merge_history(*hists)) == spelled(reference_union(*hists)), hists
 
 
 def test_merge_keeps_the_newer_revision_with_its_whole_history():
-    v1 = R.check_record(rec())
-    v2 = R.check_record(rec(rev=2, updated_at="2026-12-02T09:30:00Z",
+    v1 = record.check_record(rec())
+    v2 = record.check_record(rec(rev=2, updated_at="2026-12-02T09:30:00Z",
                             history=v1["history"] + [entry(2, "2026-12-02T09:30:00Z")]))
-    band = R.check_record(rec(record_id=UID2, kind="band", test=None, band={"name": "F1"}))
-    files = [R.write_csv([v1, band]), R.write_csv([v2]), R.write_csv([v1, v2, band][1:])]
+    band = record.check_record(rec(record_id=UID2, kind="band", test=None, band={"name": "F1"}))
+    files = [csv_write.write_csv([v1, band]), csv_write.write_csv([v2]), csv_write.write_csv([v1, v2, band][1:])]
     out = json.loads(api.handle(json.dumps({"schema": 1, "op": "records_merge", "id": 1, "files": files})))
     assert out["ok"] and out["result"]["conflicts"] == []
-    back = R.read_csv(out["result"]["csv"])[0]
+    back = csv_read.read_csv(out["result"]["csv"])[0]
     mine = next(r for r in back if r["record_id"] == UID)
     assert mine["rev"] == 2 and spelled(mine["history"]) == spelled(v2["history"])
 
@@ -199,25 +201,25 @@ def test_of_two_bad_numbers_the_first_in_reading_order_is_named():
 
 @pytest.mark.parametrize("cells", [["1", "2"], ["+1.", ".5e-3"], ["0", "-0.0"], ["12", "7E2"]])
 def test_numbers_read_in_bulk_are_those_float_reads(cells):
-    r = R.check_record(rec())
-    text = R.write_csv([r])
+    r = record.check_record(rec())
+    text = csv_write.write_csv([r])
     for col, v in zip(("retained_g@9.5mm", "retained_g@4.75mm"), cells):
         text = edit(text, 2, col, v)
-    (back,), _ = R.read_csv(text)
+    (back,), _ = csv_read.read_csv(text)
     assert [s["retained_g"] for s in back["test"]["sieves"]] == [float(c) for c in cells]
 
 
 def test_a_header_with_sieves_finest_first_gives_the_same_record():
-    r = R.check_record(rec(test={"sieves": [{"opening_mm": o, "retained_g": float(i)} for i, o in
+    r = record.check_record(rec(test={"sieves": [{"opening_mm": o, "retained_g": float(i)} for i, o in
                                             enumerate((37.5, 19.0, 9.5, 4.75, 0.075))], "pan_g": 1.0}))
-    rows = parse_rfc4180(R.write_csv([r]))
+    rows = parse_rfc4180(csv_write.write_csv([r]))
     sieve_cols = [i for i, c in enumerate(rows[0]) if c.startswith("retained_g@")]
     order = list(range(len(rows[0])))
     order[sieve_cols[0]:sieve_cols[-1] + 1] = reversed(sieve_cols)
-    text = "\r\n".join(",".join(R._quote(row[i]) for i in order) for row in rows) + "\r\n"
-    (back,), _ = R.read_csv(text)
-    (canonical,), _ = R.read_csv(R.write_csv([r]))
-    assert R.dump_json(back) == R.dump_json(canonical) and back == r
+    text = "\r\n".join(",".join(csv_write._quote(row[i]) for i in order) for row in rows) + "\r\n"
+    (back,), _ = csv_read.read_csv(text)
+    (canonical,), _ = csv_read.read_csv(csv_write.write_csv([r]))
+    assert record.dump_json(back) == record.dump_json(canonical) and back == r
     assert [s["opening_mm"] for s in back["test"]["sieves"]] == [37.5, 19.0, 9.5, 4.75, 0.075]
 
 
@@ -227,29 +229,29 @@ def _with_calc(text: str, verdict: str) -> str:
     rows = parse_rfc4180(text)
     for row in rows[1:]:
         row[rows[0].index("calc_verdict")] = verdict
-    return "\r\n".join(",".join(R._quote(c) for c in r) for r in rows) + "\r\n"
+    return "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows) + "\r\n"
 
 
 def test_read_files_gives_what_each_file_gives_alone():
-    a = R.check_record(rec(meta={"sample_id": "S-1", "notes": "a\ufffe b"}))
-    b = R.check_record(rec(record_id=UID2, test={"sieves": [{"opening_mm": 0.075, "retained_g": 2.0}]}))
-    band = R.check_record(rec(record_id="0" * 8 + "-0000-4000-8000-" + "0" * 12, kind="band", test=None,
+    a = record.check_record(rec(meta={"sample_id": "S-1", "notes": "a\ufffe b"}))
+    b = record.check_record(rec(record_id=UID2, test={"sieves": [{"opening_mm": 0.075, "retained_g": 2.0}]}))
+    band = record.check_record(rec(record_id="0" * 8 + "-0000-4000-8000-" + "0" * 12, kind="band", test=None,
                               band={"name": "F1", "limits": [{"opening_mm": 4.75, "min_pct": 95.0,
                                                               "max_pct": None}]}))
-    files = [_with_calc(R.write_csv([a, b]), "accept"), _with_calc(R.write_csv([b, band]), "reject"),
-             R.write_csv([a, band])]  # other headers (other sieve columns), other calc cells
-    together = R.read_files(files)
-    alone = [R.read_csv(t)[0] for t in files]
+    files = [_with_calc(csv_write.write_csv([a, b]), "accept"), _with_calc(csv_write.write_csv([b, band]), "reject"),
+             csv_write.write_csv([a, band])]  # other headers (other sieve columns), other calc cells
+    together = csv_read.read_files(files)
+    alone = [csv_read.read_csv(t)[0] for t in files]
     memo = {}  # the stored calc cells of each row are those of its own file, memo or not
-    assert [R.read_csv(t, memo=memo)[1] for t in files] == [R.read_csv(t)[1] for t in files]
-    assert [row["calc"].get("calc_verdict") for t in files for row in R.read_csv(t, memo=memo)[1]] == \
+    assert [csv_read.read_csv(t, memo=memo)[1] for t in files] == [csv_read.read_csv(t)[1] for t in files]
+    assert [row["calc"].get("calc_verdict") for t in files for row in csv_read.read_csv(t, memo=memo)[1]] == \
         ["accept", "accept", "reject", "reject", None, None]
-    assert [[R.dump_json(r) for r in f] for f in together] == [[R.dump_json(r) for r in f] for f in alone]
+    assert [[record.dump_json(r) for r in f] for f in together] == [[record.dump_json(r) for r in f] for f in alone]
     # copies of a row are one object, which the merge then takes as one version
     found = [{r["record_id"]: r for r in f} for f in together]
     assert found[0][b["record_id"]] is found[1][b["record_id"]] and found[0][UID] is found[2][UID]
     assert found[1][band["record_id"]] is found[2][band["record_id"]]
-    merged, conflicts = R.merge_all(together)
+    merged, conflicts = merge.merge_all(together)
     assert conflicts == [] and [r["record_id"] for r in merged] == sorted([a["record_id"], b["record_id"],
                                                                           band["record_id"]],
                                                                          key=lambda i: (i != band["record_id"], i))
@@ -262,20 +264,20 @@ def test_read_files_gives_what_each_file_gives_alone():
     ({"sample_id": "'=1"}, {"sample_id": "=1"}),                    # the escape quote is part of the text
 ])
 def test_rows_that_differ_in_any_cell_are_never_taken_for_each_other(left, right):
-    ra, rb = (R.check_record(rec(rev=2, meta=m, history=[])) for m in (left, right))
-    files = [R.write_csv([ra]), R.write_csv([rb])]
-    got = R.read_files(files)
+    ra, rb = (record.check_record(rec(rev=2, meta=m, history=[])) for m in (left, right))
+    files = [csv_write.write_csv([ra]), csv_write.write_csv([rb])]
+    got = csv_read.read_files(files)
     assert got[0][0]["meta"] == left and got[1][0]["meta"] == right
-    merged, conflicts = R.merge_all(got)
+    merged, conflicts = merge.merge_all(got)
     assert len(conflicts) == 1  # same id and rev, other content: a conflict, never one silently kept
 
 
 def test_an_error_in_a_later_file_names_that_file():
-    good = R.write_csv([R.check_record(rec())])
+    good = csv_write.write_csv([record.check_record(rec())])
     bad = edit(good, 2, "rev", "two")
-    with pytest.raises(R.InputError) as exc:
-        R.read_files([good, good, bad])
+    with pytest.raises(InputError) as exc:
+        csv_read.read_files([good, good, bad])
     assert exc.value.field == "files[2].row[2].rev"
-    with pytest.raises(R.InputError) as exc:
-        R.read_files([good, bad], ["phone-a.csv", "phone-b.csv"])
+    with pytest.raises(InputError) as exc:
+        csv_read.read_files([good, bad], ["phone-a.csv", "phone-b.csv"])
     assert exc.value.field == "phone-b.csv.row[2].rev"

@@ -181,9 +181,10 @@ def demo_variants(n: int, seed: int, spread: float, missing_band_every: int = 0)
     ``1 +/- spread``; every ``missing_band_every``-th test (0: none) names a band that
     is not among ``refs``, so it gets no verdict."""
     import copy
-    from tamis import demo, records as R
+    from tamis import demo
+    from tamis.exchange import record
     rng = random.Random(seed)
-    pool = [R.check_record(r) for r in demo.load_records()]
+    pool = [record.check_record(r) for r in demo.load_records()]
     refs = [r for r in pool if r["kind"] != "test"]
     tests = [r for r in pool if r["kind"] == "test"]
     out = []

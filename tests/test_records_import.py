@@ -17,7 +17,8 @@ import json
 
 import pytest
 
-from tamis import api, records as R
+from tamis import api
+from tamis.exchange import csv_read, csv_write, record
 from tamis.errors import InputError
 from test_records import UID, UID2, parse_rfc4180, rec
 
@@ -29,15 +30,15 @@ def call(op, **fields):
 def good_file() -> str:
     band = rec(record_id=UID2, kind="band", test=None,
                band={"name": "F1", "limits": [{"opening_mm": 9.5, "min_pct": 100.0, "max_pct": 100.0}]})
-    return R.write_csv([R.check_record(rec(meta={"sample_id": "S-1", "notes": "two\nlines"})),
-                        R.check_record(band)])
+    return csv_write.write_csv([record.check_record(rec(meta={"sample_id": "S-1", "notes": "two\nlines"})),
+                        record.check_record(band)])
 
 
 def edit(text: str, row: int, column: str, value: str) -> str:
     """Set one cell (spreadsheet numbering) and write the file back with the codec's quoting."""
     rows = parse_rfc4180(text)
     rows[row - 1][rows[0].index(column)] = value
-    return "\r\n".join(",".join(R._quote(c) for c in r) for r in rows) + "\r\n"
+    return "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows) + "\r\n"
 
 
 def reject(text: str, field: str, code: str, *words):
@@ -79,7 +80,7 @@ def test_bare_sieve_label_as_a_column_is_refused():
 def test_missing_required_column():
     rows = parse_rfc4180(good_file())
     i = rows[0].index("rev")
-    text = "\r\n".join(",".join(R._quote(c) for j, c in enumerate(r) if j != i) for r in rows) + "\r\n"
+    text = "\r\n".join(",".join(csv_write._quote(c) for j, c in enumerate(r) if j != i) for r in rows) + "\r\n"
     reject(text, "csv.row[1].rev", "missing_column")
 
 
@@ -134,13 +135,13 @@ def test_duplicated_id_with_different_content():
     rows = parse_rfc4180(good_file())
     twin = rows[2][:]
     twin[rows[0].index("updated_by")] = "CD"
-    text = "\r\n".join(",".join(R._quote(c) for c in r) for r in rows + [twin]) + "\r\n"
+    text = "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows + [twin]) + "\r\n"
     reject(text, "csv.row[4].record_id", "duplicate_id", "row 3")
 
 
 def test_duplicated_id_with_the_same_content_is_read_once():
     rows = parse_rfc4180(good_file())
-    text = "\r\n".join(",".join(R._quote(c) for c in r) for r in rows + [rows[2]]) + "\r\n"
+    text = "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows + [rows[2]]) + "\r\n"
     out = call("records_import_csv", csv=text, existing=[])
     assert out["ok"] and len(out["result"]["records"]) == 2
 
@@ -170,12 +171,12 @@ def test_wrong_encoding_seen_by_the_app_as_replacement_characters():
 def test_wrong_encoding_bytes_are_refused_with_their_row():
     data = good_file().replace("S-1", "Séché").encode("latin-1")
     with pytest.raises(InputError) as exc:
-        R.decode_csv_bytes(data)
+        csv_read.decode_csv_bytes(data)
     assert exc.value.field == "csv.row[3]" and "0xe9" in exc.value.message
     with pytest.raises(InputError) as exc:
-        R.decode_csv_bytes(good_file().encode("utf-16"))
+        csv_read.decode_csv_bytes(good_file().encode("utf-16"))
     assert exc.value.code == "not_utf8" and "UTF-16" in exc.value.message
-    assert R.decode_csv_bytes(good_file().encode("utf-8-sig")).lstrip("\ufeff") == good_file()
+    assert csv_read.decode_csv_bytes(good_file().encode("utf-8-sig")).lstrip("\ufeff") == good_file()
 
 
 def test_empty_file():
@@ -195,8 +196,8 @@ def test_error_in_an_existing_record_names_it():
 
 def test_a_bad_row_late_in_a_long_file_rejects_the_whole_file():
     from test_records_gen import make_records
-    recs = [R.check_record(r) for r in make_records(400, seed=12)]
-    text = R.write_csv(recs)
+    recs = [record.check_record(r) for r in make_records(400, seed=12)]
+    text = csv_write.write_csv(recs)
     rows = parse_rfc4180(text)
     bad = edit(text, 399, "rev", "x")
     err = reject(bad, "csv.row[399].rev", "bad_rev")

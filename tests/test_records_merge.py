@@ -15,7 +15,8 @@ import itertools
 import json
 import random
 
-from tamis import api, records as R
+from tamis import api
+from tamis.exchange import csv_read, csv_write, merge, record
 from test_records import UID, UID2, parse_rfc4180, rec
 
 UID3 = "2d9a9e5a-3f4c-4ea0-9c73-4b5d6e7f8091"
@@ -42,7 +43,7 @@ def edited(prev: dict, at: str, by: str, mass: float, **kw) -> dict:
     return new
 
 
-V1 = R.check_record(rec())
+V1 = record.check_record(rec())
 V2 = edited(V1, "2026-12-02T08:00:00Z", "AB", 12.6)          # the phone's edit of V1
 V2_OTHER = edited(V1, "2026-12-02T10:00:00Z", "CD", 11.9)    # another device's edit of V1
 V3 = edited(V2, "2026-12-03T08:00:00Z", "EF", 12.7)          # the office's edit of V2
@@ -124,10 +125,10 @@ def test_a_newer_tombstone_wins():
 
 
 def test_merge_keeps_every_record_once_and_reports_conflicts():
-    band = R.check_record(rec(record_id=UID2, kind="band", test=None,
+    band = record.check_record(rec(record_id=UID2, kind="band", test=None,
                               band={"name": "F1", "limits": [{"opening_mm": 9.5, "min_pct": 90.0,
                                                               "max_pct": 100.0}]}))
-    other = R.check_record(rec(record_id=UID3, meta={"sample_id": "S-3"}))
+    other = record.check_record(rec(record_id=UID3, meta={"sample_id": "S-3"}))
     res = call("records_merge", files=[csv_of(V1, band), csv_of(V2, other), csv_of(V3), csv_of(band)])
     got = call("records_import_csv", csv=res["csv"], existing=[])["records"]
     assert res["count"] == 3 and res["conflicts"] == []
@@ -146,7 +147,7 @@ def test_merge_with_a_conflict_keeps_the_highest_and_lists_the_other():
 
 
 def test_merge_output_does_not_depend_on_file_order():
-    band = R.check_record(rec(record_id=UID2, kind="band", test=None,
+    band = record.check_record(rec(record_id=UID2, kind="band", test=None,
                               band={"name": "F1", "limits": [{"opening_mm": 9.5, "min_pct": 90.0,
                                                               "max_pct": 100.0}]}))
     files = [csv_of(V1, band), csv_of(V2), csv_of(V3_FORK), csv_of(V2_OTHER, dict(band, exported_at=None))]
@@ -159,8 +160,8 @@ def test_merge_output_does_not_depend_on_file_order():
 def test_merge_order_independence_on_many_random_versions():
     from test_records_gen import make_records
     rng = random.Random(77)
-    base = [R.check_record(r) for r in make_records(60, seed=21) if r["kind"] == "test" and r["test"]
-            and "sieves" in r["test"] and len(r["test"]["sieves"]) > 1 and R._pairs_cells(r["test"]["sieves"],
+    base = [record.check_record(r) for r in make_records(60, seed=21) if r["kind"] == "test" and r["test"]
+            and "sieves" in r["test"] and len(r["test"]["sieves"]) > 1 and csv_write._pairs_cells(r["test"]["sieves"],
                                                                                          "retained_g")
             is not None]
     versions = []
@@ -190,23 +191,23 @@ def test_field_to_office_to_another_device():
     """A test typed on phone A, edited, exported; merged in the office with phone B's
     file; imported on device C: it arrives intact with its history, once, and the
     office report gives the verdict phone A showed."""
-    from tamis import office
-    band = R.check_record(rec(record_id=UID2, kind="band", test=None, updated_by="QA",
+    from tamis.exchange import office
+    band = record.check_record(rec(record_id=UID2, kind="band", test=None, updated_by="QA",
                               band={"name": "Filter F1 (invented)",
                                     "limits": [{"opening_mm": 9.5, "min_pct": 100.0, "max_pct": 100.0},
                                                {"opening_mm": 4.75, "min_pct": 0.0, "max_pct": 30.0}]}))
-    phone_a = edited(R.check_record(rec(meta={"sample_id": "S-0001", "band_id": UID2})),
+    phone_a = edited(record.check_record(rec(meta={"sample_id": "S-0001", "band_id": UID2})),
                      "2026-12-01T10:00:00Z", "AB", 12.6)
     shown_on_phone = call("evaluate", sample=phone_a["test"], band=band["band"])["verdict"]
     file_a = csv_of(phone_a, band)
-    file_b = csv_of(R.check_record(rec(record_id=UID3, meta={"sample_id": "S-0002"})), band)
+    file_b = csv_of(record.check_record(rec(record_id=UID3, meta={"sample_id": "S-0002"})), band)
     office_file = call("records_merge", files=[file_b, file_a])
     assert office_file["conflicts"] == []
     device_c = call("records_import_csv", csv=office_file["csv"], existing=[])
     got = [r for r in device_c["records"] if r["record_id"] == UID]
     assert len(got) == 1 and got[0] == phone_a and len(got[0]["history"]) == 2
     assert len(device_c["records"]) == 3
-    recs, rows = R.read_csv(office_file["csv"])
+    recs, rows = csv_read.read_csv(office_file["csv"])
     line = next(e for e in office.report_rows(recs, rows) if e["record_id"] == UID)
     assert line["verdict"] == shown_on_phone and line["stored_verdict"] == shown_on_phone
     assert not line["differs"]
@@ -225,7 +226,7 @@ def test_a_resolved_conflict_supersedes_both_versions_everywhere():
     marks = {(h["rev"], h["at"], h["by"]) for h in done["history"]}
     assert {(2, V2["updated_at"], "AB"), (2, V2_OTHER["updated_at"], "CD"),
             (3, "2026-12-05T07:00:00Z", "AB")} <= marks
-    assert R.descends(done, V2) and R.descends(done, V2_OTHER)
+    assert merge.descends(done, V2) and merge.descends(done, V2_OTHER)
     # The same file again: nothing to decide any more.
     again = call("records_import_csv", csv=file_text, existing=[done])
     assert again["conflicts"] == [] and again["unchanged"] == [UID]

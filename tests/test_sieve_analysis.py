@@ -19,10 +19,10 @@ from decimal import Decimal
 import pytest
 
 from conftest import EXAMPLE_29, mass_test
-from tamis import sieve_test
+from tamis.lab import sieve_analysis as sieve_test
 from tamis.errors import InputError
-from tamis.evaluation import reduce_test
-from tamis.findings import FAIL, NEEDS_DATA, PASS, WARN
+from tamis.lab.reduction import reduce_test
+from tamis.checks import FAIL, NEEDS_DATA, PASS, WARN
 
 # W2: (opening mm, retained g), pan 20.8 g, total 499.6 g; printed % passing.
 W2 = [(4.75, 4.2), (2.0, 58.4), (0.85, 105.8), (0.425, 111.9), (0.25, 88.3), (0.106, 94.4), (0.075, 15.8)]

@@ -9,7 +9,7 @@ significant figures, so they are compared exactly as the printed numbers.
 
 import pytest
 
-from tamis import sieves
+from tamis.lab import sieves
 from tamis.errors import InputError
 
 # (designation, opening mm) as printed in the ASTM E11 table (from memory except

@@ -1,6 +1,6 @@
-"""The calc columns of the CSV exchange (tamis.summaries) against the JSON boundary.
+"""The calc columns of the CSV exchange (tamis.exchange.summaries) against the JSON boundary.
 
-The summaries call the core directly (tamis.evaluation.evaluate_reduced, with
+The summaries call the core directly (tamis.project.evaluate.evaluate_reduced, with
 each band parsed and each base soil reduced once per file). They must say
 exactly what the app's path says: the ``evaluate`` and ``gradation`` ops
 through ``tamis.api.handle``. :func:`json_summary` below is that path, written
@@ -22,7 +22,10 @@ import sys
 
 import pytest
 
-from tamis import api, demo, evaluation, records as R, summaries as S
+from tamis import api, demo
+from tamis.lab import reduction
+from tamis.exchange import summaries as S
+from tamis.exchange import csv_write, record
 from test_records_gen import make_records
 
 
@@ -105,7 +108,7 @@ def _id(i: int) -> str:
 
 
 def demo_records() -> list[dict]:
-    return [R.check_record(r) for r in demo.load_records()]
+    return [record.check_record(r) for r in demo.load_records()]
 
 
 def varied_records(n: int = 300, seed: int = 11) -> list[dict]:
@@ -124,7 +127,7 @@ def varied_records(n: int = 300, seed: int = 11) -> list[dict]:
         r = copy.deepcopy(src)
         r["record_id"] = _id(i)
         r.update(changes)
-        refs.append(R.check_record(r))
+        refs.append(record.check_record(r))
         return r["record_id"]
 
     bad_band = copy.deepcopy(bands[0]["band"])
@@ -173,7 +176,7 @@ def varied_records(n: int = 300, seed: int = 11) -> list[dict]:
             t["test"]["sieves"][1]["retained_g"] = -4.0    # refused: negative mass
         elif roll < 0.13:
             t["kind"] = "base"
-        out.append(R.check_record(t))
+        out.append(record.check_record(t))
     return refs + out
 
 
@@ -200,7 +203,7 @@ def test_varied_records_give_the_json_paths_summaries():
 
 def test_generated_records_give_the_json_paths_summaries():
     """The codec's invented records: mostly odd or refused tests, references between them."""
-    recs = [R.check_record(r) for r in make_records(300, seed=4)]
+    recs = [record.check_record(r) for r in make_records(300, seed=4)]
     assert_same_as_json_path(recs[150:], context=recs[:150])
 
 
@@ -256,7 +259,7 @@ def test_an_unexpected_error_gives_the_internal_error_note_of_the_api(monkeypatc
     the note is the one the JSON boundary gives, for a test and for a base soil."""
     recs = demo_records()
     index = {r["record_id"]: r for r in recs}
-    real = evaluation.parse_test
+    real = reduction.parse_test
     base_id = recs[9]["meta"]["base_id"]
     marker = index[base_id]["test"]["passing"][0]["opening_mm"]
 
@@ -265,7 +268,7 @@ def test_an_unexpected_error_gives_the_internal_error_note_of_the_api(monkeypatc
             raise ZeroDivisionError("made to fail")
         return real(test_obj, path)
 
-    monkeypatch.setattr(evaluation, "parse_test", broken)
+    monkeypatch.setattr(reduction, "parse_test", broken)
     cells = assert_same_as_json_path(recs)
     want = ("not computed: test: tamis could not compute this request (ZeroDivisionError: made to fail). "
             "Please report it with the input.")
@@ -278,13 +281,13 @@ def test_an_unexpected_error_gives_the_internal_error_note_of_the_api(monkeypatc
 def test_no_nan_or_infinity_reaches_a_summary(monkeypatch):
     """The JSON boundary writes null for a non-finite number; so do the summaries."""
     recs = demo_records()
-    real = evaluation.gradation_of
+    real = reduction.gradation_of
 
     def with_nan(curve, props, path="test.sieves"):
         g, f = real(curve, props, path)
         return {**g, "cu": float("nan"), "d_mm": {**g["d_mm"], "D10": float("inf")}}, f
 
-    monkeypatch.setattr(evaluation, "gradation_of", with_nan)
+    monkeypatch.setattr(reduction, "gradation_of", with_nan)
     cells = assert_same_as_json_path(recs)
     index = {r["record_id"]: r for r in recs}
     s = S.compute_summary(recs[9], index)
@@ -307,7 +310,7 @@ def test_progress_counts_up_to_the_total():
 
 
 def test_progress_lines_are_rate_limited_and_end_with_the_total():
-    from tamis.office import Progress
+    from tamis.exchange.office import Progress
 
     class Out:
         def __init__(self):
@@ -347,7 +350,7 @@ def many_tests_csv(tmp_path, n: int = 2_100):
         t["record_id"] = _id(10_000 + i)
         recs.append(t)
     path = tmp_path / "many.csv"
-    path.write_bytes(R.write_csv(refs + recs).encode("utf-8"))
+    path.write_bytes(csv_write.write_csv(refs + recs).encode("utf-8"))
     return path, len(refs) + n
 
 

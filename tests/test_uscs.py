@@ -11,9 +11,9 @@ Each threshold is tested on its value and just beside it.
 
 import pytest
 
-from tamis.classify import Plasticity, a_line_pi, above_u_line, classify, classify_coarse, classify_fine, \
+from tamis.lab.uscs import Plasticity, a_line_pi, above_u_line, classify, classify_coarse, classify_fine, \
     fines_class
-from tamis.curve import make_curve
+from tamis.lab.curve import make_curve
 
 NP = Plasticity(nonplastic=True)
 CLAY = Plasticity(liquid_limit=40.0, plasticity_index=20.0)  # CL: above the A-line (14.6)

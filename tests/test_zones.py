@@ -7,7 +7,7 @@ coarse for the filter sand, so the middle interface fails retention.
 Rules: NRCS NEH 633-26 (October 1994) categories, D15F max (cat 2: 0.7 mm;
 cat 4: 4 x d85B) and D15F min (4 x d15B, 0.1 mm), FROM MEMORY. The
 intermediate-zone window is DERIVED from the same rules (see
-``tamis.zones.intermediate_window``). Expected numbers below are computed
+``tamis.project.zones.intermediate_window``). Expected numbers below are computed
 independently with numpy (log-linear interpolation), not by the code under test.
 """
 

@@ -30,7 +30,7 @@ import math
 
 from . import __version__
 from .errors import InputError
-from .findings import Finding
+from .checks import Finding
 
 SCHEMA = 1
 
@@ -38,15 +38,15 @@ SCHEMA = 1
 #: returns ``(result_dict, findings_list)``; modules are imported on first use.
 OPS: dict[str, str] = {
     "version": "tamis.api:op_version",
-    "gradation": "tamis.evaluation:op_gradation",
-    "evaluate": "tamis.evaluation:op_evaluate",
-    "zones": "tamis.zones:op_zones",
-    "design_band": "tamis.zones:op_design_band",
-    "sieve_presets": "tamis.sieves:op_presets",
-    "band_presets": "tamis.bands:op_presets",
-    "records_export_csv": "tamis.records:op_export_csv",
-    "records_import_csv": "tamis.records:op_import_csv",
-    "records_merge": "tamis.records:op_merge",
+    "gradation": "tamis.lab.reduction:op_gradation",
+    "evaluate": "tamis.project.evaluate:op_evaluate",
+    "zones": "tamis.project.zones:op_zones",
+    "design_band": "tamis.project.design_band:op_design_band",
+    "sieve_presets": "tamis.lab.sieves:op_presets",
+    "band_presets": "tamis.lab.bands:op_presets",
+    "records_export_csv": "tamis.exchange.ops:op_export_csv",
+    "records_import_csv": "tamis.exchange.ops:op_import_csv",
+    "records_merge": "tamis.exchange.ops:op_merge",
 }
 
 

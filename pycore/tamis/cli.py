@@ -6,7 +6,7 @@ request from a file or standard input, pass it through :func:`tamis.api.handle`
 with ``--table``. They exit with status 2 when the input is invalid.
 
 Office commands (``merge``, ``report``, ``check``) work on the CSV exchange
-files (:mod:`tamis.office`); ``demo`` prints a tour of the demo project.
+files (:mod:`tamis.exchange.office`); ``demo`` prints a tour of the demo project.
 """
 
 from __future__ import annotations
@@ -28,9 +28,9 @@ JSON_COMMANDS = {
 
 #: command -> ("module", "help"); each module has ``add_arguments(parser)`` and ``run(args) -> int``.
 OTHER_COMMANDS = {
-    "merge": ("tamis.office", "merge CSV exchange files from several devices into one"),
-    "report": ("tamis.office", "recompute every verdict in a CSV file and print a summary"),
-    "check": ("tamis.office", "validate a CSV exchange file without writing anything"),
+    "merge": ("tamis.exchange.office", "merge CSV exchange files from several devices into one"),
+    "report": ("tamis.exchange.office", "recompute every verdict in a CSV file and print a summary"),
+    "check": ("tamis.exchange.office", "validate a CSV exchange file without writing anything"),
     "demo": ("tamis.demo", "a short tour of the demo project"),
 }
 
@@ -65,7 +65,7 @@ def build_request(command: str, text: str) -> str:
 def _run_json(command: str, args) -> int:
     response = api.handle(build_request(command, _read(args.file)))
     if args.table:
-        from .tables import render
+        from .cli_text import render
         print(render(command, json.loads(response)))
     else:
         print(response if args.compact else json.dumps(json.loads(response), indent=2))

@@ -20,11 +20,11 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field, replace
 
-from ..curve import size_at
-from ..findings import FAIL, Finding
+from ..lab.curve import size_at
+from ..checks import FAIL, Finding
 from .base import analyse_base, base_info
 from .material import material_checks, material_limits
-from .pairs import permeability_check, retention_check
+from .against_base import permeability_check, retention_check
 from .permeability import hazen_estimate, kozeny_carman_estimate, ratio_estimate
 from .rules import parse_rules
 from .stability import stability_checks

@@ -7,9 +7,9 @@ Sources per rule set are in the registry (``filter.retention`` and
 
 from __future__ import annotations
 
-from ..findings import FAIL, NEEDS_DATA, PASS, WARN, Check, compare
+from ..checks import FAIL, NEEDS_DATA, PASS, WARN, Check, compare
 from .base import BaseAnalysis
-from .checks import make_check
+from ..registry import make_check
 from .nrcs import d15f_max_mm, d15f_min_mm
 from .terzaghi import terzaghi_d15f_max_mm, terzaghi_d15f_min_mm
 

@@ -10,13 +10,17 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from ..classify import decided_pct
-from ..curve import Curve, passing_at, regrade, size_at
-from ..findings import Finding
+from ..lab.uscs import decided_pct
+from ..lab.curve import Curve, passing_at, regrade, size_at
+from ..checks import Finding
+from ..lab.reduction import gradation_of
 from .nrcs import base_category
 from .tables import CATEGORY_EDGES_PCT, NO_200_MM
 
 _FULL_PCT = 100.0 - 1e-9
+#: The soil properties of a base whose plasticity was not given (as :func:`tamis.lab.reduction.parse_props`
+#: returns them for a test without ``plasticity``).
+_NO_PROPS = {"nonplastic": None, "liquid_limit": None, "plasticity_index": None, "dispersive": None}
 
 
 def category_a_pct(curve: Curve, on_mm: float | None) -> float | None:
@@ -135,7 +139,6 @@ def base_info(b: BaseAnalysis | None, props: dict | None = None) -> dict:
         return {"base_category": None, "a_pct": None, "base_regraded": None}
     rg = None
     if b.regraded:
-        from ..evaluation import gradation_of  # the one gradation builder of the core
         rg, _ = gradation_of(b.retention_curve, props or _NO_PROPS, "base")
         rg = {**rg, "regraded_on_mm": b.regrade_on_mm, "correction_factor": b.correction_factor}
     return {"base_category": b.category, "a_pct": b.a_pct, "base_regraded": rg}

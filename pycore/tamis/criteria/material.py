@@ -8,9 +8,9 @@ memory. Thresholds in :mod:`tamis.criteria.tables`.
 
 from __future__ import annotations
 
-from ..curve import Curve, passing_at, size_at
-from ..findings import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, Check
-from .checks import limit_check, make_check
+from ..lab.curve import Curve, passing_at, size_at
+from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, Check
+from ..registry import limit_check, make_check
 from .tables import MATERIAL, NO_200_MM, SEGREGATION_ROWS, segregation_d90_max_mm
 
 

@@ -16,9 +16,9 @@ from __future__ import annotations
 
 import math
 
-from ..curve import Curve, coefficient_of_uniformity, exp, ln, size_at
-from ..findings import NOT_APPLICABLE, Check, Finding
-from .checks import make_check
+from ..lab.curve import Curve, coefficient_of_uniformity, exp, ln, size_at
+from ..checks import NOT_APPLICABLE, Check, Finding
+from ..registry import make_check
 
 #: Hazen validity (from memory): loose clean sands, D10 0.1-3 mm, Cu < 5.
 HAZEN_VALIDITY = {"d10_min_mm": 0.1, "d10_max_mm": 3.0, "cu_max": 5.0}

@@ -16,9 +16,9 @@ Istomina (1957).
 
 from __future__ import annotations
 
-from ..curve import Curve, coefficient_of_uniformity, exp, ln, ln_and_ln4, passing_at, size_at
-from ..findings import FAIL, NEEDS_DATA, PASS, WARN, Check, Finding
-from .checks import make_check
+from ..lab.curve import Curve, coefficient_of_uniformity, exp, ln, ln_and_ln4, passing_at, size_at
+from ..checks import FAIL, NEEDS_DATA, PASS, WARN, Check, Finding
+from ..registry import make_check
 
 KEZDI_LIMIT = 4.0                      # D'15 coarse / d'85 fine
 KL_F_MAX_WIDE_PCT = 20.0               # widely graded, Cu > 3

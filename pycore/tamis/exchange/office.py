@@ -28,10 +28,14 @@ import os
 import sys
 import time
 
-from . import SCREENING_NOTICE, __version__
-from . import records as R
+from .. import SCREENING_NOTICE, __version__
 from . import summaries as S
-from .errors import InputError
+from .csv_format import CSV_VERSION
+from .csv_read import decode_csv_bytes, read_csv
+from .csv_write import write_csv
+from .merge import merge_all
+from .record import KINDS, acyclic_work
+from ..errors import InputError
 
 EXIT_OK, EXIT_FLAGGED, EXIT_BAD_INPUT = 0, 1, 2
 
@@ -166,7 +170,7 @@ def read_file(path: str, memo: dict | None = None) -> tuple[list[dict], list[dic
     :func:`tamis.records.read_csv` (kept across the files of one merge)."""
     with open(path, "rb") as fh:
         data = fh.read()
-    return R.read_csv(R.decode_csv_bytes(data), memo=memo)
+    return read_csv(decode_csv_bytes(data), memo=memo)
 
 
 def describe_error(path: str, err: InputError) -> str:
@@ -199,9 +203,9 @@ def _check(args) -> int:
     if isinstance(loaded, int):
         return loaded
     recs, rows = loaded
-    counts = {k: sum(1 for r in recs if r["kind"] == k) for k in R.KINDS}
+    counts = {k: sum(1 for r in recs if r["kind"] == k) for k in KINDS}
     deleted = sum(1 for r in recs if r["deleted"])
-    print(f"{args.file}: valid tamis CSV version {R.CSV_VERSION}, {len(recs)} records "
+    print(f"{args.file}: valid tamis CSV version {CSV_VERSION}, {len(recs)} records "
           f"({counts['test']} tests, {counts['band']} bands, {counts['base']} base soils; {deleted} deleted).")
     return EXIT_OK
 
@@ -209,18 +213,18 @@ def _check(args) -> int:
 def _merge(args) -> int:
     lists, memo = [], {}
     reading = Progress("read", "files", min_total=PROGRESS_MIN_FILES)
-    with R.acyclic_work():  # one pause over all files and the merge: the collector would walk every record
+    with acyclic_work():  # one pause over all files and the merge: the collector would walk every record
         for i, path in enumerate(args.files, 1):
             loaded = _load(path, memo)
             if isinstance(loaded, int):
                 return loaded
             lists.append(loaded[0])
             reading(i, len(args.files))
-        merged, conflicts = R.merge_all(lists)
+        merged, conflicts = merge_all(lists)
         gc.freeze()  # the records live to the end of the command: the collector need never walk them again
-    # R.export_csv(merged), with the progress of the calc columns shown
+    # ops.export_csv(merged), with the progress of the calc columns shown
     calc = None if args.no_calc else calc_cells(merged, args.jobs, Progress("calc columns", "records"))
-    text = R.write_csv(merged, calc, bom=args.bom)
+    text = write_csv(merged, calc, bom=args.bom)
     if args.output == "-":
         sys.stdout.buffer.write(text.encode("utf-8"))
         sys.stdout.buffer.flush()

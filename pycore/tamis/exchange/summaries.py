@@ -16,11 +16,13 @@ from __future__ import annotations
 
 import math
 
-from . import __version__
-from .bands import parse_band
-from .errors import InputError
-from .evaluation import evaluate_reduced, reduce_test
-from .records import _is_num, escape_text, fmt_num
+from .. import __version__
+from ..lab.bands import parse_band
+from ..errors import InputError
+from ..lab.reduction import reduce_test
+from ..project.evaluate import evaluate_reduced
+from .csv_format import escape_text, fmt_num
+from .record import _is_num
 
 #: ``progress(done, total)`` is called after every this many records (and after the last).
 PROGRESS_STEP = 100

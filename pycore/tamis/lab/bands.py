@@ -19,8 +19,8 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from .curve import Curve, fineness_modulus, passing_at, same_size
-from .errors import InputError, join, number, require_list, require_mapping, text
-from .findings import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, compare
+from ..errors import InputError, join, number, require_list, require_mapping, text
+from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, compare
 from .sieves import label_for, resolve_opening
 
 SRC_USER_BAND = "project specification band (entered by the user)"

@@ -26,7 +26,7 @@ from bisect import bisect_right
 from dataclasses import dataclass
 from functools import cached_property
 
-from .errors import InputError, join
+from ..errors import InputError, join
 
 #: Relative tolerance for treating two openings as the same sieve.
 SAME_SIEVE_RTOL = 1e-6

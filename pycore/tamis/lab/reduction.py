@@ -1,9 +1,9 @@
-"""A test reduced to its gradation, and the ``gradation`` and ``evaluate`` ops.
+"""A test reduced to its gradation, and the ``gradation`` op.
 
 :func:`reduce_test` is the one place a test becomes a :class:`Reduced`: the
 curve, the gradation dict of the JSON contract, the soil properties, the lab
-QA checks and the findings. The criteria package, the zone sequences and the
-records all start from it.
+QA checks and the findings. The criteria, the ``evaluate`` op, the zone
+sequences and the exchange's calc columns all start from it.
 
 Nothing is rounded here: every number is carried at full precision and only
 the display rounds.
@@ -13,14 +13,13 @@ from __future__ import annotations
 
 from dataclasses import dataclass, field
 
-from . import SCREENING_NOTICE
-from .bands import band_checks, parse_band
-from .classify import Plasticity, classify
+from .. import SCREENING_NOTICE
+from ..checks import Finding, verdict
+from ..errors import InputError, boolean, join, number, require_mapping
 from .curve import STANDARD_D_PCTS, Curve, coefficient_of_curvature, coefficient_of_uniformity, d_values, \
     fineness_modulus, fractions
-from .errors import InputError, boolean, join, number, require_mapping
-from .findings import Check, Finding, verdict
-from .sieve_test import parse_test
+from .sieve_analysis import parse_test
+from .uscs import Plasticity, classify
 
 
 @dataclass(frozen=True)
@@ -29,7 +28,7 @@ class Reduced:
 
     Attributes
     ----------
-    curve : tamis.curve.Curve
+    curve : tamis.lab.curve.Curve
     gradation : dict
         The "A gradation (output)" dict of the JSON contract (``points``,
         ``d_mm``, ``cu``, ``cc``, ``gravel_pct``, ``sand_pct``, ``fines_pct``,
@@ -116,7 +115,7 @@ def gradation_of(curve: Curve, props: dict, path: str = "test.sieves") -> tuple[
 
 
 def reduce_test(test_obj: dict, path: str) -> Reduced:
-    """Parse and reduce one test dict (DESIGN.md "A test (input)").
+    """Parse and reduce one test dict (``docs/json-contract.md``, "A test (input)").
 
     Raises :class:`tamis.errors.InputError` with a field path under ``path``.
     """
@@ -127,7 +126,8 @@ def reduce_test(test_obj: dict, path: str) -> Reduced:
                    [r.to_dict() for r in st.rows], None if st.masses is None else st.masses.to_dict(), st.form)
 
 
-def _require(req: dict, key: str):
+def require_field(req: dict, key: str):
+    """``req[key]``, which the op needs; an error naming ``key`` when it is missing or null."""
     if req.get(key) is None:
         raise InputError("missing_field", f"{key} is required.", key)
     return req[key]
@@ -136,97 +136,8 @@ def _require(req: dict, key: str):
 def op_gradation(req: dict):
     """API op ``gradation``: ``{"test": {...}}`` -> the gradation dict plus
     ``checks`` (lab QA), ``table``, ``mass`` and ``form``."""
-    red = reduce_test(_require(req, "test"), "test")
+    red = reduce_test(require_field(req, "test"), "test")
     result = dict(red.gradation)
     result.update(checks=[c.to_dict() for c in red.checks], table=red.table, mass=red.mass, form=red.form,
                   props=red.props, verdict=verdict(red.checks), notice=SCREENING_NOTICE)
     return result, red.findings
-
-
-def _tag(checks, subject: str) -> list[Check]:
-    """Copies of ``checks`` with ``extra.subject`` set. As ``dataclasses.replace``
-    (the same fields, through ``__init__``), without its per-call field scan:
-    this runs for every check of every evaluation."""
-    return [type(c)(**{**c.__dict__, "extra": {**c.extra, "subject": subject}}) for c in checks]
-
-
-@dataclass(frozen=True)
-class Evaluation:
-    """What :func:`evaluate_reduced` finds: everything the ``evaluate`` op returns, unserialised.
-
-    Attributes
-    ----------
-    sample, base : Reduced, Reduced or None
-        As given (never modified).
-    band : tamis.bands.Band or None
-        As given.
-    checks : list of Check
-        Lab QA of the sample (subject ``sample``), of the base (subject
-        ``base``), the band checks (subject ``sample``), then the filter criteria.
-    findings : list of Finding
-    outcome : tamis.criteria.FilterOutcome
-    verdict : str
-        ``accept`` / ``reject`` / ``review`` of ``checks``.
-    """
-
-    sample: Reduced
-    base: Reduced | None
-    band: object
-    checks: list
-    findings: list
-    outcome: object
-    verdict: str
-
-
-def evaluate_reduced(sample: Reduced, base: Reduced | None = None, band=None, rules: dict | None = None) -> Evaluation:
-    """The ``evaluate`` op after parsing: a reduced sample, optionally a reduced base
-    soil and a parsed band (:func:`tamis.bands.parse_band`), and the ``rules``
-    dict (or None) -> :class:`Evaluation`.
-
-    The op calls it, and so do the calc columns of the CSV exchange
-    (:mod:`tamis.summaries`) with a base and a band parsed once per file:
-    ``sample``, ``base`` and ``band`` are only read, never modified, so they
-    may be shared between calls. Raises :class:`~tamis.errors.InputError` for
-    bad ``rules`` (field path under ``rules``).
-    """
-    from . import criteria  # written in parallel; imported late so a broken criteria module names itself
-    checks = _tag(sample.checks, "sample")
-    findings = list(sample.findings)
-    if base is not None:
-        checks += _tag(base.checks, "base")
-        findings += base.findings
-    if band is not None:
-        checks += _tag(band_checks(band, sample.curve), "sample")
-    outcome = criteria.run_filter_checks(sample, base, rules, "rules")
-    checks += list(outcome.checks)
-    findings += list(outcome.findings)
-    return Evaluation(sample, base, band, checks, findings, outcome, verdict(checks))
-
-
-def op_evaluate(req: dict):
-    """API op ``evaluate``: a sample, optionally its base soil, band and rules ->
-    QA, band and filter checks and one verdict (parsed here, judged by
-    :func:`evaluate_reduced`)."""
-    sample = reduce_test(_require(req, "sample"), "sample")
-    base = None if req.get("base") is None else reduce_test(req["base"], "base")
-    rules = req.get("rules")
-    if rules is not None:
-        require_mapping(rules, "rules")
-    band = None if req.get("band") is None else parse_band(req["band"], "band")
-    ev = evaluate_reduced(sample, base, band, rules)
-    outcome = ev.outcome
-    info = outcome.base_info or {}
-    result = {
-        "sample": sample.gradation,
-        "base": None if base is None else base.gradation,
-        "base_category": info.get("base_category"),
-        "base_regraded": info.get("base_regraded"),
-        "a_pct": info.get("a_pct"),
-        "limits": dict(outcome.limits),
-        "band": None if band is None else band.name,
-        "rules": dict(outcome.rules_used),
-        "checks": [c.to_dict() for c in ev.checks],
-        "verdict": ev.verdict,
-        "notice": SCREENING_NOTICE,
-    }
-    return result, ev.findings

@@ -32,8 +32,8 @@ from dataclasses import dataclass
 from decimal import Context, Decimal
 
 from .curve import GRAVEL_SAND_MM, SAND_FINES_MM, Curve, make_curve, same_size
-from .errors import InputError, boolean, join, number, require_list, require_mapping, text
-from .findings import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding, compare
+from ..errors import InputError, boolean, join, number, require_list, require_mapping, text
+from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding, compare
 from .sieves import label_for, resolve_opening
 
 #: Relative size of float rounding noise in summed masses [-]: a cumulative mass

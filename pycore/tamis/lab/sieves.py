@@ -24,7 +24,7 @@ import re
 from bisect import bisect_right
 
 from .curve import same_size
-from .errors import InputError, join, number
+from ..errors import InputError, join, number
 
 #: ASTM E11: (opening_mm, alternative designation). Coarsest first.
 ASTM_E11: tuple[tuple[float, str], ...] = (

@@ -1,0 +1,74 @@
+"""The layout of the CSV exchange file: its columns, its cell spelling of numbers and texts.
+
+``docs/csv.md`` describes the format; :mod:`~tamis.exchange.csv_write` writes
+it and :mod:`~tamis.exchange.csv_read` reads it, both from the names here.
+
+Numbers in the typed columns are finite floats: a JSON number ``12`` is read
+back as ``12.0``, the same number (JSON and JavaScript do not tell them apart).
+Everything else round-trips exactly.
+
+References
+----------
+- RFC 4180 (IETF, Oct 2005), section 2: CRLF line ends, optional header,
+  fields with comma, quote or line break enclosed in double quotes, an
+  embedded quote doubled.
+- OWASP, "CSV Injection" (www-community attack page, 2025 revision): cells
+  that start with ``=``, ``+``, ``-``, ``@``, tab, carriage return or line
+  feed are read as formulas by spreadsheets; prefix them with a single quote.
+"""
+
+from __future__ import annotations
+
+import re
+
+from .record import META_NUM, PLASTICITY_NUM, TEST_NUM
+
+#: Version of the CSV layout, written in the first column of every row.
+CSV_VERSION = "1"
+MARKER = "tamis_csv"
+
+FIXED_COLUMNS = (MARKER, "record_id", "kind", "rev", "updated_at", "updated_by", "deleted", "exported_at")
+META_COLUMNS = ("sample_id", "project", "material", "zone", "source", "sampling_point", "station",
+                "offset_m", "elevation_m", "latitude", "longitude", "lift", "sampled_at", "tested_by",
+                "notes", "band_id", "base_id", "retest_of", "rules_json", "meta_extra_json")
+TEST_HEAD = TEST_NUM
+TEST_TAIL = ("nonplastic", "liquid_limit", "plasticity_index", "dispersive", "test_extra_json")
+CALC_COLUMNS = ("calc_d10_mm", "calc_d15_mm", "calc_d60_mm", "calc_d85_mm", "calc_cu", "calc_fines_pct",
+                "calc_verdict", "calc_failing_checks", "calc_note", "calc_core_version")
+REQUIRED_COLUMNS = FIXED_COLUMNS + ("history_json",)
+
+#: Families of columns that carry one opening [mm] in their name.
+FAMILIES = ("retained_g", "passing_pct", "band_min_pct", "band_max_pct")
+_FAMILY_RE = re.compile(r"(retained_g|passing_pct|band_min_pct|band_max_pct)@([0-9.eE+-]+)mm", re.ASCII)
+
+_CALC_SET = frozenset(CALC_COLUMNS)
+_STATIC_COLUMNS = frozenset(FIXED_COLUMNS + META_COLUMNS + TEST_HEAD + TEST_TAIL + CALC_COLUMNS
+                            + ("band_name", "band_extra_json", "history_json"))
+
+#: First characters that make a spreadsheet read a cell as a formula (OWASP),
+#: plus the escape character itself so that every text round-trips exactly.
+TRIGGERS = frozenset("=+-@\t\r\n'")
+
+_NUM_RE = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?", re.ASCII)  # used with fullmatch
+#: Several numbers of :data:`_NUM_RE` joined by U+FFFD (which no cell of a file read can hold).
+_NUMS_RE = re.compile(r"(?:[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)"
+                      r"(?:\ufffd[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)*", re.ASCII)
+
+
+def fmt_num(v) -> str:
+    """Shortest text that reads back as the same float (``repr``, without a trailing ``.0``)."""
+    r = repr(v if type(v) is float else float(v))
+    return r[:-2] if r.endswith(".0") else r
+
+
+def escape_text(s: str) -> str:
+    """Neutralise a text cell: prefix ``'`` when it is empty or starts with a formula
+    trigger or with ``'`` itself (OWASP CSV injection guidance). :func:`unescape_text`
+    undoes it exactly."""
+    if not s or s[0] in TRIGGERS:
+        return "'" + s
+    return s
+
+
+def unescape_text(cell: str) -> str:
+    return cell[1:] if cell[:1] == "'" else cell

@@ -1,0 +1,240 @@
+"""Writing the CSV exchange file: :func:`write_csv` (records -> text).
+
+One header, one row per record, CRLF line ends, rows by kind then record id;
+the computed ``calc_*`` columns are written for people and ignored on reading
+(:mod:`~tamis.exchange.csv_read` recomputes, never trusts them). The layout is
+in :mod:`tamis.exchange.csv_format`.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+
+from .csv_format import CALC_COLUMNS, CSV_VERSION, FAMILIES, FIXED_COLUMNS, MARKER, META_COLUMNS, TEST_HEAD, \
+    TEST_TAIL, TRIGGERS, escape_text, fmt_num
+from .record import META_NUM, META_TEXT, PLASTICITY_NUM, TEST_NUM, _is_num, acyclic_work, dump_json, row_order
+
+_META_TEXT_SET, _META_NUM_SET, _TEST_NUM_SET = frozenset(META_TEXT), frozenset(META_NUM), frozenset(TEST_NUM)
+
+
+def _falling_fit(v, entry_fits) -> bool:
+    """A non-empty list of dicts that ``entry_fits`` accepts, openings strictly falling."""
+    if not isinstance(v, list) or not v:
+        return False
+    last = math.inf
+    for e in v:
+        if not isinstance(e, dict) or not _is_num(e.get("opening_mm")) or not entry_fits(e):
+            return False
+        op = float(e["opening_mm"])
+        if not (0 < op < last):
+            return False
+        last = op
+    return True
+
+
+def _limit_fits(e: dict) -> bool:
+    if set(e) != {"opening_mm", "min_pct", "max_pct"}:
+        return False
+    lo, hi = e["min_pct"], e["max_pct"]
+    return (lo is not None or hi is not None) and (lo is None or _is_num(lo)) and (hi is None or _is_num(hi))
+
+
+def _limits_fit(v) -> bool:
+    """``[{"opening_mm", "min_pct", "max_pct"}, ...]``, a limit a number or null, coarsest first."""
+    return _falling_fit(v, _limit_fits)
+
+
+def _plasticity_fit(v) -> bool:
+    if not isinstance(v, dict) or not v:
+        return False
+    for k, x in v.items():
+        if k == "nonplastic":
+            if not isinstance(x, bool):
+                return False
+        elif k in PLASTICITY_NUM:
+            if not _is_num(x):
+                return False
+        else:
+            return False
+    return True
+
+
+def _bool_cell(b: bool) -> str:
+    return "true" if b else "false"
+
+
+def record_cells(rec: dict) -> dict:
+    """The non-blank cells of a checked record's row (calc columns excluded)."""
+    c = {MARKER: CSV_VERSION, "record_id": escape_text(rec["record_id"]), "kind": rec["kind"],
+         "rev": str(rec["rev"]), "updated_at": rec["updated_at"], "updated_by": escape_text(rec["updated_by"]),
+         "deleted": _bool_cell(rec["deleted"]), "history_json": escape_text(dump_json(rec["history"]))}
+    if rec["exported_at"] is not None:
+        c["exported_at"] = rec["exported_at"]
+    extra = {}
+    for k, v in rec["meta"].items():
+        if k in _META_TEXT_SET and isinstance(v, str):
+            c[k] = "'" + v if not v or v[0] in TRIGGERS else v  # escape_text, inlined
+        elif k in _META_NUM_SET and _is_num(v):
+            c[k] = fmt_num(v)
+        elif k == "rules" and isinstance(v, dict):
+            c["rules_json"] = escape_text(dump_json(v))
+        else:
+            extra[k] = v
+    if extra:
+        c["meta_extra_json"] = escape_text(dump_json(extra))
+    if rec["test"] is not None:
+        _group_cells(rec["test"], _test_cell, c, "test_extra_json")
+    if rec["band"] is not None:
+        _group_cells(rec["band"], _band_cell, c, "band_extra_json")
+    return c
+
+
+def _group_cells(obj: dict, put, c: dict, extra_col: str) -> None:
+    """Write the keys of ``obj`` that ``put`` can hold in columns; the others, and an
+    empty object, go verbatim into the JSON column ``extra_col``."""
+    extra, wrote = {}, False
+    for k, v in obj.items():
+        if put(k, v, c):
+            wrote = True
+        else:
+            extra[k] = v
+    if extra or not wrote:
+        c[extra_col] = escape_text(dump_json(extra))
+
+
+def _test_cell(k: str, v, c: dict) -> bool:
+    """Put test key ``k`` into its columns if they hold it exactly; False if not."""
+    if k in _TEST_NUM_SET and _is_num(v):
+        c[k] = fmt_num(v)
+    elif k in ("sieves", "passing"):
+        got = _pairs_cells(v, "retained_g" if k == "sieves" else "passing_pct")
+        if got is None:
+            return False
+        c.update(got)
+    elif k == "plasticity" and _plasticity_fit(v):
+        for pk, x in v.items():
+            c[pk] = _bool_cell(x) if pk == "nonplastic" else fmt_num(x)
+    elif k == "dispersive" and isinstance(v, bool):
+        c["dispersive"] = _bool_cell(v)
+    else:
+        return False
+    return True
+
+
+#: (family, opening_mm) -> column name, filled as columns are written (bounded: openings come from files).
+_COLUMN_NAMES: dict = {}
+
+
+def _column_name(family: str, opening_mm: float) -> str:
+    name = _COLUMN_NAMES.get((family, opening_mm))
+    if name is None:
+        name = f"{family}@{fmt_num(opening_mm)}mm"
+        if len(_COLUMN_NAMES) < 4096:
+            _COLUMN_NAMES[(family, opening_mm)] = name
+    return name
+
+
+def _pairs_cells(v, val: str):
+    """The cells of ``[{"opening_mm", val}, ...]`` when the columns hold it exactly
+    (a non-empty list of such pairs of numbers, openings strictly falling), else None."""
+    if not isinstance(v, list) or not v:
+        return None
+    out, last, names = {}, math.inf, _COLUMN_NAMES
+    for e in v:
+        if not isinstance(e, dict) or len(e) != 2:
+            return None
+        op, x = e.get("opening_mm"), e.get(val)
+        if not (_is_num(op) and _is_num(x)):
+            return None
+        op = float(op)
+        if not (0 < op < last):
+            return None
+        last = op
+        r = repr(x if type(x) is float else float(x))  # fmt_num, inlined
+        out[names.get((val, op)) or _column_name(val, op)] = r[:-2] if r[-2:] == ".0" else r
+    return out
+
+
+def _band_cell(k: str, v, c: dict) -> bool:
+    """Put band key ``k`` into its columns if they hold it exactly; False if not."""
+    if k == "name" and isinstance(v, str):
+        c["band_name"] = escape_text(v)
+    elif k == "limits" and _limits_fit(v):
+        for e in v:
+            o = fmt_num(e["opening_mm"])
+            if e["min_pct"] is not None:
+                c[f"band_min_pct@{o}mm"] = fmt_num(e["min_pct"])
+            if e["max_pct"] is not None:
+                c[f"band_max_pct@{o}mm"] = fmt_num(e["max_pct"])
+    else:
+        return False
+    return True
+
+
+def header_for(cell_dicts) -> list[str]:
+    """The header for a set of rows: every static column, and the opening columns
+    that some row uses, coarsest first."""
+    openings = {f: set() for f in FAMILIES}
+    used = set()
+    for c in cell_dicts:
+        used.update(c)  # each column name once, whatever the number of rows
+    for col in used:
+        if "@" in col:
+            fam, _, rest = col.partition("@")
+            openings[fam].add(float(rest[:-2]))
+    band_ops = sorted(openings["band_min_pct"] | openings["band_max_pct"], reverse=True)
+    cols = list(FIXED_COLUMNS) + list(META_COLUMNS) + list(TEST_HEAD)
+    cols += [f"retained_g@{fmt_num(o)}mm" for o in sorted(openings["retained_g"], reverse=True)]
+    cols += [f"passing_pct@{fmt_num(o)}mm" for o in sorted(openings["passing_pct"], reverse=True)]
+    cols += list(TEST_TAIL) + ["band_name"]
+    for o in band_ops:
+        cols += [f"band_min_pct@{fmt_num(o)}mm", f"band_max_pct@{fmt_num(o)}mm"]
+    cols += ["band_extra_json"] + list(CALC_COLUMNS) + ["history_json"]
+    return cols
+
+
+_NEEDS_QUOTES = re.compile('[,"\r\n]')
+#: Columns whose cells this module writes without a comma, quote or line break: the CSV
+#: version, a UUID, a kind, a whole number, ISO times, true/false, and numbers (``fmt_num``;
+#: the opening columns, whose names hold ``@``, too).
+_PLAIN_COLUMNS = frozenset((MARKER, "record_id", "kind", "rev", "updated_at", "deleted", "exported_at")
+                           + META_NUM + TEST_NUM + PLASTICITY_NUM + ("nonplastic", "dispersive")
+                           + ("calc_d10_mm", "calc_d15_mm", "calc_d60_mm", "calc_d85_mm", "calc_cu",
+                              "calc_fines_pct"))
+
+
+def _quote(cell: str) -> str:
+    if _NEEDS_QUOTES.search(cell):
+        return '"' + cell.replace('"', '""') + '"'
+    return cell
+
+
+def write_csv(records, summaries=None, *, bom: bool = False) -> str:
+    """CSV text of checked records: one header, one row per record, CRLF line ends,
+    rows in :func:`row_order`. ``summaries`` maps record id -> calc cells."""
+    with acyclic_work():
+        return _write_rows(records, summaries, bom)
+
+
+def _write_rows(records, summaries, bom: bool) -> str:
+    recs = sorted(records, key=row_order)
+    cells = [record_cells(r) for r in recs]
+    if summaries:
+        for r, c in zip(recs, cells):
+            c.update(summaries.get(r["record_id"], {}))
+    header = header_for(cells)
+    pos = {h: i for i, h in enumerate(header)}
+    lines = [",".join(_quote(h) for h in header)]
+    blank = [""] * len(header)
+    quotes = _NEEDS_QUOTES.search
+    plain = {h for h in header if h in _PLAIN_COLUMNS or "@" in h}  # cells that never need quotes
+    for c in cells:
+        row = blank[:]
+        for col, v in c.items():
+            row[pos[col]] = v if col in plain or not quotes(v) else '"' + v.replace('"', '""') + '"'
+        lines.append(",".join(row))
+    if bom:
+        lines[0] = "\ufeff" + lines[0]
+    lines.append("")  # the last row ends with CRLF too
+    return "\r\n".join(lines)
