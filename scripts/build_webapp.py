@@ -52,73 +52,13 @@ NOT_PRECACHED = {"sw.js", "vendor/manifest.json", "vendor/build.js"}
 SKIP_SUFFIXES = (".map", "~", ".swp", ".orig")
 SKIP_NAMES = {".DS_Store", "Thumbs.db", ".gitkeep"}
 
-# Compiles every stdlib module to an unchecked-hash .pyc next to its .py, inside
-# Pyodide itself so the bytecode magic matches the runtime's CPython. The stock
-# zip ships .py only, so every boot would compile ~200 modules (measured on the
-# build machine: offline boot 4.7 s with the stock zip, 1.1 s with this one).
-# Arguments: pyodide dir, output zip.
-PYC_STDLIB_MJS = r"""
-import { pathToFileURL } from "node:url";
-import { writeFileSync } from "node:fs";
-const [dir, out] = process.argv.slice(2);
-const { loadPyodide } = await import(pathToFileURL(dir + "/pyodide.mjs").href);
-const py = await loadPyodide({ indexURL: dir + "/" });
-py.runPython(`
-import zipfile, importlib.util, importlib._bootstrap_external as be, sys
-name = '/lib/python%d%d.zip' % sys.version_info[:2]
-src = zipfile.ZipFile(name)
-with zipfile.ZipFile('/home/pyodide/stdlib-pyc.zip', 'w', zipfile.ZIP_DEFLATED, compresslevel=9) as out:
-    for info in src.infolist():
-        data = src.read(info)
-        out.writestr(info, data)
-        if info.filename.endswith('.py'):
-            code = compile(data, name + '/' + info.filename, 'exec', dont_inherit=True)
-            zi = zipfile.ZipInfo(info.filename + 'c', info.date_time)
-            zi.compress_type = zipfile.ZIP_DEFLATED
-            out.writestr(zi, be._code_to_hash_pyc(code, importlib.util.source_hash(data), checked=False))
-`);
-writeFileSync(out, py.FS.readFile("/home/pyodide/stdlib-pyc.zip"));
-"""
+#: Adds .pyc files to the stdlib zip and to the tamis wheel, inside Pyodide (see scripts/pyodide_bytecode.py).
+BYTECODE_MJS = ROOT / "scripts" / "pyodide_bytecode.mjs"
 
-# Adds unchecked-hash .pyc files (tamis/__pycache__/*.cpython-314.pyc) to the
-# tamis wheel, compiled by Pyodide itself, and lists them in the wheel's RECORD.
-# Importing the core from bytecode instead of source saves most of its import
-# time at every boot (docs/webapp.md). Arguments: pyodide dir, wheel in, wheel out.
-PYC_WHEEL_MJS = r"""
-import { pathToFileURL } from "node:url";
-import { readFileSync, writeFileSync } from "node:fs";
-const [dir, src, out] = process.argv.slice(2);
-const { loadPyodide } = await import(pathToFileURL(dir + "/pyodide.mjs").href);
-const py = await loadPyodide({ indexURL: dir + "/" });
-py.FS.writeFile("/home/pyodide/in.whl", new Uint8Array(readFileSync(src)));
-py.runPython(`
-import base64, hashlib, importlib.util, importlib._bootstrap_external as be, zipfile
-def digest(data):
-    return 'sha256=' + base64.urlsafe_b64encode(hashlib.sha256(data).digest()).rstrip(b'=').decode()
-with zipfile.ZipFile('/home/pyodide/in.whl') as zin, zipfile.ZipFile('/home/pyodide/out.whl', 'w', zipfile.ZIP_DEFLATED) as zout:
-    record_name = next(n for n in zin.namelist() if n.endswith('.dist-info/RECORD'))
-    added = []
-    for info in zin.infolist():
-        if info.filename == record_name:
-            continue
-        data = zin.read(info)
-        zout.writestr(info, data)
-        if info.filename.endswith('.py'):
-            code = compile(data, '/lib/python3/site-packages/' + info.filename, 'exec', dont_inherit=True)
-            pyc = be._code_to_hash_pyc(code, importlib.util.source_hash(data), checked=False)
-            name = importlib.util.cache_from_source(info.filename)
-            zi = zipfile.ZipInfo(name, info.date_time)
-            zi.compress_type = zipfile.ZIP_DEFLATED
-            zout.writestr(zi, pyc)
-            added.append('%s,%s,%d' % (name, digest(pyc), len(pyc)))
-    record = zin.read(record_name).decode().rstrip('\\n').split('\\n')
-    record = record[:-1] + added + record[-1:]
-    zi = zipfile.ZipInfo(record_name, zin.getinfo(record_name).date_time)
-    zi.compress_type = zipfile.ZIP_DEFLATED
-    zout.writestr(zi, '\\n'.join(record) + '\\n')
-`);
-writeFileSync(out, py.FS.readFile("/home/pyodide/out.whl"));
-"""
+
+def bytecode_key() -> str:
+    """A short hash of the bytecode scripts: a change to them rebuilds what they made."""
+    return sha256_bytes(b"".join(p.read_bytes() for p in (BYTECODE_MJS, BYTECODE_MJS.with_suffix(".py"))))[:12]
 
 
 class BuildError(Exception):
@@ -209,14 +149,15 @@ def npm_package_dir(name: str) -> Path:
 def stdlib_with_pyc(pyodide_dir: Path, version: str) -> Path:
     """The stdlib zip with .pyc added, cached per Pyodide version and stock zip hash."""
     stock = pyodide_dir / "python_stdlib.zip"
-    key = f"{version}-{sha256_file(stock)[:16]}"
+    key = f"{version}-{sha256_file(stock)[:16]}-{bytecode_key()}"
     out = CACHE / f"python_stdlib-pyc-{key}.zip"
     if out.is_file():
         return out
+    CACHE.mkdir(parents=True, exist_ok=True)
     tmp = out.with_name(out.name + ".tmp")
     log(f"precompiling the Pyodide {version} stdlib to .pyc (once per version, ~15 s)")
     t0 = time.monotonic()
-    run_node(PYC_STDLIB_MJS, "pyc_stdlib.mjs", [str(pyodide_dir), str(tmp)], "precompile the stdlib")
+    run_node([str(pyodide_dir), "stdlib", str(tmp)], "precompile the stdlib")
     os.replace(tmp, out)
     log(f"stdlib precompiled in {time.monotonic() - t0:.1f} s ({out.stat().st_size:,} bytes)")
     return out
@@ -284,27 +225,24 @@ def tamis_wheel() -> Path:
     return out_dir / found[0].name
 
 
-def run_node(script_text: str, name: str, args: list[str], what: str) -> None:
+def run_node(args: list[str], what: str) -> None:
+    """``node scripts/pyodide_bytecode.mjs ARGS``; ``what`` says what for, in an error."""
     node = shutil.which("node")
     if not node:
         raise BuildError(f"node is not on PATH; it is needed to {what}")
-    CACHE.mkdir(parents=True, exist_ok=True)
-    script = CACHE / name
-    script.write_text(script_text, encoding="utf-8")
-    proc = subprocess.run([node, str(script), *args], capture_output=True, text=True)
+    proc = subprocess.run([node, str(BYTECODE_MJS), *args], capture_output=True, text=True)
     if proc.returncode != 0:
         raise BuildError(f"could not {what}:\n" + (proc.stderr or proc.stdout)[-3000:])
 
 
 def wheel_with_bytecode(wheel: Path, pyodide_dir: Path, pyodide_version: str) -> Path:
     """The tamis wheel plus .pyc for Pyodide's CPython, cached by wheel hash and Pyodide version."""
-    out = wheel.parent / "pyodide" / pyodide_version / wheel.name
+    out = wheel.parent / "pyodide" / f"{pyodide_version}-{bytecode_key()}" / wheel.name
     if out.is_file():
         return out
     out.parent.mkdir(parents=True, exist_ok=True)
     tmp = out.with_name(out.name + ".tmp")
-    run_node(PYC_WHEEL_MJS, "pyc_wheel.mjs", [str(pyodide_dir), str(wheel), str(tmp)],
-             "compile the tamis wheel to Pyodide bytecode")
+    run_node([str(pyodide_dir), "wheel", str(wheel), str(tmp)], "compile the tamis wheel to Pyodide bytecode")
     os.replace(tmp, out)
     return out
 
