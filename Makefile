@@ -9,7 +9,7 @@ PORT   ?= 8765
 HOST   ?= 127.0.0.1
 export PIP_DISABLE_PIP_VERSION_CHECK := 1
 
-.PHONY: setup system build run test test-core test-pyodide test-e2e bench screenshots clean
+.PHONY: setup system build run test lint test-core test-pyodide test-e2e bench regenerate check-generated screenshots clean
 
 ## setup: Debian packages, the Python virtual environment and npm packages
 setup: system $(VENV)/.stamp node_modules/.stamp
@@ -35,8 +35,13 @@ build: setup
 run: build
 	$(PY) scripts/serve.py --host $(HOST) --port $(PORT)
 
-## test: everything: core on CPython, golden files in Pyodide, the app in chromium
-test: build test-core test-pyodide test-e2e
+## test: everything: the linter, core on CPython, golden files in Pyodide, the app in chromium
+test: lint build test-core test-pyodide test-e2e
+
+## lint: ruff (pinned in the test extra; rules in pyproject.toml) over every Python file we write
+LINTED := pycore tests e2e bench scripts demo_data
+lint: setup
+	$(PY) -m ruff check $(LINTED)
 
 test-core: setup
 	$(PY) -m pytest -q tests
@@ -46,6 +51,24 @@ test-pyodide: build
 
 test-e2e: build
 	$(PY) -m pytest -q -p no:cacheprovider e2e
+
+## regenerate: rewrite every generated file from the sources, in dependency order: golden
+## responses, the demo project (its CSV carries computed columns), docs/criteria.md.
+## Read the diff before committing it. Screenshots are apart: `make screenshots`.
+regenerate: setup
+	$(PY) tests/golden/regenerate.py
+	$(PY) demo_data/make_demo.py
+	$(PY) scripts/gen_criteria_docs.py
+
+## check-generated: write nothing; fail when a generated file is stale
+check-generated: setup
+	$(PY) tests/golden/regenerate.py --check
+	$(PY) demo_data/make_demo.py --check
+	$(PY) scripts/gen_criteria_docs.py --check
+
+## screenshots: docs/img/*.png from the built app in chromium (needs the build; pixels vary by platform)
+screenshots: build
+	$(PY) e2e/screenshots.py
 
 ## bench: performance figures (printed, never asserted)
 bench: build

@@ -20,7 +20,7 @@ import pytest
 from tamis import api
 from tamis.exchange import csv_read, csv_write, record
 from tamis.errors import InputError
-from test_records import UID, UID2, parse_rfc4180, rec
+from test_records import UID2, parse_rfc4180, rec
 
 
 def call(op, **fields):

@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import re
 
-from .record import META_NUM, PLASTICITY_NUM, TEST_NUM
+from .record import TEST_NUM
 
 #: Version of the CSV layout, written in the first column of every row.
 CSV_VERSION = "1"

@@ -16,16 +16,13 @@ engineer of record govern.
 
 from __future__ import annotations
 
-import math
 from dataclasses import replace
 
 from .. import SCREENING_NOTICE
 from ..criteria import run_filter_checks
-from ..criteria.base import analyse_base
-from ..criteria.against_base import permeability_limit, retention_limit
 from ..criteria.rules import parse_rules
-from ..criteria.tables import MATERIAL, NO_200_MM, RULE_SETS, segregation_d90_max_mm
-from ..lab.curve import exp, ln, make_curve, passing_at, size_at
+from ..criteria.tables import RULE_SETS
+from ..lab.curve import passing_at, size_at
 from ..errors import InputError, join, require_list, require_mapping, text
 from ..lab.reduction import reduce_test
 from ..checks import FAIL, Finding, verdict
