@@ -277,7 +277,7 @@ def masses_from_curve(stack_mm, passing_pct, dry_mass_g: float, loss_g: float, p
     Returns
     -------
     dict
-        A test in the DESIGN.md input form (``sieves``, ``pan_g``,
+        A test in the input form of docs/json-contract.md (``sieves``, ``pan_g``,
         ``dry_mass_g``, ``washed_dry_mass_g``).
     """
     sieves, above = [], 100.0

@@ -32,8 +32,7 @@ def mass_test(retained: dict, dry_mass_g: float, pan_g: float = 0.0, washed_dry_
     return t
 
 
-#: Constructed example of lab-methods.md §2.9 (constructed data, not from a
-#: published source): ASTM sieves 3/4 in .. No. 200, washed.
+#: A constructed example (not from a published source, worked by hand): ASTM sieves 3/4 in .. No. 200, washed.
 EXAMPLE_29 = mass_test({19.0: 0.0, 12.5: 45.2, 9.5: 60.1, 4.75: 180.3, 2.36: 210.4, 1.18: 230.6, 0.6: 250.2,
                         0.3: 240.5, 0.15: 160.3, 0.075: 55.8}, 1500.0, pan_g=5.1, washed_dry_mass_g=1440.0)
 

@@ -1,4 +1,4 @@
-"""The gradation and evaluate ops through tamis.api.handle (DESIGN.md JSON contract, schema 1)."""
+"""The gradation and evaluate ops through tamis.api.handle (docs/json-contract.md, schema 1)."""
 
 import json
 

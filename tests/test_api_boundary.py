@@ -1,4 +1,4 @@
-"""The JSON envelope of tamis.api.handle (DESIGN.md "The JSON contract", schema 1).
+"""The JSON envelope of tamis.api.handle (docs/json-contract.md, schema 1).
 
 These checks are about the boundary itself: every malformed request becomes
 ``ok: false`` with a code, a message and a field path, never a traceback; the

@@ -62,7 +62,7 @@ def test_c33_fine_aggregate_preset_and_its_extra_requirements():
     assert ids["band.compliance"].status == "pass"
     assert ids["band.fineness_modulus"].status == "pass"   # FM 2.80 within 2.3..3.1
     assert ids["band.between_sieves"].status == "pass"
-    # The coarse limit curve is inside Table 1 but its FM 3.45 is above 3.1 (lab-methods.md §4.1).
+    # The coarse limit curve is inside Table 1 but its FM 3.45 is above 3.1 (derived by us from the C33 limits).
     coarse = curve(*[(x.opening_mm, x.min_pct) for x in b.limits])
     ids = {c.id: c for c in bands.band_checks(b, coarse)}
     assert ids["band.compliance"].status == "pass" and ids["band.fineness_modulus"].status == "fail"

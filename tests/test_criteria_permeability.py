@@ -3,9 +3,9 @@
 Source: Carrier, W.D. (2003), Goodbye, Hazen; Hello, Kozeny-Carman, JGGE
 129(11):1054-1056: Hazen form k = C_H D10^2 (Eq. 1) READ; C_H = 100, the
 Hazen validity range (D10 0.1-3 mm, Cu < 5) and the Kozeny-Carman constants
-FROM MEMORY. The §2.9 example of lab-methods.md is CONSTRUCTED data (not from a
-source); the k values quoted for it there were computed by the notes' author
-from the same recalled formula, so they check the arithmetic, not the formula.
+FROM MEMORY. The worked example below is CONSTRUCTED data (not from a
+source); its k values were computed by hand from the same recalled formula,
+so they check the arithmetic, not the formula.
 """
 
 from __future__ import annotations
@@ -46,7 +46,7 @@ def test_hazen_out_of_range_warns_without_clamping(pts):
 def test_example_29_hazen_and_kozeny_carman():
     curve = reduce_test(EXAMPLE_29, "test").curve
     chk, _ = pm.hazen_estimate(curve)
-    assert chk.extra["d10_mm"] == pytest.approx(0.169, abs=5e-4)       # lab-methods §2.9 D10 (constructed)
+    assert chk.extra["d10_mm"] == pytest.approx(0.169, abs=5e-4)       # D10 of the constructed example (by hand)
     assert chk.value == pytest.approx(2.9e-2, abs=5e-4)
     for low, k_expect in [(None, 8.4e-2), (0.010, 4.2e-2), (0.002, 1.2e-2)]:
         r = parse_rules({"void_ratio": 0.60, "shape_factor": 7.0, "kc_pan_lower_mm": low})

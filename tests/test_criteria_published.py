@@ -1,4 +1,4 @@
-"""Published pairwise filter checks: granular-filters notes §13 W1.
+"""Published pairwise filter checks (worked example W1: two solved problems).
 
 Source (READ, web copy): Section 6.11 "Solved problems for filter design (SI)",
 Tables 6.4 and 6.5, of a US government river and riprap design manual (its
@@ -10,8 +10,8 @@ ratios with R = 5 (``rules.criteria = "terzaghi"``, ``terzaghi_ratio = 5``).
 Published numbers used as published: problem 1 D15R/D85B = 6/1.5 = 4 (< 5)
 and D15R/D15B = 6/0.38 (printed 16); problem 2 D15R/D85B = 100/1.5 = 67
 (> 5), filter limits D15F < 5 x 1.5 = 7.5 mm and D15F > 5 x 0.17 = 0.85 mm.
-The D85F > 20 mm of the intermediate filter is DERIVED in the notes from the
-same manual's fourth check (D15R/D85F < 5).
+The D85F > 20 mm of the intermediate filter is DERIVED by us from the same
+manual's fourth check (D15R/D85F < 5).
 """
 
 from __future__ import annotations

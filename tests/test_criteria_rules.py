@@ -16,7 +16,7 @@ from __future__ import annotations
 import pytest
 
 from tamis.criteria import nrcs, run_filter_checks
-from tamis.criteria.base import analyse_base
+from tamis.criteria.base import analyse_base, base_info
 from tamis.criteria.material import fines_check, max_size_check, plasticity_check, segregation_check
 from tamis.criteria.against_base import permeability_check, retention_check
 from tamis.criteria.rules import parse_rules
@@ -51,8 +51,8 @@ def test_category_edges(a, cat):
     (0.2 / 9 - 1e-4, 0.2),           # just below the floor: floor governs
     (0.2 / 9, 0.2),                  # at the floor
     (0.2 / 9 + 1e-4, 9 * (0.2 / 9 + 1e-4)),
-    (0.015, 0.2),                    # granular-filters W3 (derived): 9 x 0.015 = 0.135 -> 0.2
-    (0.05, 0.45),                    # W3 (derived)
+    (0.015, 0.2),                    # derived from the rule: 9 x 0.015 = 0.135 -> 0.2
+    (0.05, 0.45),                    # derived from the rule: 9 x 0.05
 ])
 def test_cat1_nine_times_d85_with_02_floor(d85b, expected):
     lim, _ = nrcs.d15f_max_mm(1, 90.0, d85b, False, TABLE)
@@ -70,7 +70,7 @@ def test_cat2_limits():
     assert nrcs.d15f_max_mm(2, 60.0, 0.1, True, TABLE)[0] == 0.5   # from memory (medium confidence)
 
 
-@pytest.mark.parametrize("a,d85b,expected", [  # granular-filters W3 table (derived from the formula)
+@pytest.mark.parametrize("a,d85b,expected", [  # derived by hand from the category 3 formula
     (25, 1.0, 2.68), (15, 1.0, 4.00), (40, 1.0, 0.70), (39, 0.5, 0.752), (30, 0.3, 0.90), (20, 0.15, 0.70)])
 def test_cat3_formula_w3(a, d85b, expected):
     assert nrcs.d15f_max_cat3_mm(a, d85b, 4.0, 0.7) == pytest.approx(expected, abs=5e-4)
@@ -110,7 +110,8 @@ W2_BASE = [(4.75, 99.15932746), (2.0, 87.46997598), (0.85, 66.29303443), (0.425,
 
 
 def test_w2_regrading_category_and_limits():
-    # W2 values are DERIVED in granular-filters.md §13 from the published masses.
+    # W2 (a student report quoting FEMA 2011 steps 1-2, read in a secondary source): these values are
+    # DERIVED by us from its published masses.
     b = analyse_base(make_curve(W2_BASE), False, True, 4.75)
     assert b.regraded and b.correction_factor == pytest.approx(1.008478, abs=1e-6)
     regraded = dict(b.retention_curve.points)
@@ -262,7 +263,7 @@ def test_rules_dispersive_overrides_the_base_flag_and_stability_can_be_off():
 
 
 def test_dispersive_category_3_has_no_known_variant_so_a_pass_becomes_warn():
-    # NEH 633-26 1994 gives no dispersive category-3 limit in the notes read (from memory, low confidence)
+    # No dispersive category-3 limit of NEH 633-26 (1994) is known to us (from memory, low confidence)
     base = analyse_base(make_curve([(4.75, 100), (0.425, 60), (0.075, 25), (0.002, 5)]), True, True, 4.75)
     assert base.category == 3
     r = parse_rules(None)
@@ -270,3 +271,20 @@ def test_dispersive_category_3_has_no_known_variant_so_a_pass_becomes_warn():
     assert chk.status == "warn" and lim["caveats"]
     chk, _ = retention_check(lim["limit_mm"] * 1.01, base, NRCS, r)
     assert chk.status == "fail"
+
+
+def test_base_info_of_a_regraded_base_given_no_soil_properties():
+    """``base_info`` reports the regraded base's gradation when the caller has no
+    soil properties for it (``props`` None or empty): the USCS line of that
+    gradation then asks for the Atterberg limits. (It once fell back on a name
+    that no longer existed and raised NameError.) Regrading on 4.75 mm: P' = P x
+    100 / P(4.75) (NRCS NEH 633-26, October 1994, step 3, from memory)."""
+    b = analyse_base(make_curve([(19.0, 100), (4.75, 60), (0.075, 24), (0.005, 6)]), None, True, 4.75)
+    assert b.regraded
+    for props in (None, {}):
+        info = base_info(b, props)
+        rg = info["base_regraded"]
+        assert rg["regraded_on_mm"] == 4.75 and rg["correction_factor"] == pytest.approx(100 / 60)
+        assert rg["fines_pct"] == pytest.approx(24 * 100 / 60)
+        assert rg["uscs"]["symbol"] is None and rg["uscs"]["needs"]
+        assert info["a_pct"] == pytest.approx(40.0) and info["base_category"] == 2

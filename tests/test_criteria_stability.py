@@ -8,7 +8,7 @@ or F <= 30 % (Cu <= 3); Li & Fannin (2008) CGJ 45:1303-1309; Burenkova (1993)
 Balkema, h'-h'' bounds; Wan & Fell (2008) JGGE 134(3):401-407, logistic model
 (coefficients from memory); Istomina (1957) Cu 10 / 20.
 
-Check values of granular-filters.md §13 W4 are DERIVED (synthetic curve "A",
+Check values of worked example W4 are DERIVED by us (synthetic curve "A",
 computed from the stated rules, not published values).
 """
 
@@ -86,7 +86,7 @@ def test_w4_values_derived():
                                           (2.0, 10, -1.217, 1.76, 2.86), (4.0, 100, -6.135, 2.52, 4.72)])
 def test_w4_pairs_derived(h1, h2, z, lo, hi):
     # W4 lists Z and P; P is checked through Z because the printed P of the (2.0, 10) row, 0.229, is a
-    # rounding slip in the notes (1 / (1 + e^1.217) = 0.2285).
+    # rounding slip in our hand computation (1 / (1 + e^1.217) = 0.2285).
     assert math.log(st.wan_fell_probability(h1, h2) / (1 - st.wan_fell_probability(h1, h2))) == \
         pytest.approx(z, abs=6e-4)
     lower, upper = st.burenkova_bounds(h2)

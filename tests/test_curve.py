@@ -2,14 +2,14 @@
 
 Sources:
 - Log-linear interpolation (linear in percent, logarithmic in size), never
-  extrapolated: DESIGN.md and common practice (granular-filters.md §1.1, from
-  memory). Checked here against numpy's np.interp on log sizes, an
-  independent implementation of the same rule.
-- W2 D-values and regrading: values derived [D] in granular-filters.md §13 W2
-  from the published mass table (printed to 4 significant digits).
+  extrapolated: common practice (from memory). Checked here against numpy's
+  np.interp on log sizes, an independent implementation of the same rule.
+- W2 D-values and regrading: values DERIVED by us from the mass table published
+  in a student laboratory report quoting FEMA 2011 (printed to 4 significant
+  digits).
 - Fineness modulus: ASTM C125 definition (sieves 150 um .. 150 mm); the C33
-  fine-aggregate limit curves give FM 2.15 / 3.45 / 2.80 (computed in
-  lab-methods.md §4.1: derived, not printed by ASTM).
+  fine-aggregate limit curves give FM 2.15 / 3.45 / 2.80 (derived by us from
+  the C33 limits, not printed by ASTM).
 - Cu = D60/D10, Cc = D30^2/(D10 D60): ASTM D2487 (read in reproductions).
 """
 
@@ -75,7 +75,7 @@ def test_passing_at_matches_numpy_interp_on_log_sizes(seed):
 
 
 def test_w2_log_linear_d_values_derived_in_the_reference():
-    # granular-filters.md W2 [D]: D10 0.1197, D15 0.1502, D30 0.2800, D60 0.6996, D85 1.810 mm (4 s.f.).
+    # W2, derived by us: D10 0.1197, D15 0.1502, D30 0.2800, D60 0.6996, D85 1.810 mm (4 s.f.).
     c = cv.make_curve(W2_PASSING)
     for pct, mm in ((10, 0.1197), (15, 0.1502), (30, 0.2800), (60, 0.6996), (85, 1.810)):
         assert cv.size_at(c, pct) == pytest.approx(mm, rel=5e-4)
@@ -120,7 +120,7 @@ def test_fractions_use_the_d2487_size_limits():
 
 @pytest.mark.parametrize("side, fm", [("max", 2.15), ("min", 3.45), ("mid", 2.80)])
 def test_c125_fineness_modulus_of_the_c33_limit_curves(side, fm):
-    # lab-methods.md §4.1 [computed]: FM of the C33 Table 1 limit curves 2.15 / 3.45 / 2.80 (2 decimals).
+    # Derived by us: FM of the C33 Table 1 limit curves 2.15 / 3.45 / 2.80 (2 decimals).
     limits = next(p for p in PRESETS if p["id"] == "astm-c33-fine")["limits"]
     pick = {"max": lambda x: x["max_pct"], "min": lambda x: x["min_pct"],
             "mid": lambda x: (x["min_pct"] + x["max_pct"]) / 2}[side]

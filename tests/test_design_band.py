@@ -1,8 +1,8 @@
 """The designed filter band: NRCS NEH 633-26 (October 1994) design steps 1-10
 (FROM MEMORY; the same in substance in FEMA 2011 and USBR 2011), on an
 INVENTED gravelly, sandy and clayey base, plus the W2 sand base
-(granular-filters.md §13 W2: a student report quoting FEMA 2011, READ IN A
-SECONDARY SOURCE; the D-values and limits are DERIVED there).
+(a student laboratory report quoting FEMA 2011 steps 1-2, READ IN A
+SECONDARY SOURCE; the D-values and limits are DERIVED by us from its masses).
 
 The construction between control points (coarse limit through D15F max,
 D90 max and 75 mm; fine limit a constant size factor finer) is DERIVED, and

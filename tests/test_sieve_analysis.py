@@ -9,8 +9,8 @@ Sources named beside each test:
   area(m2) kg at and above 4.75 mm. Frame areas from memory.
 - Published mass table W2 (a student laboratory report quoting FEMA 2011 steps
   1-2; secondary source), which divides by the summed mass 499.6 g.
-- The worked example of lab-methods.md §2.9: constructed data (not from a
-  published source), with its table printed to 0.1 %.
+- A constructed worked example (not from a published source, worked by hand),
+  with its table printed to 0.1 %.
 """
 
 import math
@@ -19,7 +19,7 @@ from decimal import Decimal
 import pytest
 
 from conftest import EXAMPLE_29, mass_test
-from tamis.lab import sieve_analysis as sieve_test
+from tamis.lab import sieve_analysis
 from tamis.errors import InputError
 from tamis.lab.reduction import reduce_test
 from tamis.checks import FAIL, NEEDS_DATA, PASS, WARN
@@ -49,7 +49,7 @@ def test_w2_published_masses_give_the_printed_percent_passing():
 
 
 def test_worked_example_29_constructed_data_table():
-    # lab-methods.md §2.9 (constructed data): % retained, cumulative and passing printed to 0.1 %.
+    # The constructed example, worked by hand: % retained, cumulative and passing printed to 0.1 %.
     red = reduce_test(EXAMPLE_29, "test")
     printed = [(0.0, 0.0, 100.0), (3.0, 3.0, 97.0), (4.0, 7.0, 93.0), (12.0, 19.0, 81.0), (14.0, 33.1, 66.9),
                (15.4, 48.4, 51.6), (16.7, 65.1, 34.9), (16.0, 81.2, 18.8), (10.7, 91.8, 8.2), (3.7, 95.6, 4.4)]
@@ -108,7 +108,7 @@ def test_exactly_0_3_percent_passes_and_just_over_fails(masses, dry, status):
 
 
 def test_mass_balance_uses_the_washed_mass_but_the_original_dry_mass_as_base():
-    # DESIGN.md / ASTM C136 with C117: mass on the sieves is the washed dry mass;
+    # ASTM C136 with C117 (docs/methods.md): mass on the sieves is the washed dry mass;
     # the 0.3 % is of the original dry mass (2000 g: 6 g allowed).
     t = mass_test({4.75: 500.0, 0.075: 1294.5}, 2000.0, pan_g=0.0, washed_dry_mass_g=1800.0)
     c = reduce_test(t, "test").checks[0]
@@ -120,15 +120,15 @@ def test_mass_balance_uses_the_washed_mass_but_the_original_dry_mass_as_base():
 
 def test_c136_overload_limits_for_the_203_and_305_mm_frames():
     # ASTM C136-14 checklist item 7: about 200 g (203 mm) and 469 g (305 mm) below 4.75 mm.
-    assert sieve_test.overload_limit_g(2.36, "203") == pytest.approx(200.0, abs=0.5)
-    assert sieve_test.overload_limit_g(0.075, "305") == pytest.approx(469.0, abs=0.5)
+    assert sieve_analysis.overload_limit_g(2.36, "203") == pytest.approx(200.0, abs=0.5)
+    assert sieve_analysis.overload_limit_g(0.075, "305") == pytest.approx(469.0, abs=0.5)
     # C136-19 §8.3 rule with the 203 mm area 0.0285 m2 (from memory): 4.75 mm -> 0.34 kg,
-    # 9.5 mm -> 0.68 kg, 37.5 mm -> 2.67 kg (lab-methods.md §2.4 table [computed], 0.01 kg).
-    assert sieve_test.overload_limit_g(4.75, "203") == pytest.approx(340.0, abs=5.0)
-    assert sieve_test.overload_limit_g(9.5, "203") == pytest.approx(680.0, abs=5.0)
-    assert sieve_test.overload_limit_g(37.5, "203") == pytest.approx(2670.0, abs=5.0)
-    assert sieve_test.overload_limit_g(19.0, "372x580") == pytest.approx(10250.0, abs=5.0)
-    assert sieve_test.overload_limit_g(0.6, "254") == pytest.approx(320.0, abs=5.0)
+    # 9.5 mm -> 0.68 kg, 37.5 mm -> 2.67 kg (computed by hand from the rule, 0.01 kg).
+    assert sieve_analysis.overload_limit_g(4.75, "203") == pytest.approx(340.0, abs=5.0)
+    assert sieve_analysis.overload_limit_g(9.5, "203") == pytest.approx(680.0, abs=5.0)
+    assert sieve_analysis.overload_limit_g(37.5, "203") == pytest.approx(2670.0, abs=5.0)
+    assert sieve_analysis.overload_limit_g(19.0, "372x580") == pytest.approx(10250.0, abs=5.0)
+    assert sieve_analysis.overload_limit_g(0.6, "254") == pytest.approx(320.0, abs=5.0)
 
 
 def test_overload_check_lists_each_overloaded_sieve():

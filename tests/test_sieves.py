@@ -2,8 +2,7 @@
 
 Source: ASTM E11 standard openings and alternative designations. The No. 4 =
 4.75 mm, No. 10 = 2.00 mm, No. 40 = 425 um and No. 200 = 75 um pairs were read
-in published tables; the other pairs are from memory (E11 table, transcribed in
-the project's lab-methods reference §1.1). Openings are printed to 3
+in published tables; the other pairs are from memory (E11 table). Openings are printed to 3
 significant figures, so they are compared exactly as the printed numbers.
 """
 

@@ -83,11 +83,6 @@ def _scrub(obj):
     return obj
 
 
-def handle_dict(request) -> dict:
-    """Handle an already-parsed request; returns the response as a dict."""
-    return json.loads(handle(request if isinstance(request, str) else _dumps(request)))
-
-
 def handle(request_json: str) -> str:
     """Answer one JSON request string with one JSON response string.
 

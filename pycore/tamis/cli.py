@@ -89,10 +89,7 @@ def make_parser() -> argparse.ArgumentParser:
         sp.add_argument("--compact", action="store_true", help="print the JSON on one line")
     for name, (mod, help_text) in OTHER_COMMANDS.items():
         sp = sub.add_parser(name, help=help_text, description=help_text)
-        try:
-            importlib.import_module(mod).add_arguments(name, sp)
-        except ModuleNotFoundError:
-            sp.set_defaults(_missing=mod)
+        importlib.import_module(mod).add_arguments(name, sp)
     return p
 
 
@@ -100,8 +97,5 @@ def main(argv=None) -> int:
     args = make_parser().parse_args(argv)
     if args.command in JSON_COMMANDS:
         return _run_json(args.command, args)
-    if getattr(args, "_missing", None):
-        print(f"error: {args.command} is not available in this build", file=sys.stderr)
-        return 2
     mod = importlib.import_module(OTHER_COMMANDS[args.command][0])
     return mod.run(args.command, args)

@@ -11,7 +11,10 @@ Each entry states the rule in our own words, when it applies, the source
 
 ``docs/criteria.md`` is generated from this table by
 ``scripts/gen_criteria_docs.py`` and a test fails when the two drift.
-Checks take their ``source`` text from here (:func:`source_text`).
+Every check of the core, in every layer (the lab QA checks, the band checks,
+the filter criteria), takes its ``source`` text from here: it is built with
+:func:`make_check` / :func:`limit_check`, or carries :func:`source_text`; a
+test compares each emitted ``source`` with this registry.
 """
 
 from __future__ import annotations
@@ -40,50 +43,62 @@ class Entry:
     edition: str
     locator: str          # table, equation or step
     provenance: str
+    #: The ``source`` text the check carries: "" for the composed text (document,
+    #: edition, locator, [provenance]); :data:`GIVEN` when the check carries the
+    #: source its input names (a band's own); else this text as it is.
+    carries: str = ""
 
     def __post_init__(self) -> None:
         if not any(self.provenance.startswith(t) for t in PROVENANCE_TAGS):
             raise ValueError(f"{self.id}: provenance must start with one of {PROVENANCE_TAGS}")
 
 
+#: ``Entry.carries`` of a check whose source is the one its input gives (a band's ``source``).
+GIVEN = "<the source given with the input>"
+
 _E = Entry
 
 ENTRIES: tuple[Entry, ...] = (
-    # ---- lab QA and band checks (computed in tamis.sieve_test / tamis.bands) ----
+    # ---- lab QA and band checks (computed in tamis.lab.sieve_analysis / tamis.lab.bands) ----
     _E("qa.mass_balance", "", "Sieving mass balance",
        "The sum of the masses retained and in the pan agrees with the mass put on the sieves within 0.3 % "
        "of the original dry mass; otherwise the result is not used for acceptance.",
-       "Every sieve test entered as masses (computed in tamis.sieve_test).",
+       "Every sieve test entered as masses (computed in tamis.lab.sieve_analysis).",
        "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates", "C136/C136M-14",
-       "Section 8.7 (laboratory checklist item 9)", "read (C136/C136M-14 checklist item 9)"),
+       "Section 8.7 (laboratory checklist item 9)", "read (C136/C136M-14 checklist item 9)",
+       "ASTM C136/C136M-14, mass check after sieving: within 0.3 % of the original dry mass (checklist item 9)"),
     _E("qa.sieve_overload", "", "Sieve overload",
        "The mass retained on a sieve finer than 4.75 mm does not exceed 7 kg/m2 of sieving surface; at and "
        "above 4.75 mm, 2.5 x opening [mm] x sieving area [m2] kg.",
-       "Every sieve test entered as masses (computed in tamis.sieve_test).",
+       "Every sieve test entered as masses (computed in tamis.lab.sieve_analysis).",
        "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates", "C136/C136M-19",
-       "Section 8.3", "read (Section 8.3 excerpt); from memory (effective sieving areas of the frames)"),
+       "Section 8.3", "read (Section 8.3 excerpt); from memory (effective sieving areas of the frames)",
+       "ASTM C136/C136M-19 §8.3: 7 kg/m2 below 4.75 mm, 2.5 x opening(mm) x area(m2) kg at and above "
+       "4.75 mm; effective frame areas from memory"),
     _E("qa.specimen_mass", "", "Minimum test specimen mass",
        "The dry mass of the specimen is at least the minimum for its nominal maximum size (fine aggregate "
        "300 g; coarse aggregate by nominal maximum size).",
-       "Every sieve test entered as masses (computed in tamis.sieve_test).",
+       "Every sieve test entered as masses (computed in tamis.lab.sieve_analysis).",
        "ASTM C136/C136M, Sieve Analysis of Fine and Coarse Aggregates; nominal maximum size per WAQTC FOP for "
        "AASHTO T 2", "C136/C136M-19; WAQTC FOP October 2014", "minimum mass table; nominal maximum size "
-       "definition", "from memory (mass table); read (nominal maximum size definition)"),
+       "definition", "from memory (mass table); read (nominal maximum size definition)",
+       "ASTM C136, minimum test-sample mass (fine aggregate 300 g; coarse aggregate by nominal maximum "
+       "size), from memory; nominal maximum size per WAQTC FOP for AASHTO T 2"),
     _E("band.compliance", "", "Specification band",
        "At every sieve of the band the percent passing lies between the band's minimum and maximum.",
-       "When a band is given (computed in tamis.bands).",
+       "When a band is given (computed in tamis.lab.bands).",
        "The project specification (the band entered by the user), or a preset's own source", "as entered",
-       "the band limits", "common practice, no source"),
+       "the band limits", "common practice, no source", GIVEN),
     _E("band.fineness_modulus", "", "Fineness modulus within the band's range",
        "The fineness modulus (ASTM C125 sieves) lies between the band's fm_min and fm_max (C33 fine "
-       "aggregate: 2.3 to 3.1).", "When the band gives fm_min or fm_max (computed in tamis.bands).",
+       "aggregate: 2.3 to 3.1).", "When the band gives fm_min or fm_max (computed in tamis.lab.bands).",
        "ASTM C33/C33M Table 1 notes; ASTM C125 definition", "edition of the reproduction not stated",
-       "fineness modulus limits", "read in a secondary source (published reproduction of C33)"),
+       "fineness modulus limits", "read in a secondary source (published reproduction of C33)", GIVEN),
     _E("band.between_sieves", "", "Most passing one sieve and retained on the next",
        "At most max_between_sieves_pct (C33 fine aggregate: 45 %) of the sample between two consecutive band "
-       "sieves.", "When the band gives max_between_sieves_pct (computed in tamis.bands).",
+       "sieves.", "When the band gives max_between_sieves_pct (computed in tamis.lab.bands).",
        "ASTM C33/C33M Table 1 notes", "edition of the reproduction not stated",
-       "the 45 % rule", "read in a secondary source (published reproduction of C33)"),
+       "the 45 % rule", "read in a secondary source (published reproduction of C33)", GIVEN),
     # ---- retention (maximum D15F) ----
     _E("filter.retention", "nrcs-1994", "Retention: maximum D15 of the filter",
        "Category 1 (A > 85 %): D15F <= 9 x d85B, not less than 0.2 mm (dispersive base: 6.5 x d85B, not less "
@@ -226,17 +241,28 @@ def entry(check_id: str, variant: str = "") -> Entry:
     raise KeyError(f"check id {check_id!r} (variant {variant!r}) is not registered")
 
 
-def source_text(check_id: str, variant: str = "") -> str:
-    """The ``source`` string a check carries: document, edition, locator, provenance."""
+def source_text(check_id: str, variant: str = "", given: str = "") -> str:
+    """The ``source`` string a check carries: document, edition, locator, provenance
+    (or the entry's own :attr:`Entry.carries`); for an entry that carries the source
+    its input gives (:data:`GIVEN`), ``given``, which must then be named."""
     e = entry(check_id, variant)
-    return f"{e.source}, {e.edition}, {e.locator} [{e.provenance}]"
+    if e.carries == GIVEN:
+        if not given:
+            raise ValueError(f"{check_id} carries the source given with its input; none was given")
+        return given
+    if given:
+        raise ValueError(f"{check_id} carries the registry's source, not one given with its input")
+    return e.carries or f"{e.source}, {e.edition}, {e.locator} [{e.provenance}]"
 
 
 def make_check(check_id: str, status: str, message: str, *, variant: str = "", value=None, limit=None,
-               relation=None, unit: str = "", extra: dict | None = None, advisory: bool = False) -> Check:
-    """A :class:`~tamis.checks.Check` whose ``source`` comes from the registry."""
+               relation=None, unit: str = "", extra: dict | None = None, advisory: bool = False,
+               given: str = "") -> Check:
+    """A :class:`~tamis.checks.Check` whose ``source`` comes from the registry
+    (:func:`source_text` of ``check_id``, ``variant`` and ``given``)."""
     return Check(id=check_id, status=status, message=message, value=value, limit=limit, relation=relation,
-                 unit=unit, source=source_text(check_id, variant), extra=dict(extra or {}), advisory=advisory)
+                 unit=unit, source=source_text(check_id, variant, given), extra=dict(extra or {}),
+                 advisory=advisory)
 
 
 def limit_check(check_id: str, value, relation: str, limit, unit: str, what: str, *, variant: str = "",

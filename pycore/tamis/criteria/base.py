@@ -1,9 +1,9 @@
 """The base soil as the filter rules see it: regraded curve, A, category, d85B, d15B.
 
 References: regrading on 4.75 mm and the category from A, NRCS NEH 633-26
-(October 1994) Steps 2-4, from memory; the curve that feeds each quantity
-follows ``granular-filters`` notes §1.3 (regraded curve for A and d85B,
-original curve for d15B).
+(October 1994) Steps 2-4, from memory. The regraded curve feeds A and d85B,
+the original curve d15B (the NRCS wording for the permeability limit is
+"before regrading"; from memory).
 """
 
 from __future__ import annotations

@@ -39,10 +39,6 @@ def _span(curve: Curve) -> tuple[float, float]:
     return curve.points[-1][1], curve.points[0][1]
 
 
-def _size_inside(curve: Curve, pct: float) -> float | None:
-    return size_at(curve, pct)
-
-
 def _three_way(check_id: str, failed: bool, complete: bool, fail_msg: str, incomplete_msg: str, pass_msg: str,
                **kw) -> Check:
     """fail when the measured part already fails; else needs_data when part of the

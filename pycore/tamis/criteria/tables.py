@@ -128,11 +128,6 @@ PROVENANCE = _freeze({
 })
 
 
-def rule_set(name: str) -> MappingProxyType:
-    """The threshold table of rule set ``name`` (a key of :data:`RULE_SETS`)."""
-    return RULE_SETS[name]
-
-
 def segregation_d90_max_mm(d10_mm: float) -> float:
     """Maximum D90 [mm] allowed for a filter with ``d10_mm`` [mm] (segregation
     table; a D10 on a row edge takes the stricter row)."""

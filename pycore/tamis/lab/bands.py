@@ -21,6 +21,7 @@ from dataclasses import dataclass
 from .curve import Curve, fineness_modulus, passing_at, same_size
 from ..errors import InputError, join, number, require_list, require_mapping, text
 from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, compare
+from ..registry import source_text
 from .sieves import label_for, resolve_opening
 
 SRC_USER_BAND = "project specification band (entered by the user)"
@@ -161,7 +162,8 @@ def compliance_check(band: Band, curve: Curve) -> Check:
             " was not in the sample's stack (read by interpolation)."
     else:
         status, msg = PASS, f"Within the band at all {len(rows)} sieves."
-    return Check("band.compliance", status, msg, worst, 0.0, ">=", "%", band.source, extra)
+    return Check("band.compliance", status, msg, worst, 0.0, ">=", "%",
+                 source_text("band.compliance", given=band.source), extra)
 
 
 def _lim(r: dict) -> str:
@@ -180,12 +182,12 @@ def fineness_check(band: Band, curve: Curve) -> Check | None:
     if fm is None:
         return Check("band.fineness_modulus", NEEDS_DATA, "The fineness modulus needs every ASTM C125 sieve "
                      "from 150 um up to the top of the sample.", None, lo if lo is not None else hi, None, "-",
-                     band.source)
+                     source_text("band.fineness_modulus", given=band.source))
     ok = (lo is None or compare(fm, ">=", lo)) and (hi is None or compare(fm, "<=", hi))
     limit, rel = (lo, ">=") if (lo is not None and fm < lo) else ((hi, "<=") if hi is not None else (lo, ">="))
     return Check("band.fineness_modulus", PASS if ok else FAIL,
                  f"Fineness modulus {fm:.2f} {'within' if ok else 'outside'} {rng}.", fm, limit, rel, "-",
-                 band.source, {"fm_min": lo, "fm_max": hi})
+                 source_text("band.fineness_modulus", given=band.source), {"fm_min": lo, "fm_max": hi})
 
 
 def between_sieves_check(band: Band, curve: Curve) -> Check | None:
@@ -202,16 +204,18 @@ def between_sieves_check(band: Band, curve: Curve) -> Check | None:
         pb = next((p for d, p in meas.items() if same_size(d, b)), None)
         if pa is None or pb is None:
             return Check("band.between_sieves", NEEDS_DATA, f"{label_for(a)} and {label_for(b)} must both be "
-                         "sieved to check the fraction between them.", None, lim, "<=", "%", band.source)
+                         "sieved to check the fraction between them.", None, lim, "<=", "%",
+                         source_text("band.between_sieves", given=band.source))
         vals.append((pa - pb, a, b))
     if not vals:
         return Check("band.between_sieves", NOT_APPLICABLE, "The band has a single sieve.", None, lim, "<=", "%",
-                     band.source)
+                     source_text("band.between_sieves", given=band.source))
     worst = max(vals)
     ok = compare(worst[0], "<=", lim)
     return Check("band.between_sieves", PASS if ok else FAIL,
                  f"Largest fraction between consecutive sieves: {worst[0]:.1f} % ({label_for(worst[1])} to "
-                 f"{label_for(worst[2])}), limit {lim:g} %.", worst[0], lim, "<=", "%", band.source)
+                 f"{label_for(worst[2])}), limit {lim:g} %.", worst[0], lim, "<=", "%",
+                 source_text("band.between_sieves", given=band.source))
 
 
 def band_checks(band: Band, curve: Curve) -> list[Check]:

@@ -34,6 +34,7 @@ from decimal import Context, Decimal
 from .curve import GRAVEL_SAND_MM, SAND_FINES_MM, Curve, make_curve, same_size
 from ..errors import InputError, boolean, join, number, require_list, require_mapping, text
 from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding, compare
+from ..registry import source_text
 from .sieves import label_for, resolve_opening
 
 #: Relative size of float rounding noise in summed masses [-]: a cumulative mass
@@ -43,14 +44,13 @@ FLOAT_NOISE = 1e-12
 #: ASTM C136 §8.7 (C136/C136M-14 checklist item 9, read): the mass after sieving
 #: must agree with the mass put on the sieves within 0.3 % of the original dry mass.
 MASS_BALANCE_LIMIT_PCT = 0.3
-SRC_MASS_BALANCE = "ASTM C136/C136M-14, mass check after sieving: within 0.3 % of the original dry mass (checklist item 9)"
+SRC_MASS_BALANCE = source_text("qa.mass_balance")
 
 #: ASTM C136/C136M-19 §8.3 (read): 7 kg/m2 of sieving surface below 4.75 mm.
 OVERLOAD_FINE_KG_PER_M2 = 7.0
 #: ... and 2.5 x opening [mm] x effective sieving area [m2] kg at and above 4.75 mm.
 OVERLOAD_COARSE_FACTOR = 2.5
-SRC_OVERLOAD = ("ASTM C136/C136M-19 §8.3: 7 kg/m2 below 4.75 mm, 2.5 x opening(mm) x area(m2) kg at and above "
-                "4.75 mm; effective frame areas from memory")
+SRC_OVERLOAD = source_text("qa.sieve_overload")
 
 #: Sieve frames: id -> (description, effective sieving area [m2], from memory).
 #: The 203 and 305 mm areas reproduce the 200 g and 469 g of the C136-14
@@ -72,8 +72,7 @@ SPECIMEN_MIN_G: tuple[tuple[float, float], ...] = (
     (50.0, 20000.0), (63.0, 35000.0), (75.0, 60000.0), (90.0, 100000.0), (100.0, 150000.0),
     (125.0, 300000.0),
 )
-SRC_SPECIMEN = ("ASTM C136, minimum test-sample mass (fine aggregate 300 g; coarse aggregate by nominal maximum "
-                "size), from memory; nominal maximum size per WAQTC FOP for AASHTO T 2")
+SRC_SPECIMEN = source_text("qa.specimen_mass")
 #: Nominal maximum size: one sieve larger than the first sieve to retain more
 #: than 10 % (WAQTC FOP for AASHTO T 2, Oct 2014, read).
 NMS_RETAINED_PCT = 10.0

@@ -5,9 +5,9 @@ and the coarser as the filter, using :func:`tamis.criteria.run_filter_checks`.
 The first zone (role ``base``) is regraded on 4.75 mm when gravelly, as the
 rule set says; a later zone (role ``filter`` or ``shell``) used as the base of
 the next one is not regraded unless ``rules.regrade`` is given: it is a clean
-filter (<= 5 % fines), category 4 on its own curve (derived from the
-granular-filter notes on zone sequences; FEMA 2011 Step 2 exempts some sands
-and gravels from regrading, a passage read only in part).
+filter (<= 5 % fines), category 4 on its own curve (derived by us from the
+category rules applied zone by zone; FEMA 2011 Step 2 exempts some sands and
+gravels from regrading, a passage read only in part).
 The designed band of a filter is in :mod:`tamis.project.design_band`.
 
 A screening aid: the project specification, local codes and the
