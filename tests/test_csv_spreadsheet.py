@@ -127,6 +127,6 @@ def test_control_the_same_texts_unprotected_do_become_formulas(tmp_path):
     header, *rows = parse_rfc4180(text)
     raw = [header] + [[csv_format.unescape_text(c) if c.startswith("'") else c for c in r] for r in rows]
     control = tmp_path / "control.csv"
-    control.write_bytes(("\r\n".join(",".join(csv_write._quote(c) for c in r) for r in raw) + "\r\n").encode("utf-8"))
+    control.write_bytes(("\r\n".join(",".join(csv_write.quote(c) for c in r) for r in raw) + "\r\n").encode("utf-8"))
     sheet = cells_of(to_ods(control, tmp_path))
     assert any(cell[2] for row in sheet for cell in row), "LibreOffice read no formula in the control file"

@@ -52,7 +52,7 @@ def test_check_bad_file_names_file_row_and_column(tmp_path):
     text = a.read_text(encoding="utf-8")
     rows = parse_rfc4180(text)
     rows[5][rows[0].index("rev")] = "2.0"
-    bad = write(tmp_path / "bad.csv", "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows) + "\r\n")
+    bad = write(tmp_path / "bad.csv", "\r\n".join(",".join(csv_write.quote(c) for c in r) for r in rows) + "\r\n")
     p = run("check", bad, cwd=tmp_path)
     assert p.returncode == 2
     assert f"{bad}: Row 6, column rev" in p.stderr and "Traceback" not in p.stderr
@@ -159,7 +159,7 @@ def test_report_flags_a_stored_verdict_that_differs(tmp_path):
     col = rows[0].index("calc_verdict")
     target = next(i for i, r in enumerate(rows) if r[col] == "reject")
     rows[target][col] = "accept"  # someone "fixed" the verdict in a spreadsheet
-    forged = write(tmp_path / "forged.csv", "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows) + "\r\n")
+    forged = write(tmp_path / "forged.csv", "\r\n".join(",".join(csv_write.quote(c) for c in r) for r in rows) + "\r\n")
     p = run("report", forged, "--json", cwd=tmp_path)
     assert p.returncode == 1
     out = json.loads(p.stdout)

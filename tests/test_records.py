@@ -167,7 +167,7 @@ def test_numbers_round_trip_exactly_on_random_doubles():
         n += 1
         cell = csv_format.fmt_num(x)
         assert float(cell) == x and math.copysign(1.0, float(cell)) == math.copysign(1.0, x)
-        assert csv_format._NUM_RE.fullmatch(cell), cell
+        assert csv_format.NUM_RE.fullmatch(cell), cell
 
 
 def test_integral_numbers_are_written_without_decimals_and_read_as_floats():

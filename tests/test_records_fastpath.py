@@ -216,7 +216,7 @@ def test_a_header_with_sieves_finest_first_gives_the_same_record():
     sieve_cols = [i for i, c in enumerate(rows[0]) if c.startswith("retained_g@")]
     order = list(range(len(rows[0])))
     order[sieve_cols[0]:sieve_cols[-1] + 1] = reversed(sieve_cols)
-    text = "\r\n".join(",".join(csv_write._quote(row[i]) for i in order) for row in rows) + "\r\n"
+    text = "\r\n".join(",".join(csv_write.quote(row[i]) for i in order) for row in rows) + "\r\n"
     (back,), _ = csv_read.read_csv(text)
     (canonical,), _ = csv_read.read_csv(csv_write.write_csv([r]))
     assert record.dump_json(back) == record.dump_json(canonical) and back == r
@@ -229,7 +229,7 @@ def _with_calc(text: str, verdict: str) -> str:
     rows = parse_rfc4180(text)
     for row in rows[1:]:
         row[rows[0].index("calc_verdict")] = verdict
-    return "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows) + "\r\n"
+    return "\r\n".join(",".join(csv_write.quote(c) for c in r) for r in rows) + "\r\n"
 
 
 def test_read_files_gives_what_each_file_gives_alone():

@@ -38,7 +38,7 @@ def edit(text: str, row: int, column: str, value: str) -> str:
     """Set one cell (spreadsheet numbering) and write the file back with the codec's quoting."""
     rows = parse_rfc4180(text)
     rows[row - 1][rows[0].index(column)] = value
-    return "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows) + "\r\n"
+    return "\r\n".join(",".join(csv_write.quote(c) for c in r) for r in rows) + "\r\n"
 
 
 def reject(text: str, field: str, code: str, *words):
@@ -80,7 +80,7 @@ def test_bare_sieve_label_as_a_column_is_refused():
 def test_missing_required_column():
     rows = parse_rfc4180(good_file())
     i = rows[0].index("rev")
-    text = "\r\n".join(",".join(csv_write._quote(c) for j, c in enumerate(r) if j != i) for r in rows) + "\r\n"
+    text = "\r\n".join(",".join(csv_write.quote(c) for j, c in enumerate(r) if j != i) for r in rows) + "\r\n"
     reject(text, "csv.row[1].rev", "missing_column")
 
 
@@ -135,13 +135,13 @@ def test_duplicated_id_with_different_content():
     rows = parse_rfc4180(good_file())
     twin = rows[2][:]
     twin[rows[0].index("updated_by")] = "CD"
-    text = "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows + [twin]) + "\r\n"
+    text = "\r\n".join(",".join(csv_write.quote(c) for c in r) for r in rows + [twin]) + "\r\n"
     reject(text, "csv.row[4].record_id", "duplicate_id", "row 3")
 
 
 def test_duplicated_id_with_the_same_content_is_read_once():
     rows = parse_rfc4180(good_file())
-    text = "\r\n".join(",".join(csv_write._quote(c) for c in r) for r in rows + [rows[2]]) + "\r\n"
+    text = "\r\n".join(",".join(csv_write.quote(c) for c in r) for r in rows + [rows[2]]) + "\r\n"
     out = call("records_import_csv", csv=text, existing=[])
     assert out["ok"] and len(out["result"]["records"]) == 2
 

@@ -39,25 +39,22 @@ REQUIRED_COLUMNS = FIXED_COLUMNS + ("history_json",)
 
 #: Families of columns that carry one opening [mm] in their name.
 FAMILIES = ("retained_g", "passing_pct", "band_min_pct", "band_max_pct")
-_FAMILY_RE = re.compile(r"(retained_g|passing_pct|band_min_pct|band_max_pct)@([0-9.eE+-]+)mm", re.ASCII)
+FAMILY_RE = re.compile(r"(retained_g|passing_pct|band_min_pct|band_max_pct)@([0-9.eE+-]+)mm", re.ASCII)
 
-_CALC_SET = frozenset(CALC_COLUMNS)
-_STATIC_COLUMNS = frozenset(FIXED_COLUMNS + META_COLUMNS + TEST_HEAD + TEST_TAIL + CALC_COLUMNS
-                            + ("band_name", "band_extra_json", "history_json"))
+#: Every column whose name holds no opening.
+STATIC_COLUMNS = frozenset(FIXED_COLUMNS + META_COLUMNS + TEST_HEAD + TEST_TAIL + CALC_COLUMNS
+                           + ("band_name", "band_extra_json", "history_json"))
 
 #: First characters that make a spreadsheet read a cell as a formula (OWASP),
 #: plus the escape character itself so that every text round-trips exactly.
 TRIGGERS = frozenset("=+-@\t\r\n'")
 
-_NUM_RE = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?", re.ASCII)  # used with fullmatch
-#: Several numbers of :data:`_NUM_RE` joined by U+FFFD (which no cell of a file read can hold).
-_NUMS_RE = re.compile(r"(?:[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)"
-                      r"(?:\ufffd[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)*", re.ASCII)
+NUM_RE = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?", re.ASCII)  # used with fullmatch
 
 
 def fmt_num(v) -> str:
     """Shortest text that reads back as the same float (``repr``, without a trailing ``.0``)."""
-    r = repr(v if type(v) is float else float(v))
+    r = repr(float(v))
     return r[:-2] if r.endswith(".0") else r
 
 

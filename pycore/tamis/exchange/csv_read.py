@@ -13,13 +13,11 @@ import io
 import json
 import math
 import re
-from itertools import compress
 
 from ..errors import InputError
-from .csv_format import CALC_COLUMNS, CSV_VERSION, FAMILIES, MARKER, META_COLUMNS, REQUIRED_COLUMNS, \
-    _CALC_SET, _FAMILY_RE, _NUM_RE, _NUMS_RE, _STATIC_COLUMNS, unescape_text
-from .record import _KIND_RANK, _UUID_RE, META_NUM, META_TEXT, PLASTICITY_NUM, TEST_NUM, acyclic_work, \
-    check_record, content_key, is_iso_utc
+from .csv_format import CALC_COLUMNS, CSV_VERSION, FAMILIES, FAMILY_RE, MARKER, META_COLUMNS, NUM_RE, \
+    REQUIRED_COLUMNS, STATIC_COLUMNS, unescape_text
+from .record import META_NUM, META_TEXT, PLASTICITY_NUM, TEST_NUM, acyclic_work, check_record, content_key
 
 _FIELD_LIMIT = 1 << 26  # 64 Mi characters per cell while reading
 
@@ -77,25 +75,13 @@ def cell_error(code: str, field: str, reason: str) -> InputError:
 
 def _parse_num(cell: str, where: str, col: str) -> float:
     """The number in ``cell`` of column ``col`` on row ``where`` (named only in an error)."""
-    if not _NUM_RE.fullmatch(cell):
+    if not NUM_RE.fullmatch(cell):
         hint = " Use a point as the decimal mark." if "," in cell else ""
         raise cell_error("not_a_number", f"{where}.{col}", f"must be a number, got {cell!r}.{hint}")
     v = float(cell)
     if not math.isfinite(v):
         raise cell_error("not_finite", f"{where}.{col}", f"must be a finite number, got {cell!r}.")
     return v
-
-
-def _parse_nums(cells: dict, cols, where: str) -> list[float]:
-    """The numbers in the non-blank cells ``cols``, in that order: what
-    :func:`_parse_num` gives for each, checked in one pass; when one is not a
-    finite number, :func:`_parse_num` names the first that is not."""
-    texts = [cells[c] for c in cols]
-    if _NUMS_RE.fullmatch("\ufffd".join(texts)):
-        vals = list(map(float, texts))
-        if math.inf not in vals and -math.inf not in vals:
-            return vals
-    return [_parse_num(cells[c], where, c) for c in cols]
 
 
 def _parse_bool(cell: str, where: str, col: str) -> bool:
@@ -117,8 +103,7 @@ def _parse_json(cell: str, field: str, want: type):
 
 def parse_header(header: list[str], path: str) -> dict:
     """Check the header row; return ``{"cols": [...], "colinfo": {column: (family, opening_mm)},
-    "static": frozenset of the other columns, "coarse_first": bool}``; ``coarse_first`` is
-    True when every family's columns come coarsest first (as :func:`header_for` writes them)."""
+    "static": frozenset of the other columns}``."""
     where = f"{path}.row[1]"
     if not header or header[0] != MARKER:
         raise InputError("not_tamis_csv", f"Row 1 must be the header of a tamis CSV file, starting with the "
@@ -128,10 +113,10 @@ def parse_header(header: list[str], path: str) -> dict:
         if col in seen:
             raise InputError("duplicate_column", f"Row 1: the column {col!r} appears twice.", f"{where}.{col}")
         seen.add(col)
-        if col in _STATIC_COLUMNS:
+        if col in STATIC_COLUMNS:
             continue
-        m = _FAMILY_RE.fullmatch(col)
-        if not m or not _NUM_RE.fullmatch(m.group(2)) or not (0 < float(m.group(2)) < math.inf):
+        m = FAMILY_RE.fullmatch(col)
+        if not m or not NUM_RE.fullmatch(m.group(2)) or not (0 < float(m.group(2)) < math.inf):
             raise InputError("unknown_column", f"Row 1: {col!r} is not a column of this format "
                                                f"(see docs/csv.md).", f"{where}.{col}")
         key = (m.group(1), float(m.group(2)))
@@ -144,28 +129,21 @@ def parse_header(header: list[str], path: str) -> dict:
         if col not in seen:
             raise InputError("missing_column", f"Row 1: the required column {col!r} is missing.", f"{where}.{col}")
     colinfo = {col: (f, op) for f in FAMILIES for op, col in fams[f]}
-    return {"cols": header, "colinfo": colinfo, "static": frozenset(seen - set(colinfo)),
-            "coarse_first": all(fams[f] == sorted(fams[f], key=lambda t: -t[0]) for f in FAMILIES)}
-
-
-#: META_COLUMNS with how each is read: 0 text, 1 number, 2 the rules object (meta_extra_json comes last, apart).
-_META_PLAN = tuple((c, 1 if c in META_NUM else 2 if c == "rules_json" else 0)
-                   for c in META_COLUMNS if c != "meta_extra_json")
+    return {"cols": header, "colinfo": colinfo, "static": frozenset(seen - set(colinfo))}
 
 
 def _meta_from(cells: dict, where: str) -> dict:
     meta = {}
-    get = cells.get
-    for col, how in _META_PLAN:
-        cell = get(col)
-        if not cell:
+    for col in META_COLUMNS:
+        cell = cells.get(col)
+        if not cell or col == "meta_extra_json":
             continue
-        if how == 0:
-            meta[col] = cell[1:] if cell[0] == "'" else cell  # unescape_text, inlined
-        elif how == 1:
+        if col in META_NUM:
             meta[col] = _parse_num(cell, where, col)
-        else:
+        elif col == "rules_json":
             meta["rules"] = _parse_json(cell, f"{where}.{col}", dict)
+        else:
+            meta[col] = unescape_text(cell)
     _add_extra(meta, cells, "meta_extra_json", "meta", where)
     return meta
 
@@ -185,14 +163,12 @@ def _add_extra(obj: dict, cells: dict, col: str, group: str, where: str) -> bool
 
 def _test_from(cells: dict, fams: dict, where: str):
     test = {}
-    present = [col for col in TEST_NUM if col in cells]
-    if present:
-        test.update(zip(present, _parse_nums(cells, present, where)))
+    for col in TEST_NUM:
+        if col in cells:
+            test[col] = _parse_num(cells[col], where, col)
     for fam, key, val in (("retained_g", "sieves", "retained_g"), ("passing_pct", "passing", "passing_pct")):
-        pts = fams[fam]
-        if pts:
-            vals = _parse_nums(cells, [col for _, col in pts], where)
-            test[key] = [{"opening_mm": op, val: v} for (op, _), v in zip(pts, vals)]
+        if fams[fam]:
+            test[key] = [{"opening_mm": op, val: _parse_num(cells[col], where, col)} for op, col in fams[fam]]
     plast = {}
     if cells.get("nonplastic"):
         plast["nonplastic"] = _parse_bool(cells["nonplastic"], where, "nonplastic")
@@ -238,21 +214,16 @@ def _column_of(rel_field: str) -> str:
     return top
 
 
-def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = False,
-               coarse_first: bool = False) -> dict:
+def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = False) -> dict:
     """One record from the non-blank cells of a row; ``where`` is ``csv.row[n]``;
-    ``colinfo`` maps each opening column to ``(family, opening_mm)``;
-    ``coarse_first`` (from :func:`parse_header`) says that the header has each
-    family's columns coarsest first, so the cells, in header order, need no
-    sorting."""
+    ``colinfo`` maps each opening column to ``(family, opening_mm)``."""
     fams = {f: [] for f in FAMILIES}
     for col in cells:
         info = colinfo.get(col)
         if info is not None:
             fams[info[0]].append((info[1], col))
-    if not coarse_first:
-        for lst in fams.values():
-            lst.sort(key=lambda t: -t[0])
+    for lst in fams.values():
+        lst.sort(key=lambda t: -t[0])
     if cells.get(MARKER) != CSV_VERSION:
         raise cell_error("unsupported_version", f"{where}.{MARKER}", f"must be {CSV_VERSION} (the CSV version "
                          f"this core reads), got {cells.get(MARKER, '')!r}.")
@@ -275,8 +246,6 @@ def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = Fal
         "band": _band_from(cells, fams, where),
         "history": _parse_json(cells["history_json"], f"{where}.history_json", list),
     }
-    if not check_json and _row_fits(rec):
-        return rec  # what check_record would return (it builds the same dict, keys in the same order)
     try:
         return check_record(rec, "", check_json=check_json)
     except InputError as err:
@@ -284,43 +253,13 @@ def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = Fal
         raise cell_error(err.code, f"{where}.{col}", err.message) from None
 
 
-def _row_fits(rec: dict) -> bool:
-    """True when :func:`check_record` (``check_json=False``) would accept a record
-    that :func:`row_record` built and return it unchanged. What the parsers
-    already guarantee (``rev`` a whole number, ``deleted`` a bool, ``meta`` a dict,
-    ``test`` and ``band`` dicts or None, ``history`` a list, every text a str) is
-    not checked again; False sends the record through check_record, which
-    names the first fault exactly as before."""
-    if rec["rev"] < 1 or rec["kind"] not in _KIND_RANK or not _UUID_RE.fullmatch(rec["record_id"]):
-        return False
-    if not is_iso_utc(rec["updated_at"]):
-        return False
-    exp = rec["exported_at"]
-    if exp is not None and not is_iso_utc(exp):
-        return False
-    for h in rec["history"]:
-        if type(h) is not dict:
-            return False
-        hrev = h.get("rev")
-        if type(hrev) is not int or hrev < 1 or not is_iso_utc(h.get("at")) or type(h.get("by")) is not str:
-            return False
-    return True
-
-
-def read_csv(text: str, path: str = "csv", *, memo: dict | None = None) -> tuple[list[dict], list[dict]]:
+def read_csv(text: str, path: str = "csv") -> tuple[list[dict], list[dict]]:
     """Parse and validate a whole CSV file.
 
     Returns ``(records, rows)`` where ``rows[i]`` is ``{"row": n, "calc": {...}}``
     for ``records[i]``: the spreadsheet row number and the stored calc cells
     (kept only for ``report`` to compare; never used as data). Identical rows
     for the same id are read once.
-
-    ``memo`` (optional, a dict the caller keeps while it reads several files,
-    see :func:`read_files`): a row whose cells (calc columns aside) are those
-    of a row read before gives that row's record object again instead of
-    being parsed a second time. The same cells always make the same record,
-    so only the work is saved; records are never changed after they are
-    built, so sharing one between files is safe.
 
     Raises
     ------
@@ -344,48 +283,18 @@ def read_csv(text: str, path: str = "csv", *, memo: dict | None = None) -> tuple
     csv.field_size_limit(_FIELD_LIMIT)
     try:
         with acyclic_work():
-            return _read_rows(text, path, memo)
+            return _read_rows(text, path)
     finally:
         csv.field_size_limit(old_limit)
 
 
 def read_files(texts, paths=None) -> list[list[dict]]:
-    """The records of several CSV files (``files[i]`` in errors unless ``paths``
-    names them), rows repeated across files read once (see ``memo`` in
-    :func:`read_csv`)."""
-    memo = {}
+    """The records of several CSV files (``files[i]`` in errors unless ``paths`` names them)."""
     with acyclic_work():  # one pause for all files: else each file's end makes the collector walk all before
-        return [read_csv(t, f"files[{i}]" if paths is None else paths[i], memo=memo)[0]
-                for i, t in enumerate(texts)]
+        return [read_csv(t, f"files[{i}]" if paths is None else paths[i])[0] for i, t in enumerate(texts)]
 
 
-def _memo_key(cols: list[str]):
-    """How a row of a file with header ``cols`` is keyed in a reading memo: a function
-    of the row naming its non-blank cells and their columns, calc columns left
-    out (they are never data), so the same record gives the same key whatever
-    the calc cells and whatever other columns the header has. The parts are
-    joined by U+FFFD, which :func:`read_csv` refuses anywhere in a file, so
-    the key tells the cells apart exactly."""
-    sep = "\ufffd"
-    calc = [i for i, c in enumerate(cols) if c in _CALC_SET]
-    if not calc:
-        return lambda row: (sep.join(compress(cols, row)), sep.join(compress(row, row)))
-    a, b = calc[0], calc[-1] + 1
-    if b - a == len(calc):  # one block (as this module writes them): cut it out at C speed
-        rest = cols[:a] + cols[b:]
-
-        def cut(row):
-            r = row[:a] + row[b:]
-            return sep.join(compress(rest, r)), sep.join(compress(r, r))
-        return cut
-
-    def scattered(row):
-        pairs = [p for p in compress(zip(cols, row), row) if p[0] not in _CALC_SET]
-        return sep.join(p[0] for p in pairs), sep.join(p[1] for p in pairs)
-    return scattered
-
-
-def _read_rows(text: str, path: str, memo):
+def _read_rows(text: str, path: str):
     reader = csv.reader(io.StringIO(text, newline=""), strict=True)
     n = 0
     records, rows, by_id = [], [], {}
@@ -396,7 +305,6 @@ def _read_rows(text: str, path: str, memo):
                 hdr = parse_header(row, path)
                 cols = hdr["cols"]
                 calc_cols = [c for c in CALC_COLUMNS if c in hdr["static"]]
-                keyed = None if memo is None else _memo_key(cols)
                 continue
             if not any(row):
                 continue  # a blank line holds nothing
@@ -405,28 +313,18 @@ def _read_rows(text: str, path: str, memo):
                 raise InputError("wrong_cell_count", f"Row {n} has {len(row)} cells but the header has "
                                                      f"{len(cols)}; the line may be truncated or hold an "
                                                      "unquoted comma.", where)
-            if memo is None:
-                cells = dict(compress(zip(cols, row), row))  # the non-blank cells
-                rec = row_record(cells, hdr["colinfo"], where, coarse_first=hdr["coarse_first"])
-            else:
-                key = keyed(row)
-                rec = memo.get(key)
-                if rec is None:
-                    cells = dict(compress(zip(cols, row), row))
-                    rec = memo[key] = row_record(cells, hdr["colinfo"], where, coarse_first=hdr["coarse_first"])
-                elif calc_cols:  # a row read before: only its calc cells are wanted
-                    cells = dict(compress(zip(cols, row), row))
+            cells = {col: cell for col, cell in zip(cols, row) if cell}  # the non-blank cells
+            rec = row_record(cells, hdr["colinfo"], where)
             prev = by_id.get(rec["record_id"])
             if prev is not None:
-                if prev[0] is rec or (content_key(prev[0]) == content_key(rec) and prev[0]["history"] ==
-                                      rec["history"] and prev[0]["exported_at"] == rec["exported_at"]):
+                if (content_key(prev[0]) == content_key(rec) and prev[0]["history"] == rec["history"]
+                        and prev[0]["exported_at"] == rec["exported_at"]):
                     continue
                 raise cell_error("duplicate_id", f"{where}.record_id", f"record {rec['record_id']} is also on row "
                                  f"{prev[1]} with different content.")
             by_id[rec["record_id"]] = (rec, n)
             records.append(rec)
-            rows.append({"row": n, "calc": {c: unescape_text(cells[c]) for c in calc_cols if c in cells}
-                         if calc_cols else {}})
+            rows.append({"row": n, "calc": {c: unescape_text(cells[c]) for c in calc_cols if c in cells}})
     except csv.Error as exc:
         n += 1  # the row being read when the reader gave up
         raise InputError("bad_csv", f"Row {n}: {exc} (an opened quote is never closed, or text follows a "

@@ -12,8 +12,8 @@ import math
 import re
 
 from .csv_format import CALC_COLUMNS, CSV_VERSION, FAMILIES, FIXED_COLUMNS, MARKER, META_COLUMNS, TEST_HEAD, \
-    TEST_TAIL, TRIGGERS, escape_text, fmt_num
-from .record import META_NUM, META_TEXT, PLASTICITY_NUM, TEST_NUM, _is_num, acyclic_work, dump_json, row_order
+    TEST_TAIL, escape_text, fmt_num
+from .record import META_NUM, META_TEXT, PLASTICITY_NUM, TEST_NUM, acyclic_work, dump_json, is_number, row_order
 
 _META_TEXT_SET, _META_NUM_SET, _TEST_NUM_SET = frozenset(META_TEXT), frozenset(META_NUM), frozenset(TEST_NUM)
 
@@ -24,7 +24,7 @@ def _falling_fit(v, entry_fits) -> bool:
         return False
     last = math.inf
     for e in v:
-        if not isinstance(e, dict) or not _is_num(e.get("opening_mm")) or not entry_fits(e):
+        if not isinstance(e, dict) or not is_number(e.get("opening_mm")) or not entry_fits(e):
             return False
         op = float(e["opening_mm"])
         if not (0 < op < last):
@@ -37,7 +37,7 @@ def _limit_fits(e: dict) -> bool:
     if set(e) != {"opening_mm", "min_pct", "max_pct"}:
         return False
     lo, hi = e["min_pct"], e["max_pct"]
-    return (lo is not None or hi is not None) and (lo is None or _is_num(lo)) and (hi is None or _is_num(hi))
+    return (lo is not None or hi is not None) and (lo is None or is_number(lo)) and (hi is None or is_number(hi))
 
 
 def _limits_fit(v) -> bool:
@@ -53,7 +53,7 @@ def _plasticity_fit(v) -> bool:
             if not isinstance(x, bool):
                 return False
         elif k in PLASTICITY_NUM:
-            if not _is_num(x):
+            if not is_number(x):
                 return False
         else:
             return False
@@ -74,8 +74,8 @@ def record_cells(rec: dict) -> dict:
     extra = {}
     for k, v in rec["meta"].items():
         if k in _META_TEXT_SET and isinstance(v, str):
-            c[k] = "'" + v if not v or v[0] in TRIGGERS else v  # escape_text, inlined
-        elif k in _META_NUM_SET and _is_num(v):
+            c[k] = escape_text(v)
+        elif k in _META_NUM_SET and is_number(v):
             c[k] = fmt_num(v)
         elif k == "rules" and isinstance(v, dict):
             c["rules_json"] = escape_text(dump_json(v))
@@ -105,7 +105,7 @@ def _group_cells(obj: dict, put, c: dict, extra_col: str) -> None:
 
 def _test_cell(k: str, v, c: dict) -> bool:
     """Put test key ``k`` into its columns if they hold it exactly; False if not."""
-    if k in _TEST_NUM_SET and _is_num(v):
+    if k in _TEST_NUM_SET and is_number(v):
         c[k] = fmt_num(v)
     elif k in ("sieves", "passing"):
         got = _pairs_cells(v, "retained_g" if k == "sieves" else "passing_pct")
@@ -122,17 +122,9 @@ def _test_cell(k: str, v, c: dict) -> bool:
     return True
 
 
-#: (family, opening_mm) -> column name, filled as columns are written (bounded: openings come from files).
-_COLUMN_NAMES: dict = {}
-
-
-def _column_name(family: str, opening_mm: float) -> str:
-    name = _COLUMN_NAMES.get((family, opening_mm))
-    if name is None:
-        name = f"{family}@{fmt_num(opening_mm)}mm"
-        if len(_COLUMN_NAMES) < 4096:
-            _COLUMN_NAMES[(family, opening_mm)] = name
-    return name
+def column_name(family: str, opening_mm: float) -> str:
+    """The column of ``family`` at ``opening_mm`` [mm], e.g. ``retained_g@4.75mm``."""
+    return f"{family}@{fmt_num(opening_mm)}mm"
 
 
 def _pairs_cells(v, val: str):
@@ -140,19 +132,18 @@ def _pairs_cells(v, val: str):
     (a non-empty list of such pairs of numbers, openings strictly falling), else None."""
     if not isinstance(v, list) or not v:
         return None
-    out, last, names = {}, math.inf, _COLUMN_NAMES
+    out, last = {}, math.inf
     for e in v:
         if not isinstance(e, dict) or len(e) != 2:
             return None
         op, x = e.get("opening_mm"), e.get(val)
-        if not (_is_num(op) and _is_num(x)):
+        if not (is_number(op) and is_number(x)):
             return None
         op = float(op)
         if not (0 < op < last):
             return None
         last = op
-        r = repr(x if type(x) is float else float(x))  # fmt_num, inlined
-        out[names.get((val, op)) or _column_name(val, op)] = r[:-2] if r[-2:] == ".0" else r
+        out[column_name(val, op)] = fmt_num(x)
     return out
 
 
@@ -162,11 +153,10 @@ def _band_cell(k: str, v, c: dict) -> bool:
         c["band_name"] = escape_text(v)
     elif k == "limits" and _limits_fit(v):
         for e in v:
-            o = fmt_num(e["opening_mm"])
             if e["min_pct"] is not None:
-                c[f"band_min_pct@{o}mm"] = fmt_num(e["min_pct"])
+                c[column_name("band_min_pct", e["opening_mm"])] = fmt_num(e["min_pct"])
             if e["max_pct"] is not None:
-                c[f"band_max_pct@{o}mm"] = fmt_num(e["max_pct"])
+                c[column_name("band_max_pct", e["opening_mm"])] = fmt_num(e["max_pct"])
     else:
         return False
     return True
@@ -185,26 +175,21 @@ def header_for(cell_dicts) -> list[str]:
             openings[fam].add(float(rest[:-2]))
     band_ops = sorted(openings["band_min_pct"] | openings["band_max_pct"], reverse=True)
     cols = list(FIXED_COLUMNS) + list(META_COLUMNS) + list(TEST_HEAD)
-    cols += [f"retained_g@{fmt_num(o)}mm" for o in sorted(openings["retained_g"], reverse=True)]
-    cols += [f"passing_pct@{fmt_num(o)}mm" for o in sorted(openings["passing_pct"], reverse=True)]
+    cols += [column_name("retained_g", o) for o in sorted(openings["retained_g"], reverse=True)]
+    cols += [column_name("passing_pct", o) for o in sorted(openings["passing_pct"], reverse=True)]
     cols += list(TEST_TAIL) + ["band_name"]
     for o in band_ops:
-        cols += [f"band_min_pct@{fmt_num(o)}mm", f"band_max_pct@{fmt_num(o)}mm"]
+        cols += [column_name("band_min_pct", o), column_name("band_max_pct", o)]
     cols += ["band_extra_json"] + list(CALC_COLUMNS) + ["history_json"]
     return cols
 
 
 _NEEDS_QUOTES = re.compile('[,"\r\n]')
-#: Columns whose cells this module writes without a comma, quote or line break: the CSV
-#: version, a UUID, a kind, a whole number, ISO times, true/false, and numbers (``fmt_num``;
-#: the opening columns, whose names hold ``@``, too).
-_PLAIN_COLUMNS = frozenset((MARKER, "record_id", "kind", "rev", "updated_at", "deleted", "exported_at")
-                           + META_NUM + TEST_NUM + PLASTICITY_NUM + ("nonplastic", "dispersive")
-                           + ("calc_d10_mm", "calc_d15_mm", "calc_d60_mm", "calc_d85_mm", "calc_cu",
-                              "calc_fines_pct"))
 
 
-def _quote(cell: str) -> str:
+def quote(cell: str) -> str:
+    """A cell as RFC 4180 writes it: enclosed in double quotes, an embedded quote doubled, when it
+    holds a comma, a quote or a line break."""
     if _NEEDS_QUOTES.search(cell):
         return '"' + cell.replace('"', '""') + '"'
     return cell
@@ -225,14 +210,11 @@ def _write_rows(records, summaries, bom: bool) -> str:
             c.update(summaries.get(r["record_id"], {}))
     header = header_for(cells)
     pos = {h: i for i, h in enumerate(header)}
-    lines = [",".join(_quote(h) for h in header)]
-    blank = [""] * len(header)
-    quotes = _NEEDS_QUOTES.search
-    plain = {h for h in header if h in _PLAIN_COLUMNS or "@" in h}  # cells that never need quotes
+    lines = [",".join(quote(h) for h in header)]
     for c in cells:
-        row = blank[:]
+        row = [""] * len(header)
         for col, v in c.items():
-            row[pos[col]] = v if col in plain or not quotes(v) else '"' + v.replace('"', '""') + '"'
+            row[pos[col]] = quote(v)
         lines.append(",".join(row))
     if bom:
         lines[0] = "\ufeff" + lines[0]

@@ -7,7 +7,7 @@
 
 from __future__ import annotations
 
-from .record import CONTENT_KEYS, _floats, acyclic_work, content_key, dump_json, row_order
+from .record import acyclic_work, content_key, dump_json, floats_only, row_order
 
 
 def _head_mark(rec: dict) -> tuple:
@@ -28,46 +28,19 @@ def descends(a: dict, b: dict) -> bool:
     return any((h["rev"], h["at"], h["by"]) == mark for h in a["history"])
 
 
-def merge_history(*histories, memo=None) -> list:
+def merge_history(*histories) -> list:
     """Union of history entries (an entry once, whatever the key order or int/float
-    spelling of its numbers), ordered by rev, time, content."""
-    longest = max(histories, key=len) if histories else None  # the first of the longest
-    if longest is not None and _ordered(longest):
-        texts = {}  # length -> text of that many first entries of ``longest``
-        for h in histories:
-            if h is longest:
-                continue
-            n = len(h)
-            if n not in texts:
-                texts[n] = dump_json(longest[:n])
-            if dump_json(h) != texts[n]:
-                break
-        else:
-            # every history is spelled as the start of ``longest`` (copies of one
-            # history, or older revisions' histories): ``longest`` is the union, in order
-            return list(longest)
-    # memo: id(entry) -> (canonical text, text, entry), and text -> canonical text
-    # (copies of one entry in several files are spelled alike: canonicalised once)
-    memo = {} if memo is None else memo
-    best = {}
+    spelling of its numbers: the spelling that is the smallest text is kept),
+    ordered by rev, time, content."""
+    best = {}  # canonical text -> (spelled text, entry)
     for hist in histories:
         for h in hist:
-            keys = memo.get(id(h))
-            if keys is None:
-                spelled = dump_json(h)
-                canon = memo.get(spelled)
-                if canon is None:
-                    canon = memo[spelled] = dump_json(_floats(h))
-                keys = memo[id(h)] = (canon, spelled, h)
-            prev = best.get(keys[0])
-            if prev is None or keys[1] < prev[1]:
-                best[keys[0]] = keys
-    return [k[2] for k in sorted(best.values(), key=lambda k: (k[2]["rev"], k[2]["at"], k[0]))]
-
-
-def _ordered(hist: list) -> bool:
-    """Entries strictly increasing by (rev, time), so no two can be the same entry."""
-    return all((a["rev"], a["at"]) < (b["rev"], b["at"]) for a, b in zip(hist, hist[1:]))
+            spelled = dump_json(h)
+            canon = dump_json(floats_only(h))
+            prev = best.get(canon)
+            if prev is None or spelled < prev[0]:
+                best[canon] = (spelled, h)
+    return [best[c][1] for c in sorted(best, key=lambda c: (best[c][1]["rev"], best[c][1]["at"], c))]
 
 
 def _latest(values):
@@ -75,49 +48,39 @@ def _latest(values):
     return max(vals) if vals else None
 
 
-def _content_groups(versions: list[dict]) -> dict:
-    """Versions of one id grouped by content: ``{sort key: [versions]}``, each
-    group's first version the one of smallest spelling. The keys and the first
-    versions are the same whatever the order of ``versions``."""
-    buckets = {}
-    for v in versions:
-        buckets.setdefault((v["rev"], v["updated_at"], v["updated_by"], v["deleted"], v["kind"]), []).append(v)
-    groups = {}
-    for pre, vs in buckets.items():
-        if len(vs) == 1:
-            groups[(pre, "")] = vs
-            continue
-        spelled = {}
-        for v in vs:  # identical text is identical content (the usual case: copies of one row)
-            spelled.setdefault(dump_json({k: v[k] for k in CONTENT_KEYS}), []).append(v)
-        canon = {}
-        for text in sorted(spelled):  # other spellings are compared canonically (key order, 12 vs 12.0)
-            canon.setdefault(content_key(spelled[text][0]) if len(spelled) > 1 else "", []).extend(spelled[text])
-        for ck, group in canon.items():
-            groups[(pre, ck)] = group
-    return groups
-
-
 def merge_versions(versions: list[dict]) -> tuple[dict, list[dict]]:
     """Merge every known version of ONE record id; the answer does not depend on
     the order of ``versions``.
 
+    Copies of one version (the same text) are that version, kept as it is.
     Versions with the same content are one version (histories united,
-    ``exported_at`` the latest). A version that another one descends from
-    (:func:`descends`) is superseded, its history kept in the winner. If
-    one version remains it wins. If several remain, they are in conflict:
-    the one with the highest (rev, updated_at, content) is kept and each
-    other one is returned as a conflicting version, so nothing is lost.
+    ``exported_at`` the latest; the spelling that is the smallest text kept). A
+    version that another one descends from (:func:`descends`) is superseded, its
+    history kept in the winner. If one version remains it wins. If several
+    remain, they are in conflict: the one with the highest (rev, updated_at,
+    content) is kept and each other one is returned as a conflicting version, so
+    nothing is lost.
 
     Returns
     -------
     (kept, others) : the record to keep, and the versions that conflict with it.
     """
-    memo = {}
+    if len(versions) == 1:
+        return versions[0], []
+    texts = {}
+    for v in versions:
+        texts.setdefault(dump_json(v), v)
+    if len(texts) == 1:
+        return versions[0], []
+    groups = {}
+    for text in sorted(texts):  # each group's first version the one of smallest spelling
+        v = texts[text]
+        key = (v["rev"], v["updated_at"], v["updated_by"], v["deleted"], v["kind"], content_key(v))
+        groups.setdefault(key, []).append(v)
     merged = {}
-    for key, vs in _content_groups(versions).items():
+    for key, vs in groups.items():
         rep = dict(vs[0])
-        rep["history"] = merge_history(*(v["history"] for v in vs), memo=memo)
+        rep["history"] = merge_history(*(v["history"] for v in vs))
         rep["exported_at"] = _latest(v["exported_at"] for v in vs)
         merged[key] = rep
     keys = sorted(merged)
@@ -134,7 +97,7 @@ def merge_versions(versions: list[dict]) -> tuple[dict, list[dict]]:
                 reach.add(j)
                 todo.append(j)
     kept = dict(merged[top])
-    kept["history"] = merge_history(*(merged[k]["history"] for k in sorted(reach)), memo=memo)
+    kept["history"] = merge_history(*(merged[k]["history"] for k in sorted(reach)))
     return kept, [merged[k] for k in heads[1:]]
 
 
@@ -153,13 +116,7 @@ def _merge_all(record_lists):
             by_id.setdefault(r["record_id"], []).append(r)
     out, conflicts = [], []
     for rid in sorted(by_id):
-        vs = by_id[rid]
-        if len(vs) > 1:  # copies of one row, read once (read_csv's memo), are one version
-            vs = list({id(v): v for v in vs}.values())
-        if len(vs) == 1:
-            out.append(vs[0])
-            continue
-        kept, others = merge_versions(vs)
+        kept, others = merge_versions(by_id[rid])
         out.append(kept)
         for o in others:
             conflicts.append({"record_id": rid, "local": kept, "incoming": o, "reason": _conflict_reason(kept, o)})

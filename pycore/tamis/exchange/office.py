@@ -2,7 +2,7 @@
 
 ``python -m tamis merge A.csv B.csv ... -o OUT.csv``
     Merge files from several devices by record id and revision
-    (:func:`tamis.records.merge_all`); rows in a fixed order, so the same files
+    (:func:`tamis.exchange.merge.merge_all`); rows in a fixed order, so the same files
     in any order give the same bytes. Exit 1 when conflicts remain (the kept
     version is written, every other one is listed with ``--conflicts``).
 ``python -m tamis report FILE.csv [--json]``
@@ -157,7 +157,7 @@ def summaries_in_parallel(todo: list[dict], index: dict, jobs: int, progress=Non
 
 
 def calc_cells(records: list[dict], jobs: int, progress=None) -> dict:
-    """:func:`tamis.summaries.summaries_for` of ``records`` (no context), computed by
+    """:func:`tamis.exchange.summaries.summaries_for` of ``records`` (no context), computed by
     :func:`summaries_in_parallel`."""
     index = {r["record_id"]: r for r in records}
     todo = [r for r in records if r["kind"] != "band"]
@@ -165,12 +165,11 @@ def calc_cells(records: list[dict], jobs: int, progress=None) -> dict:
     return {r["record_id"]: S.summary_cells(s) for r, s in zip(todo, sums)}
 
 
-def read_file(path: str, memo: dict | None = None) -> tuple[list[dict], list[dict]]:
-    """Read and validate one CSV exchange file: ``(records, rows)``; ``memo`` as in
-    :func:`tamis.records.read_csv` (kept across the files of one merge)."""
+def read_file(path: str) -> tuple[list[dict], list[dict]]:
+    """Read and validate one CSV exchange file: ``(records, rows)`` (:func:`tamis.exchange.csv_read.read_csv`)."""
     with open(path, "rb") as fh:
         data = fh.read()
-    return read_csv(decode_csv_bytes(data), memo=memo)
+    return read_csv(decode_csv_bytes(data))
 
 
 def describe_error(path: str, err: InputError) -> str:
@@ -187,10 +186,10 @@ def run(name: str, args) -> int:
     return {"merge": _merge, "report": _report, "check": _check}[name](args)
 
 
-def _load(path: str, memo: dict | None = None):
+def _load(path: str):
     """``(records, rows)`` of a file, or the exit status after printing why it cannot be read."""
     try:
-        return read_file(path, memo)
+        return read_file(path)
     except InputError as err:
         return _fail(path, err)
     except OSError as err:
@@ -211,11 +210,11 @@ def _check(args) -> int:
 
 
 def _merge(args) -> int:
-    lists, memo = [], {}
+    lists = []
     reading = Progress("read", "files", min_total=PROGRESS_MIN_FILES)
     with acyclic_work():  # one pause over all files and the merge: the collector would walk every record
         for i, path in enumerate(args.files, 1):
-            loaded = _load(path, memo)
+            loaded = _load(path)
             if isinstance(loaded, int):
                 return loaded
             lists.append(loaded[0])

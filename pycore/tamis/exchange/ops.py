@@ -6,7 +6,7 @@ from ..errors import InputError, require_list, require_mapping
 from .csv_read import read_csv, read_files
 from .csv_write import write_csv
 from .merge import import_records, merge_all
-from .record import _iso, check_records
+from .record import check_records, iso_field
 from .summaries import summaries_for
 
 
@@ -45,7 +45,7 @@ def op_import_csv(req: dict):
                              f"resolve.{rid}")
     at = by = None
     if resolve:
-        at = _iso(req, "at", "")
+        at = iso_field(req, "at", "")
         by = req.get("by")
         if not isinstance(by, str):
             raise InputError("not_a_string", "by must be text (initials or a name) when resolve is given.", "by")

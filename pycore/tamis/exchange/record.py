@@ -43,20 +43,11 @@ PLASTICITY_NUM = ("liquid_limit", "plasticity_index")
 
 _UUID_RE = re.compile(r"[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}", re.ASCII)
 _ISO_RE = re.compile(r"(\d{4})-(\d{2})-(\d{2})T(\d{2}):(\d{2}):(\d{2})(\.\d{1,9})?Z", re.ASCII)
-#: The times :func:`is_iso_utc` accepts on their text alone: a year other than 0000, a month,
-#: a day 01-28 (every month has it), a time of day 00:00:00-23:59:59.
-_ISO_SURE_RE = re.compile(r"(?!0000)\d{4}-(?:0[1-9]|1[0-2])-(?:0[1-9]|1\d|2[0-8])"
-                          r"T(?:[01]\d|2[0-3]):[0-5]\d:[0-5]\d(?:\.\d{1,9})?Z", re.ASCII)
 _MAX_EXACT_INT = 2 ** 53
 
 
-def _is_num(v) -> bool:
-    """A finite JSON number that a float holds exactly."""
-    t = type(v)
-    if t is float:      # the usual cases first (bool is its own type, never these two)
-        return math.isfinite(v)
-    if t is int:
-        return abs(v) <= _MAX_EXACT_INT
+def is_number(v) -> bool:
+    """A finite JSON number that a float holds exactly (true and false are not numbers)."""
     if isinstance(v, bool) or not isinstance(v, (int, float)):
         return False
     if isinstance(v, int):
@@ -95,16 +86,10 @@ def acyclic_work():
 
 def is_iso_utc(s) -> bool:
     """``YYYY-MM-DDTHH:MM:SS[.fraction]Z`` naming a real instant (ISO 8601 / RFC 3339, UTC)."""
-    if not isinstance(s, str):
-        return False
-    if _ISO_SURE_RE.fullmatch(s):
-        return True
-    m = _ISO_RE.fullmatch(s)
+    m = _ISO_RE.fullmatch(s) if isinstance(s, str) else None
     if not m:
         return False
     y, mo, d, h, mi, sec, _ = m.groups()
-    if "01" <= mo <= "12" and "01" <= d <= "28" and h <= "23" and mi <= "59" and sec <= "59" and y != "0000":
-        return True  # two-digit fields compared as text: a day every month has, a real time of day
     try:
         datetime(int(y), int(mo), int(d), int(h), int(mi), int(sec))
     except ValueError:
@@ -112,7 +97,9 @@ def is_iso_utc(s) -> bool:
     return True
 
 
-def _iso(obj: dict, key: str, path: str, *, optional: bool = False):
+def iso_field(obj: dict, key: str, path: str, *, optional: bool = False):
+    """``obj[key]``, an ISO 8601 UTC time (:func:`is_iso_utc`), or None when ``optional`` and absent;
+    else an error at ``path.key``."""
     v = obj.get(key)
     if v is None and optional:
         return None
@@ -160,7 +147,7 @@ def check_record(rec, path: str = "record", *, check_json: bool = True) -> dict:
     if isinstance(rev, bool) or not isinstance(rev, int) or rev < 1:
         raise InputError("bad_rev", f"{join(path, 'rev')} must be a whole number 1 or more, got {rev!r}.",
                          join(path, "rev"))
-    updated_at = _iso(rec, "updated_at", path)
+    updated_at = iso_field(rec, "updated_at", path)
     by = rec.get("updated_by")
     if not isinstance(by, str):
         raise InputError("not_a_string", f"{join(path, 'updated_by')} must be text (initials or a name).",
@@ -170,7 +157,7 @@ def check_record(rec, path: str = "record", *, check_json: bool = True) -> dict:
         deleted = False
     if not isinstance(deleted, bool):
         raise InputError("not_a_boolean", f"{join(path, 'deleted')} must be true or false.", join(path, "deleted"))
-    exported_at = _iso(rec, "exported_at", path, optional=True)
+    exported_at = iso_field(rec, "exported_at", path, optional=True)
     meta = rec.get("meta") or {}
     if not isinstance(meta, dict):
         require_mapping(meta, join(path, "meta"))
@@ -193,8 +180,7 @@ def check_record(rec, path: str = "record", *, check_json: bool = True) -> dict:
         if isinstance(hrev, bool) or not isinstance(hrev, int) or hrev < 1:
             hp = join(join(path, "history"), i)
             raise InputError("bad_rev", f"{join(hp, 'rev')} must be a whole number 1 or more.", join(hp, "rev"))
-        if not is_iso_utc(h.get("at")):
-            _iso(h, "at", join(join(path, "history"), i))
+        iso_field(h, "at", join(join(path, "history"), i))
         if not isinstance(h.get("by"), str):
             hp = join(join(path, "history"), i)
             raise InputError("not_a_string", f"{join(hp, 'by')} must be text.", join(hp, "by"))
@@ -241,19 +227,19 @@ def _plain_json(rec: dict, path: str) -> None:
 def content_key(rec: dict) -> str:
     """Canonical text of a revision's content: equal for equal content whatever the
     key order or int/float spelling of numbers (history and exported_at excluded)."""
-    return json.dumps(_floats({k: rec[k] for k in CONTENT_KEYS}), sort_keys=True, ensure_ascii=False,
+    return json.dumps(floats_only({k: rec[k] for k in CONTENT_KEYS}), sort_keys=True, ensure_ascii=False,
                       separators=(",", ":"))
 
 
-def _floats(obj):
+def floats_only(obj):
     """``obj`` with every int (not bool) turned into a float, for comparisons only."""
     t = type(obj)
     if t is int:
         return float(obj)
     if t is dict:
-        return {k: _floats(v) for k, v in obj.items()}
+        return {k: floats_only(v) for k, v in obj.items()}
     if t is list:
-        return [_floats(v) for v in obj]
+        return [floats_only(v) for v in obj]
     return obj
 
 

@@ -22,7 +22,7 @@ from ..errors import InputError
 from ..lab.reduction import reduce_test
 from ..project.evaluate import evaluate_reduced
 from .csv_format import escape_text, fmt_num
-from .record import _is_num
+from .record import is_number
 
 #: ``progress(done, total)`` is called after every this many records (and after the last).
 PROGRESS_STEP = 100
@@ -197,10 +197,10 @@ def summary_cells(s: dict) -> dict:
     """The ``calc_*`` cells of a summary (blank cells left out)."""
     c = {}
     for k, v in (s["d_mm"] or {}).items():
-        if _is_num(v):
+        if is_number(v):
             c[f"calc_{k.lower()}_mm"] = display_num(v)
     for k, col in (("cu", "calc_cu"), ("fines_pct", "calc_fines_pct")):
-        if _is_num(s[k]):
+        if is_number(s[k]):
             c[col] = display_num(s[k])
     if s["verdict"]:
         c["calc_verdict"] = escape_text(s["verdict"])
