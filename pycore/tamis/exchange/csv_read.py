@@ -19,6 +19,8 @@ from .csv_format import CALC_COLUMNS, CSV_VERSION, FAMILIES, FAMILY_RE, MARKER, 
     REQUIRED_COLUMNS, STATIC_COLUMNS, unescape_text
 from .record import META_NUM, META_TEXT, PLASTICITY_NUM, TEST_NUM, acyclic_work, check_record, content_key
 
+CALC_SET = frozenset(CALC_COLUMNS)
+
 _FIELD_LIMIT = 1 << 26  # 64 Mi characters per cell while reading
 
 
@@ -253,13 +255,19 @@ def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = Fal
         raise cell_error(err.code, f"{where}.{col}", err.message) from None
 
 
-def read_csv(text: str, path: str = "csv") -> tuple[list[dict], list[dict]]:
+def read_csv(text: str, path: str = "csv", *, memo: dict | None = None) -> tuple[list[dict], list[dict]]:
     """Parse and validate a whole CSV file.
 
     Returns ``(records, rows)`` where ``rows[i]`` is ``{"row": n, "calc": {...}}``
     for ``records[i]``: the spreadsheet row number and the stored calc cells
     (kept only for ``report`` to compare; never used as data). Identical rows
     for the same id are read once.
+
+    ``memo`` (a dict the caller keeps while it reads several files, see
+    :func:`read_files`): a row whose cells, calc columns aside, are those of a
+    row read before gives that row's record object again instead of being
+    parsed a second time. The same cells make the same record and records are
+    never changed once built, so only the work is saved.
 
     Raises
     ------
@@ -283,18 +291,21 @@ def read_csv(text: str, path: str = "csv") -> tuple[list[dict], list[dict]]:
     csv.field_size_limit(_FIELD_LIMIT)
     try:
         with acyclic_work():
-            return _read_rows(text, path)
+            return _read_rows(text, path, memo)
     finally:
         csv.field_size_limit(old_limit)
 
 
 def read_files(texts, paths=None) -> list[list[dict]]:
-    """The records of several CSV files (``files[i]`` in errors unless ``paths`` names them)."""
+    """The records of several CSV files (``files[i]`` in errors unless ``paths`` names them),
+    a row repeated across files read once (``memo`` of :func:`read_csv`)."""
+    memo = {}
     with acyclic_work():  # one pause for all files: else each file's end makes the collector walk all before
-        return [read_csv(t, f"files[{i}]" if paths is None else paths[i])[0] for i, t in enumerate(texts)]
+        return [read_csv(t, f"files[{i}]" if paths is None else paths[i], memo=memo)[0]
+                for i, t in enumerate(texts)]
 
 
-def _read_rows(text: str, path: str):
+def _read_rows(text: str, path: str, memo: dict | None):
     reader = csv.reader(io.StringIO(text, newline=""), strict=True)
     n = 0
     records, rows, by_id = [], [], {}
@@ -314,11 +325,17 @@ def _read_rows(text: str, path: str):
                                                      f"{len(cols)}; the line may be truncated or hold an "
                                                      "unquoted comma.", where)
             cells = {col: cell for col, cell in zip(cols, row) if cell}  # the non-blank cells
-            rec = row_record(cells, hdr["colinfo"], where)
+            if memo is None:
+                rec = row_record(cells, hdr["colinfo"], where)
+            else:
+                key = tuple(item for item in cells.items() if item[0] not in CALC_SET)
+                rec = memo.get(key)
+                if rec is None:
+                    rec = memo[key] = row_record(cells, hdr["colinfo"], where)
             prev = by_id.get(rec["record_id"])
             if prev is not None:
-                if (content_key(prev[0]) == content_key(rec) and prev[0]["history"] == rec["history"]
-                        and prev[0]["exported_at"] == rec["exported_at"]):
+                if prev[0] is rec or (content_key(prev[0]) == content_key(rec) and prev[0]["history"] == rec["history"]
+                                      and prev[0]["exported_at"] == rec["exported_at"]):
                     continue
                 raise cell_error("duplicate_id", f"{where}.record_id", f"record {rec['record_id']} is also on row "
                                  f"{prev[1]} with different content.")

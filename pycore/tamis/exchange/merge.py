@@ -65,6 +65,7 @@ def merge_versions(versions: list[dict]) -> tuple[dict, list[dict]]:
     -------
     (kept, others) : the record to keep, and the versions that conflict with it.
     """
+    versions = list({id(v): v for v in versions}.values())  # one record object read twice is one version
     if len(versions) == 1:
         return versions[0], []
     texts = {}

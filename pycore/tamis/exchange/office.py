@@ -165,11 +165,12 @@ def calc_cells(records: list[dict], jobs: int, progress=None) -> dict:
     return {r["record_id"]: S.summary_cells(s) for r, s in zip(todo, sums)}
 
 
-def read_file(path: str) -> tuple[list[dict], list[dict]]:
-    """Read and validate one CSV exchange file: ``(records, rows)`` (:func:`tamis.exchange.csv_read.read_csv`)."""
+def read_file(path: str, memo: dict | None = None) -> tuple[list[dict], list[dict]]:
+    """Read and validate one CSV exchange file: ``(records, rows)``; ``memo`` as in
+    :func:`tamis.exchange.csv_read.read_csv` (kept across the files of one merge)."""
     with open(path, "rb") as fh:
         data = fh.read()
-    return read_csv(decode_csv_bytes(data))
+    return read_csv(decode_csv_bytes(data), memo=memo)
 
 
 def describe_error(path: str, err: InputError) -> str:
@@ -186,10 +187,10 @@ def run(name: str, args) -> int:
     return {"merge": _merge, "report": _report, "check": _check}[name](args)
 
 
-def _load(path: str):
+def _load(path: str, memo: dict | None = None):
     """``(records, rows)`` of a file, or the exit status after printing why it cannot be read."""
     try:
-        return read_file(path)
+        return read_file(path, memo)
     except InputError as err:
         return _fail(path, err)
     except OSError as err:
@@ -210,11 +211,11 @@ def _check(args) -> int:
 
 
 def _merge(args) -> int:
-    lists = []
+    lists, memo = [], {}
     reading = Progress("read", "files", min_total=PROGRESS_MIN_FILES)
     with acyclic_work():  # one pause over all files and the merge: the collector would walk every record
         for i, path in enumerate(args.files, 1):
-            loaded = _load(path)
+            loaded = _load(path, memo)
             if isinstance(loaded, int):
                 return loaded
             lists.append(loaded[0])
