@@ -7,7 +7,7 @@
 
 from __future__ import annotations
 
-from .record import acyclic_work, content_key, dump_json, floats_only, row_order
+from .record import CONTENT_KEYS, acyclic_work, content_key, dump_json, floats_only, row_order
 
 
 def _head_mark(rec: dict) -> tuple:
@@ -48,14 +48,39 @@ def _latest(values):
     return max(vals) if vals else None
 
 
+def _content_groups(versions: list[dict]) -> dict:
+    """Versions of one id grouped by content: ``{sort key: [versions]}``, each
+    group's first version the one of smallest spelling. Versions are first
+    bucketed by rev, time, author, deleted and kind (equal content has them
+    equal); only a bucket of several is spelled out and, when the spellings
+    differ, compared canonically (:func:`~tamis.exchange.record.content_key`).
+    The keys and the first versions are the same whatever the order of ``versions``."""
+    buckets = {}
+    for v in versions:
+        buckets.setdefault((v["rev"], v["updated_at"], v["updated_by"], v["deleted"], v["kind"]), []).append(v)
+    groups = {}
+    for pre, vs in buckets.items():
+        if len(vs) == 1:
+            groups[(pre, "")] = vs
+            continue
+        spelled = {}
+        for v in vs:
+            spelled.setdefault(dump_json({k: v[k] for k in CONTENT_KEYS}), []).append(v)
+        canon = {}
+        for text in sorted(spelled):
+            canon.setdefault(content_key(spelled[text][0]) if len(spelled) > 1 else "", []).extend(spelled[text])
+        for ck, group in canon.items():
+            groups[(pre, ck)] = group
+    return groups
+
+
 def merge_versions(versions: list[dict]) -> tuple[dict, list[dict]]:
     """Merge every known version of ONE record id; the answer does not depend on
     the order of ``versions``.
 
-    Copies of one version (the same text) are that version, kept as it is.
-    Versions with the same content are one version (histories united,
-    ``exported_at`` the latest; the spelling that is the smallest text kept). A
-    version that another one descends from (:func:`descends`) is superseded, its
+    One record object given twice is one version. Versions with the same
+    content are one version (histories united, ``exported_at`` the latest; the
+    spelling that is the smallest text kept). A version that another one descends from (:func:`descends`) is superseded, its
     history kept in the winner. If one version remains it wins. If several
     remain, they are in conflict: the one with the highest (rev, updated_at,
     content) is kept and each other one is returned as a conflicting version, so
@@ -68,18 +93,8 @@ def merge_versions(versions: list[dict]) -> tuple[dict, list[dict]]:
     versions = list({id(v): v for v in versions}.values())  # one record object read twice is one version
     if len(versions) == 1:
         return versions[0], []
-    texts = {}
-    for v in versions:
-        texts.setdefault(dump_json(v), v)
-    if len(texts) == 1:
-        return versions[0], []
-    groups = {}
-    for text in sorted(texts):  # each group's first version the one of smallest spelling
-        v = texts[text]
-        key = (v["rev"], v["updated_at"], v["updated_by"], v["deleted"], v["kind"], content_key(v))
-        groups.setdefault(key, []).append(v)
     merged = {}
-    for key, vs in groups.items():
+    for key, vs in _content_groups(versions).items():
         rep = dict(vs[0])
         rep["history"] = merge_history(*(v["history"] for v in vs))
         rep["exported_at"] = _latest(v["exported_at"] for v in vs)
