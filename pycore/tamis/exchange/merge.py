@@ -31,7 +31,24 @@ def descends(a: dict, b: dict) -> bool:
 def merge_history(*histories) -> list:
     """Union of history entries (an entry once, whatever the key order or int/float
     spelling of its numbers: the spelling that is the smallest text is kept),
-    ordered by rev, time, content."""
+    ordered by rev, time, content.
+
+    When the longest history is in order (rev, time strictly increasing) and
+    every other is spelled as its first entries (copies of one history, or
+    older revisions' histories), that longest history is the union as it is."""
+    longest = max(histories, key=len) if histories else None  # the first of the longest
+    if longest is not None and _ordered(longest):
+        starts = {}  # length -> text of that many first entries of ``longest``
+        for h in histories:
+            if h is longest:
+                continue
+            n = len(h)
+            if n not in starts:
+                starts[n] = dump_json(longest[:n])
+            if dump_json(h) != starts[n]:
+                break
+        else:
+            return list(longest)
     best = {}  # canonical text -> (spelled text, entry)
     for hist in histories:
         for h in hist:
@@ -41,6 +58,11 @@ def merge_history(*histories) -> list:
             if prev is None or spelled < prev[0]:
                 best[canon] = (spelled, h)
     return [best[c][1] for c in sorted(best, key=lambda c: (best[c][1]["rev"], best[c][1]["at"], c))]
+
+
+def _ordered(hist: list) -> bool:
+    """Entries strictly increasing by (rev, time), so no two can be the same entry."""
+    return all((a["rev"], a["at"]) < (b["rev"], b["at"]) for a, b in zip(hist, hist[1:]))
 
 
 def _latest(values):
