@@ -1,24 +1,23 @@
-"""Shortcuts in the reader and the merge give the answers of the full rules.
+"""The reader and the merge: faults named at their cell, and the two speed shortcuts
+that are kept (docs/records.md) giving the answers of the plain rules.
 
-- Times: ``is_iso_utc`` decides most dates on their text (a day 01-28 exists
-  in every month); every other date is decided by the standard library's
-  ``datetime`` (proleptic Gregorian calendar, years 1-9999, Python
-  documentation, ``datetime`` module), which is the reference here.
-- Rows: the reader returns a row without a second validation when it already
-  fits; a row that does not must still be refused at the same cell, with the
-  same code, as ``docs/csv.md`` describes (header = row 1).
+- Rows: a row that does not fit the record must be refused at its cell, with
+  its code, as ``docs/csv.md`` describes (header = row 1); times are real
+  instants of the calendar (the standard library's ``datetime``, proleptic
+  Gregorian calendar, years 1-9999, Python documentation).
 - History union: ``merge_history`` returns the longer history as it is when
   the others are spelled as its first entries; the expected unions below are
   computed independently from the rule in its docstring (an entry once, the
   int/float spellings of one number the same entry, the spelling that is the
   smallest text kept, ordered by rev then time then content).
+- Rows shared between files: ``read_files`` reads a row repeated in several
+  files once; each file must still give what it gives alone.
 """
 
 from __future__ import annotations
 
 import json
 import random
-from datetime import datetime
 
 import pytest
 
@@ -27,36 +26,6 @@ from tamis.exchange import csv_read, csv_write, merge, record
 from tamis.errors import InputError
 from test_records import UID, UID2, parse_rfc4180, rec
 from test_records_import import edit, good_file, reject
-
-
-# ------------------------------------------------------------ times
-
-def _real(y, mo, d, h, mi, s) -> bool:
-    try:
-        datetime(int(y), int(mo), int(d), int(h), int(mi), int(s))
-    except ValueError:
-        return False
-    return True
-
-
-@pytest.mark.parametrize("year", ["0000", "0001", "1900", "2000", "2023", "2024", "9999"])
-def test_every_day_of_every_month_is_judged_as_the_calendar_does(year):
-    days = [f"{d:02d}" for d in range(0, 33)] + ["99"]
-    months = [f"{m:02d}" for m in range(0, 14)] + ["99"]
-    for mo in months:
-        for d in days:
-            text = f"{year}-{mo}-{d}T12:30:45Z"
-            assert record.is_iso_utc(text) is _real(year, mo, d, 12, 30, 45), text
-
-
-@pytest.mark.parametrize("clock", ["00:00:00", "23:59:59", "24:00:00", "23:60:00", "23:59:60", "29:00:00",
-                                   "09:99:00", "19:00:59.123456789"])
-def test_times_of_day_are_judged_as_the_calendar_does(clock):
-    for date in ("2026-01-15", "2026-02-28", "2024-02-29", "2026-12-31"):
-        text = f"{date}T{clock}Z"
-        y, mo, d = date.split("-")
-        h, mi, s = clock[:8].split(":")
-        assert record.is_iso_utc(text) is _real(y, mo, d, h, mi, s), text
 
 
 # ------------------------------------------------------------ rows refused at the same cell
@@ -186,11 +155,10 @@ def test_merge_keeps_the_newer_revision_with_its_whole_history():
     assert mine["rev"] == 2 and spelled(mine["history"]) == spelled(v2["history"])
 
 
-# ------------------------------------------------------------ numbers read in bulk
+# ------------------------------------------------------------ numbers
 
 def test_of_two_bad_numbers_the_first_in_reading_order_is_named():
-    # docs/csv.md: a row is read column group by column group, sieves coarsest first; the bulk
-    # check of a row's numbers must name the same cell as reading them one by one.
+    # docs/csv.md: a row is read column group by column group, sieves coarsest first.
     text = edit(edit(good_file(), 2, "retained_g@9.5mm", "x"), 2, "retained_g@4.75mm", "1e999")
     reject(text, "csv.row[2].retained_g@9.5mm", "not_a_number", "'x'")
     text = edit(edit(good_file(), 2, "retained_g@9.5mm", "1e999"), 2, "retained_g@4.75mm", "x")
@@ -200,7 +168,7 @@ def test_of_two_bad_numbers_the_first_in_reading_order_is_named():
 
 
 @pytest.mark.parametrize("cells", [["1", "2"], ["+1.", ".5e-3"], ["0", "-0.0"], ["12", "7E2"]])
-def test_numbers_read_in_bulk_are_those_float_reads(cells):
+def test_numbers_are_read_as_float_reads_them(cells):
     r = record.check_record(rec())
     text = csv_write.write_csv([r])
     for col, v in zip(("retained_g@9.5mm", "retained_g@4.75mm"), cells):
