@@ -1,4 +1,4 @@
-"""The CSV codec of tamis.records: format rules and the exact round trip.
+"""The CSV codec of tamis.exchange (csv_write, csv_read): format rules and the exact round trip.
 
 Sources checked against:
 - RFC 4180 (IETF, Oct 2005), section 2, rules 1-7: CRLF line ends, a header

@@ -3,7 +3,7 @@
 :func:`run_filter_checks` is the hook ``evaluate`` and ``zones`` call: the
 filter-material and internal-stability checks of the sample always, and the
 retention and permeability checks when a base soil is given. Every check id
-is listed once in :mod:`tamis.criteria.registry` with its source, edition and
+is listed once in :mod:`tamis.registry` with its source, edition and
 provenance, and every threshold in :mod:`tamis.criteria.tables`.
 
 Modules: ``tables`` (thresholds), ``registry`` (check ids and sources),

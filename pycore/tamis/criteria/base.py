@@ -25,7 +25,7 @@ _NO_PROPS = {"nonplastic": None, "liquid_limit": None, "plasticity_index": None,
 
 def category_a_pct(curve: Curve, on_mm: float | None) -> float | None:
     """A [%] as the category edges see it: P(0.075 mm) x 100 / P(on_mm) of the unregraded ``curve``
-    (P(0.075 mm) itself when ``on_mm`` is None), by :func:`tamis.classify.decided_pct`.
+    (P(0.075 mm) itself when ``on_mm`` is None), by :func:`tamis.lab.uscs.decided_pct`.
 
     The regraded curve scales each percentage by the float CF = 100 / P(on), which leaves A one unit in
     the last place off when it is exactly 15, 40 or 85 % (4.6 % passing 0.075 mm and 11.5 % passing

@@ -2,7 +2,7 @@
 
 These are estimates, never rules: their checks have status ``not_applicable``
 so they never enter a verdict; their ``value`` is k [cm/s]. The validity
-ranges are data (:data:`HAZEN_VALIDITY`); input outside them gives a warning
+ranges are data (:data:`tamis.criteria.tables.HAZEN_VALIDITY`); input outside them gives a warning
 finding, never a clamp.
 
 References
@@ -19,16 +19,8 @@ import math
 from ..lab.curve import Curve, coefficient_of_uniformity, exp, ln, size_at
 from ..checks import NOT_APPLICABLE, Check, Finding
 from ..registry import make_check
+from .tables import HAZEN_VALIDITY, KC, SHAPE_FACTORS
 
-#: Hazen validity (from memory): loose clean sands, D10 0.1-3 mm, Cu < 5.
-HAZEN_VALIDITY = {"d10_min_mm": 0.1, "d10_max_mm": 3.0, "cu_max": 5.0}
-
-#: Kozeny-Carman per Carrier (2003), from memory: constant [cm/s with D in cm, 20 C]
-#: and the exponents of the effective-diameter average.
-KC = {"constant": 1.99e4, "exp_large": 0.404, "exp_small": 0.595}
-
-#: Fair & Hatch shape factors quoted by Carrier (2003), from memory.
-SHAPE_FACTORS = {"spherical": 6.0, "rounded": 6.1, "worn": 6.4, "sharp": 7.0, "angular": 7.7}
 
 _SRC_HAZEN = "Carrier 2003, JGGE 129(11), Eq. 1 (Hazen); validity from memory"
 

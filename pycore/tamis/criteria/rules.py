@@ -29,12 +29,11 @@ starting with ``_`` are ignored.
 from __future__ import annotations
 
 from ..errors import InputError, boolean, join, number, require_mapping, text
-from .tables import DEFAULT_RULE_SET, NO_4_MM, RULE_SETS
+from .tables import DEFAULT_RULE_SET, KENNEY_LAU_BOUNDARIES, NO_4_MM, RULE_SETS
 
 KEYS = ("criteria", "terzaghi_ratio", "dispersive", "regrade", "regrade_on_mm", "kenney_lau_boundary",
         "stability", "stability_in_verdict", "hazen_c", "void_ratio", "shape_factor", "kc_pan_lower_mm")
 
-KENNEY_LAU_BOUNDARIES = (1.0, 1.3)
 
 
 def parse_rules(rules: dict | None, path: str = "rules") -> dict:

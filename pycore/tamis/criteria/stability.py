@@ -19,16 +19,9 @@ from __future__ import annotations
 from ..lab.curve import Curve, coefficient_of_uniformity, exp, ln, ln_and_ln4, passing_at, size_at
 from ..checks import FAIL, NEEDS_DATA, PASS, WARN, Check, Finding
 from ..registry import make_check
+from .tables import BURENKOVA, ISTOMINA, KEZDI_LIMIT, KL_CU_NARROW_MAX, KL_F_MAX_NARROW_PCT, KL_F_MAX_WIDE_PCT, \
+    LI_FANNIN_F_SPLIT_PCT, WAN_FELL, WAN_FELL_CUTOFF
 
-KEZDI_LIMIT = 4.0                      # D'15 coarse / d'85 fine
-KL_F_MAX_WIDE_PCT = 20.0               # widely graded, Cu > 3
-KL_F_MAX_NARROW_PCT = 30.0             # narrowly graded, Cu <= 3
-KL_CU_NARROW_MAX = 3.0
-LI_FANNIN_F_SPLIT_PCT = 15.0
-BURENKOVA = {"lower_a": 0.76, "upper_a": 1.86, "b": 1.0}          # h' bounds = a log10(h'') + b
-WAN_FELL = {"a": 2.378, "b": -3.648, "c": 3.701}                 # Z = a log10(h'') + b h' + c
-WAN_FELL_CUTOFF = 0.5                  # ours, no source
-ISTOMINA = {"stable_max": 10.0, "transition_max": 20.0}
 
 _EPS = 1e-9
 _GRID = 40                             # scan points between breakpoints

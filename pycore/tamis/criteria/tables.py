@@ -1,8 +1,9 @@
-"""Thresholds of every rule set, as plain data.
+"""Thresholds of every rule set and every method of the criteria, as plain data.
 
-Each rule set is one frozen table. The code in :mod:`tamis.criteria.nrcs`,
-:mod:`tamis.criteria.terzaghi` and :mod:`tamis.criteria.material` reads its
-numbers from here and nowhere else, and ``docs/criteria.md`` is generated from
+Each rule set is one frozen table; the internal-stability methods and the
+permeability estimates have their numbers below. Every module of
+:mod:`tamis.criteria` reads its numbers from here and nowhere else (the rule
+in DEVELOPERS.md), and ``docs/criteria.md`` is generated from
 the same tables (``scripts/gen_criteria_docs.py``).
 
 Provenance: the primary manuals (NRCS NEH 633 Ch. 26, USBR DS-13 Ch. 5, FEMA
@@ -126,6 +127,31 @@ PROVENANCE = _freeze({
     "segregation": "from memory (NEH 633-26 1994 segregation table; FEMA 2011; USBR 2011)",
     "terzaghi": "from memory (Terzaghi & Peck)",
 })
+
+
+# ---- internal stability (the registry's stability.* entries; all from memory) ----
+KEZDI_LIMIT = 4.0                      # D'15 coarse / d'85 fine (Kezdi 1979)
+KL_F_MAX_WIDE_PCT = 20.0               # Kenney & Lau F range, widely graded, Cu > 3
+KL_F_MAX_NARROW_PCT = 30.0             # Kenney & Lau F range, narrowly graded, Cu <= 3
+KL_CU_NARROW_MAX = 3.0
+#: Kenney & Lau H/F boundary: 1.0 (1986 reply, the default) or 1.3 (1985 paper).
+KENNEY_LAU_BOUNDARIES = (1.0, 1.3)
+LI_FANNIN_F_SPLIT_PCT = 15.0           # Li & Fannin 2008
+BURENKOVA = {"lower_a": 0.76, "upper_a": 1.86, "b": 1.0}          # h' bounds = a log10(h'') + b
+WAN_FELL = {"a": 2.378, "b": -3.648, "c": 3.701}                 # Z = a log10(h'') + b h' + c
+WAN_FELL_CUTOFF = 0.5                  # ours, no source
+ISTOMINA = {"stable_max": 10.0, "transition_max": 20.0}           # Istomina 1957, Cu limits
+
+# ---- permeability estimates (the registry's permeability.* entries) ----
+#: Hazen validity (from memory): loose clean sands, D10 0.1-3 mm, Cu < 5.
+HAZEN_VALIDITY = {"d10_min_mm": 0.1, "d10_max_mm": 3.0, "cu_max": 5.0}
+
+#: Kozeny-Carman per Carrier (2003), from memory: constant [cm/s with D in cm, 20 C]
+#: and the exponents of the effective-diameter average.
+KC = {"constant": 1.99e4, "exp_large": 0.404, "exp_small": 0.595}
+
+#: Fair & Hatch shape factors quoted by Carrier (2003), from memory.
+SHAPE_FACTORS = {"spherical": 6.0, "rounded": 6.1, "worn": 6.4, "sharp": 7.0, "angular": 7.7}
 
 
 def segregation_d90_max_mm(d10_mm: float) -> float:

@@ -7,7 +7,7 @@
     version is written, every other one is listed with ``--conflicts``).
 ``python -m tamis report FILE.csv [--json]``
     Recompute every test's verdict with the current core (the code of the
-    ``evaluate`` op, :mod:`tamis.summaries`) and flag the rows whose stored
+    ``evaluate`` op, :mod:`tamis.exchange.summaries`) and flag the rows whose stored
     verdict differs. Exit 1 when a stored verdict differs.
 ``python -m tamis check FILE.csv``
     Validate the file; write nothing.
@@ -127,7 +127,7 @@ def _summaries_of_slice(bounds: tuple[int, int]) -> tuple[int, list[dict]]:
 
 
 def summaries_in_parallel(todo: list[dict], index: dict, jobs: int, progress=None) -> list[dict]:
-    """:func:`tamis.summaries.compute_summaries` of ``todo``, the same list, computed by
+    """:func:`tamis.exchange.summaries.compute_summaries` of ``todo``, the same list, computed by
     ``jobs`` forked processes when that is worth it (more than :data:`PARALLEL_MIN`
     records, ``jobs`` > 1, a system where a process can fork: Linux), else here.
     Each record's summary depends only on it and ``index``, so the answer does not
@@ -252,7 +252,7 @@ def _merge(args) -> int:
 
 def report_rows(recs: list[dict], rows: list[dict], progress=None, jobs: int = 1) -> list[dict]:
     """One entry per live test record: recomputed summary beside the stored verdict.
-    ``progress(done, total)`` follows the tests (:func:`tamis.summaries.compute_summaries`);
+    ``progress(done, total)`` follows the tests (:func:`tamis.exchange.summaries.compute_summaries`);
     ``jobs`` as in :func:`summaries_in_parallel`."""
     index = {r["record_id"]: r for r in recs}
     live = [(rec, row) for rec, row in zip(recs, rows) if rec["kind"] == "test" and not rec["deleted"]]

@@ -6,7 +6,7 @@ failing checks) and are never read back as data (``docs/csv.md``): a reader
 recomputes. :func:`compute_summary` gives the same verdict the app shows for
 the same record, band, base soil and rules, because both go through the same
 code: the app's ``evaluate`` op parses its request and calls
-:func:`tamis.evaluation.evaluate_reduced`; here the core is called directly
+:func:`tamis.project.evaluate.evaluate_reduced`; here the core is called directly
 (no JSON in between), with each base soil reduced and each band parsed once
 per file (:class:`FileParts`). The summaries are the ones the JSON boundary
 would give (``tests/test_summaries.py`` compares both, record by record).
@@ -57,7 +57,7 @@ class FileParts:
     parsed or reduced once, on first use, and kept with the note of a refusal.
 
     The kept objects are shared by every test naming them; the core only
-    reads them (:func:`tamis.evaluation.evaluate_reduced`).
+    reads them (:func:`tamis.project.evaluate.evaluate_reduced`).
     """
 
     def __init__(self, index: dict) -> None:

@@ -8,7 +8,7 @@ sieves) and ``max_between_sieves_pct`` (most that may pass one band sieve and
 be retained on the next finer band sieve).
 
 Compliance is read on the sample's curve at each band sieve
-(:func:`tamis.curve.passing_at`): where the sample was not sieved on that
+(:func:`tamis.lab.curve.passing_at`): where the sample was not sieved on that
 size, the value is interpolated log-linearly and a pass there is only a
 warning; where the curve does not reach the size it is ``needs_data``.
 Everything is compared unrounded.

@@ -84,7 +84,7 @@ _E11_NEG_MM: tuple[float, ...] = tuple(-d for d, _ in ASTM_E11)   # increasing, 
 
 def _e11_index(opening_mm: float) -> int | None:
     """Index in :data:`ASTM_E11` of the first sieve that is the same as
-    ``opening_mm`` (:func:`tamis.curve.same_size`), or ``None``.
+    ``opening_mm`` (:func:`tamis.lab.curve.same_size`), or ``None``.
 
     The table's openings are distinct sieves, coarsest first, so only the two
     entries either side of ``opening_mm`` can match (a farther one would also
