@@ -184,3 +184,28 @@ def test_run_filter_checks_limits_carry_the_decided_floor():
 def _reduced(pts, props):
     from tamis.evaluation import reduce_test
     return reduce_test({"passing": _pts(pts), **({"plasticity": props} if props else {})}, "x")
+
+
+def test_design_band_uses_the_floor_fixed_by_the_bound():
+    # the same core: d15B below 0.002 mm, 4 x d15B <= 0.008 mm < 0.1 mm, so the minimum D15F is the floor
+    # exactly and the band can be designed (it was refused as base_incomplete before the bound reasoning)
+    req = {"schema": 1, "op": "design_band", "bases": [{"passing": _pts(CORE)}]}
+    out = json.loads(handle(json.dumps(req)))
+    assert out["ok"], out
+    step5 = next(s for s in out["result"]["steps"] if s["step"] == 5)
+    assert step5["values"]["d15f_min_mm"] == 0.1
+    assert out["result"]["feasible"]
+    # a base whose bound leaves the minimum open is still refused with its field
+    open_base = [(0.425, 100), (0.075, 60), (0.05, 20)]        # 4 x d15B <= 0.2 mm: in [0.1, 0.2]
+    out = json.loads(handle(json.dumps({"schema": 1, "op": "design_band", "bases": [{"passing": _pts(open_base)}]})))
+    assert not out["ok"] and out["error"]["code"] == "base_incomplete" and out["error"]["field"] == "bases"
+
+
+def test_limits_block_carries_exact_limits_only():
+    # minimum D15F only bounded to [0.1, 0.3] mm (d15B <= 0.075 mm): the check is decided for this sand
+    # (D15 0.32 mm) but the D15 window of the result does not show a bound as if it were the limit
+    base = [(4.75, 100), (0.425, 96), (0.075, 88)]
+    res = _evaluate(SAND, base, {"plasticity": {"nonplastic": True}})["result"]
+    perm = next(c for c in res["checks"] if c["id"] == "filter.permeability")
+    assert perm["status"] == "pass" and perm["limit_bound"] == "upper" and perm["limit"] == pytest.approx(0.3)
+    assert res["limits"]["d15_min_mm"] is None

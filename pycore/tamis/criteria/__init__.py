@@ -25,7 +25,7 @@ from ..findings import FAIL, Finding
 from .base import analyse_base, base_info
 from .checks import d_range
 from .material import material_checks, material_limits
-from .pairs import permeability_check, retention_check
+from .pairs import permeability_check, permeability_limit, retention_check
 from .permeability import hazen_estimate, kozeny_carman_estimate, ratio_estimate
 from .rules import parse_rules
 from .stability import stability_checks
@@ -95,11 +95,12 @@ def run_filter_checks(sample, base=None, rules=None, path: str = "rules") -> Fil
         b = analyse_base(base.curve, disp, rs["regrade"], r["regrade_on_mm"], "base",
                          regrade_wanted=rs["regrade"] and r["regrade"])
         findings.extend(b.findings)
-        ret, _ = retention_check(d15f, b, rs, r, d15f_range)
+        ret, ret_lim = retention_check(d15f, b, rs, r, d15f_range)
         perm = permeability_check(d15f, b, rs, r, d15f_range)
         checks[0:0] = [ret, perm]
-        limits.update({"d15_max_mm": ret.limit, "d15_min_mm": perm.limit, "d85b_mm": b.d85b_mm,
-                       "d15b_mm": b.d15b_mm})
+        # the limits block carries exact limits only (a bound that decided a check stays in the check)
+        limits.update({"d15_max_mm": ret_lim["limit_mm"], "d15_min_mm": permeability_limit(b, rs, r)[0],
+                       "d85b_mm": b.d85b_mm, "d15b_mm": b.d15b_mm})
         binfo = base_info(b, bprops)
     if r["stability"]:
         st, st_find = stability_checks(curve, r["kenney_lau_boundary"])
