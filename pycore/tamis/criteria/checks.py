@@ -36,7 +36,7 @@ def limit_check(check_id: str, value, relation: str, limit, unit: str, what: str
 # fall). Every limit the rules build from a D-value is non-decreasing in it (a multiple, a multiple with a
 # floor, the category-3 line with its 0.7 mm floor, the segregation table), so a bounded D-value gives a
 # bounded limit, and a check whose outcome is the same over the whole range is decided
-# (docs/decisions.md, "Bound reasoning").
+# (docs/decisions.md D8).
 
 @dataclass(frozen=True)
 class Range:

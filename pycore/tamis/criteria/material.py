@@ -3,7 +3,9 @@
 Sources (registry ids ``filter.fines``, ``filter.plasticity``,
 ``filter.max_size``, ``filter.segregation``): NRCS NEH 633-26 (October 1994)
 design step 8 and the segregation table, same values in FEMA 2011 and USBR 2011; from
-memory. Thresholds in :mod:`tamis.criteria.tables`.
+memory. Thresholds in :mod:`tamis.criteria.tables`. A D-value or percentage
+the curve does not reach is bounded, never extrapolated, and decides a check
+when the bound leaves one outcome (docs/decisions.md D8).
 """
 
 from __future__ import annotations

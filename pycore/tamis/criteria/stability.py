@@ -7,6 +7,13 @@ P(d) is read on the curve as measured (not regraded). A method that needs a
 part of the curve that was not measured reports ``needs_data`` unless the
 measured part already shows instability: nothing is extrapolated.
 
+Each method is evaluated within its domain of application (the registry's
+"applies" text, from memory): for a filter within the 5 % fines rule the split
+and H/F methods leave out the fines (:func:`fines_domain`, docs/decisions.md
+D9) and Wan & Fell is not applicable outside its calibration unless it flags.
+The scans read only the breakpoints of the piecewise log-linear curve, where
+their extremes lie: O(n log n) in the number of points.
+
 Sources (all from memory; see the registry): Kezdi (1979) Soil Physics,
 Elsevier; Kenney & Lau (1985) CGJ 22(2) and reply (1986) CGJ 23; Li & Fannin
 (2008) CGJ 45:1303-1309; Burenkova (1993) in Filters in Geotechnical and
@@ -41,7 +48,7 @@ def fines_domain(fines_pct: float | None) -> float | None:
     (``filter.fines``, 5 %), else None.
 
     For such a filter the split and H/F methods are evaluated on the material the sieves measured and
-    not on the fines (docs/decisions.md, "Internal-stability methods on the measured curve"): the
+    not on the fines (docs/decisions.md D9): the
     H/F scans start at 0.075 mm, and Kezdi skips the splits whose fine part is more than half fines.
     A result there would be driven only by the fines, whose gradation below 0.075 mm was not
     measured and which the fines rule already limits. Otherwise (fines above 5 % or unknown) the
