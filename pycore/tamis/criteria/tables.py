@@ -79,7 +79,9 @@ _FAMILY_2011 = {
 RULE_SETS = _freeze({
     "nrcs-1994": {
         "title": "USDA NRCS, National Engineering Handbook Part 633 Ch. 26, "
-                 "Gradation Design of Sand and Gravel Filters (210-vi-NEH, October 1994)",
+                 "Gradation Design of Sand and Gravel Filters (210-vi-NEH, October 1994; its criteria were "
+                 "first issued in Soil Mechanics Note 1, revised January 1986). A later edition exists "
+                 "(210-633-H, 1st Ed., Amend. 61, August 2017); its numbers are not checked here",
         "family": "nrcs",
         "regrade": True,
         "retention": _NRCS_RETENTION,
@@ -95,7 +97,7 @@ RULE_SETS = _freeze({
     },
     "fema-2011": {
         "title": "FEMA, Filters for Embankment Dams: Best Practices for Design "
-                 "and Construction (October 2011)",
+                 "and Construction (October 2011), Chapter 5, Filter Design Procedure",
         **_FAMILY_2011,
     },
     "terzaghi": {
@@ -131,6 +133,7 @@ PROVENANCE = _freeze({
 
 # ---- internal stability (the registry's stability.* entries; all from memory) ----
 KEZDI_LIMIT = 4.0                      # D'15 coarse / d'85 fine (Kezdi 1979)
+KEZDI_FINE_PART_FINES_MAX = 0.5        # Kezdi: at most half of the fine part may be fines (ours, derived)
 KL_F_MAX_WIDE_PCT = 20.0               # Kenney & Lau F range, widely graded, Cu > 3
 KL_F_MAX_NARROW_PCT = 30.0             # Kenney & Lau F range, narrowly graded, Cu <= 3
 KL_CU_NARROW_MAX = 3.0
