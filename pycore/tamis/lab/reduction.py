@@ -17,7 +17,8 @@ from .. import SCREENING_NOTICE
 from ..checks import Finding, verdict
 from ..errors import InputError, boolean, join, number, require_mapping
 from .curve import STANDARD_D_PCTS, Curve, coefficient_of_curvature, coefficient_of_uniformity, d_values, \
-    fineness_modulus, fractions
+    fineness_modulus, fractions, make_curve, same_size
+from .sedimentation import reduce_sedimentation
 from .sieve_analysis import parse_test
 from .uscs import Plasticity, classify
 
@@ -55,6 +56,7 @@ class Reduced:
     table: list = field(default_factory=list)
     mass: dict | None = None
     form: str = "masses"
+    sedimentation: dict | None = None
 
 
 def parse_props(test: dict, path: str) -> dict:
@@ -121,9 +123,57 @@ def reduce_test(test_obj: dict, path: str) -> Reduced:
     """
     st = parse_test(test_obj, path)
     props = parse_props(test_obj, path)
-    g, more = gradation_of(st.curve, props, join(path, "passing" if st.form == "passing" else "sieves"))
-    return Reduced(st.curve, g, props, list(st.checks), list(st.findings) + more,
-                   [r.to_dict() for r in st.rows], None if st.masses is None else st.masses.to_dict(), st.form)
+    curve, sed, more_sed = st.curve, None, []
+    if test_obj.get("sedimentation") is not None:
+        curve, sed, more_sed = combine(st.curve, test_obj["sedimentation"], join(path, "sedimentation"))
+    g, more = gradation_of(curve, props, join(path, "passing" if st.form == "passing" else "sieves"))
+    if sed is not None:
+        sieve_sizes = {d for d, _ in st.curve.points}
+        for pt in g["points"]:
+            pt["source"] = "sieve" if pt["opening_mm"] in sieve_sizes else "sedimentation"
+    return Reduced(curve, g, props, list(st.checks), list(st.findings) + more_sed + more,
+                   [r.to_dict() for r in st.rows], None if st.masses is None else st.masses.to_dict(), st.form,
+                   sed)
+
+
+def combine(sieve_curve: Curve, sed_obj, path: str) -> tuple[Curve, dict, list[Finding]]:
+    """The sieve curve with the sedimentation points finer than its finest
+    sieve: ``(curve, sedimentation dict, findings)``.
+
+    The percent passing the split sieve is read from the sieve curve, which
+    must hold that sieve. A reading whose diameter is not finer than the
+    finest sieve stays in the reduced table but not in the curve (a note says
+    so); a point that rises above the sieve curve is an error on its reading.
+    """
+    split = sed_obj.get("split_mm") if isinstance(sed_obj, dict) else None
+    at_split = None
+    if isinstance(split, (int, float)) and not isinstance(split, bool):
+        at_split = next((p for d, p in sieve_curve.points if same_size(d, float(split))), None)
+    sed = reduce_sedimentation(sed_obj, path, 0.0 if at_split is None else at_split)
+    if at_split is None:
+        sp = join(path, "split_mm")
+        raise InputError("split_sieve_missing", f"{sp} = {sed.split_mm:g} mm is not one of the test's sieves; the "
+                         "percent passing it is read from the sieve analysis.", sp)
+    finest = sieve_curve.finest_mm
+    used = [(i, r) for i, r in enumerate(sed.readings) if r.diameter_mm < finest and not same_size(r.diameter_mm,
+                                                                                                      finest)]
+    findings = list(sed.findings)
+    left = len(sed.readings) - len(used)
+    if left:
+        findings.append(Finding("note", "sed_above_finest_sieve", f"{left} reading(s) give a diameter not finer "
+                                f"than the finest sieve ({finest:g} mm): they are in the reduced table but not in "
+                                "the curve, where the sieves govern.", join(path, "readings")))
+    n = len(sieve_curve.points)
+    pts = list(sieve_curve.points) + [(r.diameter_mm, r.finer_pct) for _, r in used]
+    rp = join(path, "readings")
+
+    def field_of(k: int, name: str) -> str:
+        if k < n:
+            return join(path, "split_mm")
+        return join(join(rp, used[k - n][0]), "reading")
+
+    curve = make_curve(pts, rp, field_of)
+    return curve, sed.to_dict(), findings
 
 
 def require_field(req: dict, key: str):
@@ -139,5 +189,5 @@ def op_gradation(req: dict):
     red = reduce_test(require_field(req, "test"), "test")
     result = dict(red.gradation)
     result.update(checks=[c.to_dict() for c in red.checks], table=red.table, mass=red.mass, form=red.form,
-                  props=red.props, verdict=verdict(red.checks), notice=SCREENING_NOTICE)
+                  props=red.props, **({} if red.sedimentation is None else {"sedimentation": red.sedimentation}), verdict=verdict(red.checks), notice=SCREENING_NOTICE)
     return result, red.findings
