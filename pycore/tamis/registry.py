@@ -28,7 +28,7 @@ PROVENANCE_TAGS = ("read", "read in a secondary source", "from memory", "derived
 
 NEH_1994 = "USDA NRCS National Engineering Handbook Part 633 Ch. 26, Gradation Design of Sand and Gravel Filters"
 #: The edition the ``nrcs-1994`` set follows: October 1994, whose preface says its criteria were first issued in
-#: Soil Mechanics Note 1, revised January 1986 (edition line and preface read; confirmations.md). A later edition,
+#: Soil Mechanics Note 1, revised January 1986 (edition line and preface read). A later edition,
 #: 210-633-H, 1st Ed., Amend. 61, August 2017, exists; its numbers are not checked here.
 NEH_1994_EDITION = "210-vi-NEH, October 1994 (criteria from Soil Mechanics Note 1, rev. January 1986)"
 USBR_2011 = "USBR Design Standards No. 13 Ch. 5, Protective Filters, DS-13(5)-9"
