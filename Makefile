@@ -9,7 +9,7 @@ PORT   ?= 8765
 HOST   ?= 127.0.0.1
 export PIP_DISABLE_PIP_VERSION_CHECK := 1
 
-.PHONY: setup system build run test test-core test-pyodide test-e2e bench screenshots clean
+.PHONY: setup system build run test test-core test-pyodide test-e2e test-engines bench screenshots clean
 
 ## setup: Debian packages, the Python virtual environment and npm packages
 setup: system $(VENV)/.stamp node_modules/.stamp
@@ -35,8 +35,9 @@ build: setup
 run: build
 	$(PY) scripts/serve.py --host $(HOST) --port $(PORT)
 
-## test: everything: core on CPython, golden files in Pyodide, the app in chromium
-test: build test-core test-pyodide test-e2e
+## test: everything: core on CPython, golden files in Pyodide, the app in chromium,
+## and the engine suite in chromium, firefox-esr and WebKitGTK
+test: build test-core test-pyodide test-e2e test-engines
 
 test-core: setup
 	$(PY) -m pytest -q tests
@@ -45,7 +46,14 @@ test-pyodide: build
 	node tests/pyodide/replay_golden.mjs
 
 test-e2e: build
-	$(PY) -m pytest -q -p no:cacheprovider e2e
+	$(PY) -m pytest -q -p no:cacheprovider --ignore=e2e/engines e2e
+
+## test-engines: the app's main paths in chromium (Playwright), firefox-esr (WebDriver
+## BiDi) and WebKitGTK (WebKitWebDriver under Xvfb); prints the time it adds
+test-engines: build
+	@start=$$(date +%s); status=0; \
+	$(PY) -m pytest -q -p no:cacheprovider e2e/engines || status=$$?; \
+	echo "engine suite: $$(( $$(date +%s) - start )) s added to make test"; exit $$status
 
 ## bench: performance figures (printed, never asserted)
 bench: build

@@ -48,6 +48,10 @@ MINIBROWSER = os.environ.get("MINIBROWSER", "/usr/lib/x86_64-linux-gnu/webkit2gt
 XVFB = os.environ.get("XVFB", "/usr/bin/Xvfb")
 ENGINES = ("chromium", "firefox", "webkit")
 TIMEOUT_S = 120.0
+#: (engine, visit) -> {"core_ready_ms": ..., "offline_ready_ms": ...}, filled by the tests, printed by conftest.
+BOOT: dict[tuple[str, str], dict] = {}
+#: engine -> seconds spent (browser start and stop included), filled by conftest.
+SPENT: dict[str, float] = {}
 INSTALL_HINT = "run `make setup` as root (scripts/system-deps.sh installs it) or `apt-get install {pkg}`"
 
 
