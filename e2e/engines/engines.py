@@ -75,6 +75,17 @@ def free_port() -> int:
         return s.getsockname()[1]
 
 
+def stop_process(proc: subprocess.Popen, terminate: bool = True) -> None:
+    """End a process this suite started (by its own handle): terminate, then kill after 10 s."""
+    if terminate:
+        proc.terminate()
+    try:
+        proc.wait(timeout=10)
+    except subprocess.TimeoutExpired:
+        proc.kill()
+        proc.wait()
+
+
 # The script helpers every engine runs in the page: find an element, report
 # values as JSON so the three drivers' value encodings never matter.
 _FIND = """
@@ -454,11 +465,7 @@ class Firefox(Engine):
         except Exception:
             pass
         self.bidi.close()
-        try:
-            self.proc.wait(timeout=10)
-        except subprocess.TimeoutExpired:
-            self.proc.kill()
-            self.proc.wait()
+        stop_process(self.proc, terminate=False)  # session.end closes firefox; kill it only if it stays
         self.log.close()
         shutil.rmtree(self.profile, ignore_errors=True)
 
@@ -484,11 +491,7 @@ class Xvfb:
         self.display = f":{number}"
 
     def stop(self):
-        self.proc.terminate()
-        try:
-            self.proc.wait(timeout=10)
-        except subprocess.TimeoutExpired:
-            self.proc.kill()
+        stop_process(self.proc)
 
 
 class WebKit(Engine):
@@ -576,11 +579,7 @@ class WebKit(Engine):
                 self._cmd("DELETE", "", timeout=20)
             except Exception:
                 pass
-        self.driver.terminate()
-        try:
-            self.driver.wait(timeout=10)
-        except subprocess.TimeoutExpired:
-            self.driver.kill()
+        stop_process(self.driver)
         self.log.close()
         self.xvfb.stop()
 
