@@ -9,7 +9,7 @@ PORT   ?= 8765
 HOST   ?= 127.0.0.1
 export PIP_DISABLE_PIP_VERSION_CHECK := 1
 
-.PHONY: setup system build run test lint test-core test-pyodide test-e2e bench regenerate check-generated screenshots clean
+.PHONY: setup system build run test lint test-core test-pyodide test-e2e test-engines bench regenerate check-generated screenshots clean
 
 ## setup: Debian packages, the Python virtual environment and npm packages
 setup: system $(VENV)/.stamp node_modules/.stamp
@@ -35,8 +35,9 @@ build: setup
 run: build
 	$(PY) scripts/serve.py --host $(HOST) --port $(PORT)
 
-## test: everything: the linter, core on CPython, golden files in Pyodide, the app in chromium
-test: lint build test-core test-pyodide test-e2e
+## test: everything: the linter, core on CPython, golden files in Pyodide, the app in chromium,
+## and the engine suite in chromium, firefox-esr and WebKitGTK
+test: lint build test-core test-pyodide test-e2e test-engines
 
 ## lint: ruff (pinned in the test extra; rules in pyproject.toml) over every Python file we write
 LINTED := pycore tests e2e bench scripts demo_data
@@ -50,7 +51,14 @@ test-pyodide: build
 	node tests/pyodide/replay_golden.mjs
 
 test-e2e: build
-	$(PY) -m pytest -q -p no:cacheprovider e2e
+	$(PY) -m pytest -q -p no:cacheprovider --ignore=e2e/engines e2e
+
+## test-engines: the app's main paths in chromium (Playwright), firefox-esr (WebDriver
+## BiDi) and WebKitGTK (WebKitWebDriver under Xvfb); prints the time it adds
+test-engines: build
+	@start=$$(date +%s); status=0; \
+	$(PY) -m pytest -q -p no:cacheprovider e2e/engines || status=$$?; \
+	echo "engine suite: $$(( $$(date +%s) - start )) s added to make test"; exit $$status
 
 ## regenerate: rewrite every generated file from the sources, in dependency order: golden
 ## responses, the demo project (its CSV carries computed columns), docs/criteria.md.

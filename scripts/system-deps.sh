@@ -1,9 +1,14 @@
 #!/usr/bin/env bash
 # Debian packages the build and the tests need. Installs only what is missing.
 # chromium: driven by Playwright (executable_path) for the e2e tests and screenshots.
+# firefox-esr: the engine suite drives it over WebDriver BiDi (--remote-debugging-port; no geckodriver).
+# webkit2gtk-driver: WebKitWebDriver, the engine suite's WebKit (WebKitGTK, Safari's engine), run under Xvfb (xvfb).
 set -euo pipefail
 need=()
 command -v chromium >/dev/null 2>&1 || need+=(chromium)
+command -v firefox-esr >/dev/null 2>&1 || need+=(firefox-esr)
+command -v WebKitWebDriver >/dev/null 2>&1 || need+=(webkit2gtk-driver)
+command -v Xvfb >/dev/null 2>&1 || need+=(xvfb)
 command -v node >/dev/null 2>&1 || need+=(nodejs npm)
 # libreoffice-calc-nogui: soffice --headless --convert-to, for tests/test_csv_spreadsheet.py (CSV opened in Calc).
 command -v soffice >/dev/null 2>&1 || need+=(libreoffice-calc-nogui)

@@ -11,7 +11,8 @@
 //
 // Messages to pages: {type: "tamis-precache", version, total, done, bytes,
 // total_bytes, complete, error}. A page may ask {type: "tamis-status"}; the
-// answer (same shape) checks that every manifest file is in the cache.
+// answer (same shape) checks that every manifest file is in the cache; the page
+// knows which worker sent a message from event.source.
 // vendor/manifest.json is answered from TAMIS_BUILD, the build this worker serves.
 
 /* global TAMIS_BUILD */
@@ -110,8 +111,10 @@ self.addEventListener("message", (event) => {
   if (msg.type === "tamis-skip-waiting") {
     self.skipWaiting();
   } else if (msg.type === "tamis-status" && event.source) {
+    // The page tells whether this answer is about its own version by comparing
+    // event.source with its controller (Firefox has no self.serviceWorker here).
     event.waitUntil(cacheStatus().then((s) => event.source.postMessage(
-      { type: "tamis-precache", version: BUILD.version, active: self.registration.active === self.serviceWorker, ...s })));
+      { type: "tamis-precache", version: BUILD.version, ...s })));
   }
 });
 

@@ -137,12 +137,21 @@ async function main() {
   if (!location.hash) location.replace(recs.length === 0 ? "#/welcome" : "#/entry");
   await app.refreshBadge();
   await render();
-  app.persistence = await requestPersistence();
-  if (app.persistence === "refused" || app.persistence === "unsupported") {
-    const warn = document.getElementById("storage-warning");
-    warn.textContent = "This browser may clear the app's records when space runs low. Export your tests often, and add the app to the home screen.";
-    warn.hidden = false;
-  }
+  showPersistence(await requestPersistence({ onLater: showPersistence }));
+}
+
+// What each engine is told about keeping the records (docs/decisions.md).
+const STORAGE_WORDS = {
+  refused: "This browser may clear the app's records when space runs low. Export your tests often, and add the app to the home screen.",
+  pending: "The browser is asking whether this app may keep its records on this device: allow it, so they are not cleared when space runs low. Until then, export your tests often.",
+  unsupported: "This browser cannot be asked to keep the app's records: it may clear them when space runs low or after weeks without use. Export your tests often, and add the app to the home screen.",
+};
+function showPersistence(state) {
+  app.persistence = state;
+  const warn = document.getElementById("storage-warning");
+  warn.dataset.persistence = state;
+  warn.textContent = STORAGE_WORDS[state] || "";
+  warn.hidden = !STORAGE_WORDS[state];
 }
 
 main().catch((err) => { announce(err.message); console.error(err); });

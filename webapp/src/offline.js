@@ -14,7 +14,6 @@ const SW_URL = new URL("../sw.js", import.meta.url);
 
 export function startOffline({ onState = () => {}, onUpdate = () => {} } = {}) {
   let state = { precached: false, total: 0, done: 0, error: null, version: null, updating: false };
-  let activeVersion = null;
   let offeredWorker = null;
   let applying = false;
 
@@ -32,11 +31,7 @@ export function startOffline({ onState = () => {}, onUpdate = () => {} } = {}) {
   sw.addEventListener("message", (event) => {
     const msg = event.data || {};
     if (msg.type !== "tamis-precache") return;
-    // A message is about the version this page runs on when it comes from the
-    // controlling worker, or from the first worker installing (no controller yet).
-    const aboutActive = msg.active === true || !sw.controller || (activeVersion !== null && msg.version === activeVersion);
-    if (msg.active === true || (!sw.controller && msg.complete)) activeVersion = msg.version;
-    if (aboutActive) {
+    if (aboutThisPage(event.source)) {
       emit({ precached: Boolean(msg.complete), total: msg.total, done: msg.done, error: msg.error || null,
         version: msg.version, updating: false });
     } else {
@@ -52,6 +47,20 @@ export function startOffline({ onState = () => {}, onUpdate = () => {} } = {}) {
   });
 
   let registered = null;
+  // A message is about the version this page runs on when it comes from the
+  // controlling worker; with no controller (first visit, or a forced reload that
+  // bypassed it), from the active worker, or from the first worker installing
+  // while there is no active one. Any other worker is a new version installing.
+  // The worker itself cannot tell: Firefox has no `self.serviceWorker` inside a
+  // service worker, so a worker cannot compare itself with registration.active;
+  // the page compares `event.source` with its own controller, which holds in
+  // Chromium, Firefox and WebKit (e2e/engines).
+  function aboutThisPage(source) {
+    if (sw.controller) return source === sw.controller;
+    const active = registered && registered.active;
+    return !active || source === active;
+  }
+
   function askStatus() {
     // The controlling worker, or the active one when a forced reload bypassed it.
     const target = sw.controller || (registered && registered.active);
@@ -75,7 +84,7 @@ export function startOffline({ onState = () => {}, onUpdate = () => {} } = {}) {
       if (!installing) return;
       installing.addEventListener("statechange", () => {
         if (installing.state === "installed") offer(registration);
-        if (installing.state === "activated" && !activeVersion) askStatus();
+        if (installing.state === "activated" && !state.precached) askStatus();
         if (installing.state === "redundant" && !registration.waiting && !registration.active) {
           // The worker's own message names the file that failed; it may arrive
           // just after this event, so the generic text waits for it briefly.
