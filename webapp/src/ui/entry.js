@@ -1,7 +1,7 @@
 // Screen "Sieve test": enter or edit a test, with the verdict as you type.
 import { h, fill, field, announce } from "./dom.js";
 import { ask, evaluateFields } from "./core.js";
-import { testEditor, enterMovesOn, showFieldError } from "./test_editor.js";
+import { gradationEditor, enterMovesOn, showFieldError } from "./editor/gradation_editor.js";
 import { metaForm, newSampleId } from "./meta_form.js";
 import { renderVerdict, verdictLine, noticeNode, FALLBACK_NOTICE } from "./verdict.js";
 import { renderChart } from "./chart.js";
@@ -76,7 +76,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
     bar);
 
   const meta = metaForm(metaBox, rec.meta, { onChange: () => schedule() });
-  const editor = testEditor(testBox, rec.test, { path: "sample", presets, onChange: () => schedule() });
+  const editor = gradationEditor(testBox, rec.test, { path: "sample", presets, onChange: () => schedule() });
   renderVerdict(verdictBox, null);
 
   function current() {

@@ -5,7 +5,7 @@
 // filling a whole record; the result can be saved as a test record.
 import { h, fill, field, newId, announce } from "./dom.js";
 import { ask, evaluateFields } from "./core.js";
-import { testEditor, enterMovesOn, showFieldError } from "./test_editor.js";
+import { gradationEditor, enterMovesOn, showFieldError } from "./editor/gradation_editor.js";
 import { renderVerdict, checkItem, noticeNode, VERDICT_WORDS } from "./verdict.js";
 import { renderChart } from "./chart.js";
 import { renderDvalues, baseName } from "./entry.js";
@@ -66,8 +66,8 @@ export async function quickScreen(app, view) {
     h("div", { class: "actions" }, h("button", { type: "button", class: "btn primary", text: "Save as a test record", onclick: saveAs })),
     status);
   showBase();
-  const baseEditor = testEditor(typedBox, TYPED_BASE, { path: "base", forms: ["dvalues"], dNames: ["D15", "D85"], onChange: () => schedule() });
-  const editor = testEditor(editorBox, { passing: [{}, {}, {}] }, { path: "sample", forms: ["passing", "dvalues"], onChange: () => schedule() });
+  const baseEditor = gradationEditor(typedBox, TYPED_BASE, { path: "base", forms: ["dvalues"], dNames: ["D15", "D85"], onChange: () => schedule() });
+  const editor = gradationEditor(editorBox, { passing: [{}, {}, {}] }, { path: "sample", forms: ["passing", "dvalues"], onChange: () => schedule() });
   for (const s of [baseSel, rulesSel]) s.addEventListener("change", () => schedule());
   renderVerdict(verdictBox, null, { title: "All checks" });
   renderHeadline(headBox, null);
