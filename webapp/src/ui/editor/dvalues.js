@@ -3,7 +3,7 @@
 import { h, newId, table } from "../dom.js";
 import { showDecimal } from "../decimal.js";
 import { decimalInput } from "./fields.js";
-import { addSizeButton, loadPassing, passingRows } from "./passing.js";
+import { addSizeButton, loadPassing, passingRows, readPassingRows } from "./passing.js";
 
 /** D-values offered in the D-value form (more appear when a loaded test has them). */
 export const D_NAMES = ["D10", "D15", "D60", "D85", "D90"];
@@ -20,7 +20,7 @@ export function renderDvalues(ed) {
   const tbody = h("tbody");
   for (const name of names) {
     const id = newId("dv");
-    const input = decimalInput(state.d[name] ?? "", { id, "aria-label": `${name}, mm`, dataset: { field: `${path}.d_mm.${name}` } });
+    const input = decimalInput(state.d[name] ?? "", { id, "aria-label": `${name}, mm`, dataset: { field: `${path}.d_mm.${name}`, words: name } });
     const err = h("p", { class: "field-error", id: `${id}-err`, role: "status" });
     input.setAttribute("aria-describedby", `${id}-err`);
     ed.onDecimal(input, err, (v) => { state.d[name] = v; });
@@ -34,23 +34,15 @@ export function renderDvalues(ed) {
     addSizeButton(ed)];
 }
 
-export function readDvalues(state, path, num) {
-  const t = { d_mm: {} };
+/** The D-values and any percent passing rows; {test, sent} as readPassingRows. */
+export function readDvalues(state, num, missing) {
+  const test = { d_mm: {} };
   for (const [name, text] of Object.entries(state.d).sort(([a], [b]) => dOrder(a, b))) {
     const v = num(text);
-    if (v !== null) t.d_mm[name] = v;
+    if (v !== null) test.d_mm[name] = v;
   }
-  // A row with no percent is left out; the inputs of each row sent carry
-  // the index it has in the request, so a core error lands beside them.
-  const rows = [];
-  for (const r of state.rows) {
-    const a = num(r.openText); const b = num(r.pctText);
-    const [ia, ib] = r.inputs || [];
-    if (b === null) { ia?.removeAttribute("data-field"); ib?.removeAttribute("data-field"); continue; }
-    if (ia) ia.dataset.field = `${path}.passing[${rows.length}].opening_mm`;
-    if (ib) ib.dataset.field = `${path}.passing[${rows.length}].passing_pct`;
-    rows.push(a === null ? { passing_pct: b } : { opening_mm: a, passing_pct: b });
-  }
-  if (rows.length) t.passing = rows;
-  return t;
+  // A row with no percent is left out (the fines row is shown with its size filled in).
+  const { passing, sent } = readPassingRows(state, num, missing, { sizeOptional: true });
+  if (passing.length) test.passing = passing;
+  return { test, sent };
 }

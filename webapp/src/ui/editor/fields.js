@@ -40,18 +40,40 @@ export function onDecimal(input, errNode, set, changed) {
   });
 }
 
-/** Put a core error next to the field it names (inputs carry data-field). Returns true if placed. */
-export function showFieldError(scope, error) {
+const PATH = /\b(sample|base|test|band)((\.[A-Za-z_][A-Za-z0-9_]*)|(\[\d+\]))+/g;
+
+/**
+ * A core message in plain words: each field path in it becomes what the
+ * field is called on screen (its data-words), or its last name spelled out.
+ */
+export function plainWords(message, scope, toScreen = (f) => f) {
+  const text = String(message || "").replace(PATH, (path) => {
+    const node = [...scope.querySelectorAll("[data-field]")].find((n) => n.dataset.field === toScreen(path));
+    if (node?.dataset.words) return node.dataset.words;
+    const last = /([A-Za-z_]+)(\[\d+\])?$/.exec(path)?.[1] || path;
+    return `the ${last.replace(/_(g|mm|pct)$/, "").replaceAll("_", " ")}`;
+  });
+  return text.charAt(0).toUpperCase() + text.slice(1);
+}
+
+/**
+ * Put a core error next to the field it names (inputs carry data-field, the
+ * path kept there for mapping), in plain words. `editors`: the gradation
+ * editors of the screen, which map the request's row indices to the rows on
+ * screen. Returns true if placed.
+ */
+export function showFieldError(scope, error, ...editors) {
   for (const n of scope.querySelectorAll(".core-field-error")) n.remove();
   for (const n of scope.querySelectorAll("[aria-invalid='true'][data-core-invalid]")) {
     n.removeAttribute("aria-invalid"); delete n.dataset.coreInvalid;
   }
   if (!error || !error.field) return false;
-  const target = [...scope.querySelectorAll("[data-field]")].find((n) => n.dataset.field === error.field);
+  const toScreen = (f) => editors.reduce((acc, e) => e.screenField(acc), f);
+  const target = [...scope.querySelectorAll("[data-field]")].find((n) => n.dataset.field === toScreen(error.field));
   if (!target) return false;
   target.setAttribute("aria-invalid", "true");
   target.dataset.coreInvalid = "1";
-  const msg = h("p", { class: "field-error core-field-error", role: "status", text: error.message });
-  target.insertAdjacentElement("afterend", msg);
+  const msg = h("p", { class: "field-error core-field-error", role: "status", text: plainWords(error.message, scope, toScreen) });
+  (target.type === "checkbox" || target.type === "radio" ? target.closest(".check-row, fieldset") || target : target).insertAdjacentElement("afterend", msg);
   return true;
 }
