@@ -26,7 +26,8 @@ export function passingRows(ed, caption = "Percent passing at each size") {
       h("td", {}, ed.removeButton(`Remove row ${i + 1}`, i)));
     row.tr = tr;
     // Leaving a half-filled row says what it lacks.
-    tr.addEventListener("focusout", (ev) => { if (!tr.contains(ev.relatedTarget)) ed.changed(); });
+    const half = () => (String(row.openText ?? "").trim() === "") !== (String(row.pctText ?? "").trim() === "");
+    tr.addEventListener("focusout", (ev) => { if (!tr.contains(ev.relatedTarget) && half()) ed.changed(); });
     tbody.append(tr);
   });
   return table({ class: "sieve-table" }, caption, ["Size (mm)", "Passing (%)", null], tbody);
