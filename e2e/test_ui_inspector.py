@@ -59,7 +59,7 @@ def phone(request, browser, site):
     page.wait_for_selector("body[data-core-ready]")
     wait_screen(page)
     page.get_by_label("Theme").select_option(request.param)
-    assert page.evaluate("() => document.documentElement.dataset.theme") == request.param
+    page.wait_for_function("(t) => document.documentElement.dataset.theme === t", arg=request.param)
     yield page
     context.close()
     guard.assert_clean()
