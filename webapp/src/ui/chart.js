@@ -58,7 +58,7 @@ export function renderChart(box, data, axis = "coarse-left", title = "Gradation 
       const d = m * 10 ** k;
       if (Math.log10(d) > hi + 1e-9) continue;
       grid.append(h("svg:line", { x1: x(d), x2: x(d), y1: M.top, y2: H - M.bottom, class: m === 1 ? "major" : "minor" }));
-      if (m === 1) grid.append(h("svg:text", { x: x(d), y: H - M.bottom + 14, class: "tick xtick", text: fmt(d, 3) }));
+      if (m === 1) grid.append(h("svg:text", { x: x(d), y: H - M.bottom + 14, class: "tick xtick", text: String(Number(d.toPrecision(3))) }));
     }
   }
   grid.append(h("svg:text", { x: M.left + pw / 2, y: H - 10, class: "axis-label", text: "Particle size (mm), log scale" }));
