@@ -28,8 +28,8 @@ sys.path.insert(0, str(HERE))
 import helpers  # noqa: E402  (e2e/helpers.py: the served site, chromium)
 from tamis import demo  # noqa: E402
 
-#: iPhone-class portrait viewport in CSS pixels, at 2x for crisp pictures.
-VIEWPORT = {"width": 390, "height": 844}
+#: The narrowest phone the app is built for (360 x 780 CSS pixels), at 2x for crisp pictures.
+VIEWPORT = {"width": 360, "height": 780}
 SCALE = 2
 OUT = ROOT / "docs" / "img"
 
@@ -43,6 +43,8 @@ SHOTS = (
     ("06-accepted.png", "an accepted delivery with its gradation chart (Q-0907-1)"),
     ("07-references.png", "bands and base soils of the demo project"),
     ("08-exchange.png", "CSV exchange, with 'Remove the demo'"),
+    ("09-entry-fines.png", "a test typed from masses on the entry screen: the result's first screen and the bar"),
+    ("10-entry-sunlight.png", "the same result in the sunlight theme"),
 )
 
 
@@ -139,11 +141,8 @@ def _take(browser, site, out_dir: Path, log) -> list[Path]:
     shot(SHOTS[2][0])
     for (name, _), sid in zip(SHOTS[3:6], ("S-0918-T", "Q-L11-CP", "Q-0907-1")):
         _open_record(page, ids[sid])
-        if sid == "Q-0907-1":  # the chart card, whole
-            page.eval_on_selector("#view svg", "(el) => el.closest('section').scrollIntoView({block: 'start'})")
-        else:  # the check the scenario is about, failing
-            cid = {"S-0918-T": "filter.retention", "Q-L11-CP": "filter.fines"}[sid]
-            _scroll_to(page, f"#view .verdict-card li[data-check='{cid}'][data-status='fail']", "center")
+        # What an inspector sees first of a result: the verdict, the reasons, the chart.
+        _scroll_to(page, "#view .verdict-card")
         shot(name)
     _go(page, "#/refs")
     _scroll_to(page, "#view h1")
@@ -151,6 +150,18 @@ def _take(browser, site, out_dir: Path, log) -> list[Path]:
     _go(page, "#/exchange")
     _scroll_to(page, "#view h1")
     shot(SHOTS[7][0])
+
+    # A test typed from the masses as they come off the balance: the demo's compacted sample of lot L11.
+    rec = next(r for r in demo.load_records() if r["meta"].get("sample_id") == "Q-L11-CP")
+    _go(page, f"#/entry/{rec['record_id']}")
+    _scroll_to(page, "#view .verdict-card")
+    shot(SHOTS[8][0])
+    _go(page, "#/settings")
+    page.get_by_label("Theme").select_option("sunlight")
+    _quiet(page)
+    _go(page, f"#/entry/{rec['record_id']}")
+    _scroll_to(page, "#view .verdict-card")
+    shot(SHOTS[9][0])
 
     context.close()
     guard.assert_clean()

@@ -10,7 +10,7 @@ from __future__ import annotations
 import pytest
 
 import helpers
-from test_ui_common import add_base_soil, enter_sample, go, open_app, wait_screen
+from test_ui_common import add_base_soil, enter_sample, go, open_app, save_test, wait_screen
 
 
 def assert_no_violations(page, where: str) -> None:
@@ -41,7 +41,7 @@ def test_main_screens_have_no_axe_violations(page, site, width, height, theme):
     page.wait_for_selector(".verdict-card .verdict[data-verdict]")
     assert_no_violations(page, "entry with verdict")
     assert targets_too_small(page) == []
-    page.get_by_role("button", name="Save test").click()
+    save_test(page)
     page.wait_for_selector("#view[data-screen='record']")
     wait_screen(page)
     page.wait_for_selector(".detail .verdict-card .verdict")

@@ -154,3 +154,23 @@ def test_typed_masses_survive_a_reload_before_saving(page, site):
     values = [page.input_value(f"input[data-field='sample.sieves[{i}].retained_g']") for i in range(len(SAMPLE_TYPED))]
     assert values == [m.replace(",", ".") for _, m in SAMPLE_TYPED]  # restored with a point as the mark
     assert page.get_attribute(".verdict-bar", "data-verdict") in ("accept", "reject", "review")
+
+
+#: The name typed when the app asks for the tester's name (once, at the first save of a test).
+TESTER = "E2E"
+
+
+def save_test(page, button: str = "Save test") -> None:
+    """Tap a save button of the test screen; answer the one-time question for the tester's name."""
+    page.get_by_role("button", name=button).click()
+    page.wait_for_function("() => document.querySelector('.tester-ask') || document.querySelector('.save-status')?.textContent"
+                           " || document.getElementById('view').dataset.screen === 'record'")
+    if page.locator(".tester-ask").count():
+        page.get_by_label("Your name or initials").fill(TESTER)
+        page.get_by_role("button", name="Save with this name").click()
+
+
+def open_filters(page) -> None:
+    """Unfold the records list's search and filters (folded under one line, the records first)."""
+    if not page.locator("#view details.filters[open]").count():
+        page.get_by_text("Search and filters").click()

@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import re
 
-from test_ui_common import (add_base_soil, add_preset_band, base_test, cpython, enter_sample, go, open_app,
+from test_ui_common import (add_base_soil, add_preset_band, base_test, cpython, enter_sample, go, open_app, save_test,
                             sample_test, settle, SAMPLE_TYPED)
 
 
@@ -27,15 +27,18 @@ def test_verdict_and_d_values_match_cpython(page, site):
     # Overall verdict, in the card and in the sticky bar.
     assert page.get_attribute(".verdict-card .verdict", "data-verdict") == expected["verdict"]
     assert page.get_attribute(".verdict-bar", "data-verdict") == expected["verdict"]
-    # Every check the core emitted, with its status, in the core's order; those that
-    # do not apply are listed last, in a collapsed list.
-    shown = page.eval_on_selector_all(".verdict-card li.check", "els => els.map(e => [e.dataset.check, e.dataset.status])")
+    # Every check the core emitted, with its status: the reasons, the passes, then folded those that do
+    # not apply and the advisory indicators (the core's order within each group).
+    assert shown_checks(page) == ordered_checks(expected)
     pairs = [[c["id"], c["status"]] for c in expected["checks"]]
-    assert shown == [p for p in pairs if p[1] != "not_applicable"] + [p for p in pairs if p[1] == "not_applicable"]
     assert any(p[1] == "not_applicable" for p in pairs)  # the collapsed list is exercised
-    # The caution is shown with the verdict.
-    assert expected["notice"] in page.text_content(".verdict-card")
-    assert expected["notice"] in page.text_content(".verdict-bar")
+    # The caution is shown once, with the verdict, not in the bar; the bar gives the first reason.
+    assert page.text_content("#view").count(expected["notice"]) == 1
+    assert expected["notice"] not in page.text_content(".verdict-bar")
+    reasons = [c for c in expected["checks"] if not c.get("advisory") and c["status"] in ("fail", "needs_data", "warn")]
+    if reasons:
+        first = page.text_content(".verdict-card .reasons li.check .reason-line")
+        assert first.split(": ", 1)[1] in page.text_content(".bar-reason")
 
     # D-values of the sample, as displayed (rounded for display only).
     for key, value in expected["sample"]["d_mm"].items():
@@ -82,7 +85,10 @@ def test_core_error_is_shown_next_to_its_field(page, site):
     field = resp["error"]["field"]
     marked = page.locator(f"[data-field='{field}']")
     assert marked.get_attribute("aria-invalid") == "true"
-    assert resp["error"]["message"] in page.text_content(".core-field-error")
+    # In plain words: the path stays in data-field, the message names the field as the screen does.
+    shown = page.text_content(".core-field-error")
+    assert field not in shown
+    assert resp["error"]["message"].split(": ", 1)[1] in shown
     assert page.get_attribute(".verdict-bar", "data-verdict") == "none"
 
 
@@ -107,14 +113,14 @@ def test_spot_check_gives_cpython_verdict_and_saves_as_a_record(page, site):
     shown = dict(page.eval_on_selector_all(".verdict-card li.check", "els => els.map(e => [e.dataset.check, e.dataset.status])"))
     for cid in ("filter.retention", "filter.permeability"):
         assert shown[cid] == next(c["status"] for c in expected["checks"] if c["id"] == cid)
-    assert expected["notice"] in page.text_content(".verdict-card")
+    assert page.text_content("#view").count(expected["notice"]) == 1  # once on the screen
     assert shown_checks(page) == ordered_checks(expected)  # the other checks as the core reports them
 
     page.get_by_role("button", name="Save as a test record").click()
     page.wait_for_selector("#view[data-screen='entry']")
     settle(page)
     assert page.get_attribute(".verdict-bar", "data-verdict") == expected["verdict"]
-    page.get_by_role("button", name="Save test").click()
+    save_test(page)
     page.wait_for_selector("#view[data-screen='record']")
     rid = page.get_attribute(".detail", "data-id")
     rec = page.evaluate("async (id) => (await import('/src/storage/records.js')).getRecord(id)", rid)
@@ -122,9 +128,13 @@ def test_spot_check_gives_cpython_verdict_and_saves_as_a_record(page, site):
 
 
 def ordered_checks(result: dict) -> list:
-    """The core's checks as the verdict block lists them: applicable ones first, then those that do not apply."""
-    pairs = [[c["id"], c["status"]] for c in result["checks"]]
-    return [p for p in pairs if p[1] != "not_applicable"] + [p for p in pairs if p[1] == "not_applicable"]
+    """The core's checks as the verdict block lists them, the core's order kept within each group: what fails,
+    then what needs data, then warnings (the reasons, under the verdict); the passes; those that do not apply
+    (folded); the advisory indicators (folded)."""
+    counted = [c for c in result["checks"] if not c.get("advisory")]
+    groups = [[c for c in counted if c["status"] == s] for s in ("fail", "needs_data", "warn", "pass", "not_applicable")]
+    groups.append([c for c in result["checks"] if c.get("advisory")])
+    return [[c["id"], c["status"]] for g in groups for c in g]
 
 
 def shown_checks(page) -> list:
@@ -168,7 +178,7 @@ def test_spot_check_from_d_values_matches_cpython_and_saves(page, site):
     want = sample_checks(expected)
     assert headline(page) == {k: want[k] for k in ("filter.retention", "filter.permeability")}
     assert want["filter.retention"] == "pass" and want["filter.permeability"] == "pass"  # 0.3/0.08 = 3.75 <= 4
-    assert expected["notice"] in page.text_content(".verdict-card")
+    assert page.text_content("#view").count(expected["notice"]) == 1
 
     # NRCS 1994 without the base's category sizes: the core says what it needs, the screen shows it.
     page.get_by_label("Filter criteria").select_option("nrcs-1994")
@@ -196,7 +206,7 @@ def test_spot_check_from_d_values_matches_cpython_and_saves(page, site):
     settle(page)
     assert page.get_attribute(".verdict-bar", "data-verdict") == expected["verdict"]
     assert page.get_by_label("D-values (supplier's sheet)").is_checked()
-    page.get_by_role("button", name="Save test").click()
+    save_test(page)
     page.wait_for_selector("#view[data-screen='record']")
     rid = page.get_attribute(".detail", "data-id")
     rec = page.evaluate("async (id) => (await import('/src/storage/records.js')).getRecord(id)", rid)
@@ -241,8 +251,13 @@ def test_band_copied_from_the_core_examples_is_checked_like_cpython(page, site):
     assert page.get_attribute(".verdict-card .verdict", "data-verdict") == expected["verdict"]
     assert page.locator("svg.chart .band-area").count() == 1
     assert_band_rows_shown(page, want)
-    # 100 % passing 3/8 in against a band of 100 to 100 %: the smallest margin is 0 points there.
-    assert want["value"] == 0.0 and "exactly on a limit" in page.text_content(BAND_CHECK + " .check-values")
+    # 100 % passing 3/8 in against a band of 100 to 100 %: the smallest margin is 0 points there, which tells
+    # nothing; the line names the nearest limit among the sieves whose band is a range.
+    assert want["value"] == 0.0
+    ranged = [(m, r["label"]) for r in want["sieves"] if r["min_pct"] != r["max_pct"]
+              for m in (r["margin_min_pct"], r["margin_max_pct"]) if m is not None]
+    text = page.text_content(BAND_CHECK + " .check-values")
+    assert text.startswith(f"Nearest a band limit: {min(ranged)[1]}, ") and "3/8 in" not in text
     assert "must be" not in page.text_content(BAND_CHECK)  # not "0 % (must be ≥ 0 %)"
 
     # 17.6 g moved from No. 8 to No. 4: the sample leaves the band at No. 4; the failing sieve is named.
@@ -303,7 +318,9 @@ def test_spot_check_does_not_store_a_base_soil_the_core_refuses(page, site):
     resp = cpython_error("evaluate", sample={"passing": [{"opening_mm": d, "passing_pct": float(p.replace(",", "."))}
                                                          for d, p in SPOT[:3]]},
                          base={"d_mm": {"D15": 0.01}}, rules={"criteria": "nrcs-1994"})
-    assert resp["error"]["message"] in page.text_content("#view")
+    # In plain words (the field's path stays in data-field, not in the message).
+    path, rest = resp["error"]["message"].split(" ", 1)
+    assert rest in page.text_content("#view") and path not in page.text_content("#view")
     page.get_by_role("button", name="Save as a test record").click()
     page.get_by_text("Not saved: the base soil's figures are refused").wait_for()
     assert page.evaluate("async () => (await import('/src/storage/records.js')).listRecords()") == []

@@ -18,7 +18,7 @@ from pathlib import Path
 
 from tamis.api import handle
 
-from test_ui_common import add_base_soil, add_preset_band, enter_sample, go, open_app, settle, wait_screen
+from test_ui_common import add_base_soil, add_preset_band, enter_sample, go, open_app, open_filters, save_test, settle, wait_screen
 
 DEMO_CSV = Path(__file__).resolve().parent.parent / "demo_data" / "demo_project.csv"
 
@@ -41,7 +41,7 @@ def test_export_is_byte_identical_to_the_core_and_import_asks_on_conflict(page, 
     open_app(page, site)
     add_base_soil(page, "B-3")
     enter_sample(page, base_label="B-3 · silty sand core")
-    page.get_by_role("button", name="Save test").click()
+    save_test(page)
     page.wait_for_selector("#view[data-screen='record']")
     wait_screen(page)
     assert page.text_content("#unexported") == "1"  # one test not yet exported
@@ -78,7 +78,7 @@ def test_export_is_byte_identical_to_the_core_and_import_asks_on_conflict(page, 
     go(page, f"#/entry/{test['record_id']}")
     page.fill("input[data-field='sample.sieves[2].retained_g']", "81")
     settle(page)
-    page.get_by_role("button", name="Save changes").click()
+    save_test(page, "Save changes")
     page.wait_for_function("(id) => import('/src/storage/records.js').then(m => m.getRecord(id)).then(r => r.rev === 2)",
                            arg=test["record_id"])
     office = json.loads(json.dumps(test))
@@ -131,7 +131,7 @@ def test_export_of_a_selection_carries_its_band_and_base_as_context(page, site):
     enter_sample(page, base_label="B-5 · silty sand core")
     page.get_by_label("Specification band").select_option(label=fine["name"])
     settle(page)
-    page.get_by_role("button", name="Save test").click()
+    save_test(page)
     page.wait_for_selector("#view[data-screen='record']")
     wait_screen(page)
     recs = all_records(page)
@@ -235,6 +235,7 @@ def test_record_list_verdicts_and_filters_match_cpython(page, site):
     shown = dict(page.eval_on_selector_all("li.record-item[data-kind=test]",
                                            "els => els.map(e => [e.dataset.id, e.querySelector('.record-verdict').dataset.verdict])"))
     assert shown == expected
+    open_filters(page)
     for verdict in set(expected.values()):
         page.get_by_label("Verdict").select_option(verdict)
         ids = page.eval_on_selector_all("li.record-item", "els => els.map(e => e.dataset.id)")

@@ -7,11 +7,11 @@ Invented data (see ``test_ui_common``).
 from __future__ import annotations
 
 import helpers
-from test_ui_common import enter_sample, go, open_app, settle, wait_screen
+from test_ui_common import enter_sample, go, open_app, open_filters, save_test, settle, wait_screen
 
 
 def save_current_test(page) -> str:
-    page.get_by_role("button", name="Save test").click()
+    save_test(page)
     page.wait_for_selector("#view[data-screen='record']")
     wait_screen(page)
     return page.get_attribute(".detail", "data-id")
@@ -47,7 +47,7 @@ def test_saved_test_is_there_after_reload_and_edit_keeps_history(page, site):
     go(page, f"#/entry/{rid}")
     page.fill("input[data-field='sample.sieves[1].retained_g']", "12,6")
     settle(page)
-    page.get_by_role("button", name="Save changes").click()
+    save_test(page, "Save changes")
     page.wait_for_function("(id) => import('/src/storage/records.js').then(m => m.getRecord(id)).then(r => r.rev === 2)", arg=rid)
     rec = stored(page, rid)
     assert rec["history"][-1]["changes"] == [{"field": "test.sieves[1].retained_g", "old": 12.4, "new": 12.6}]
@@ -59,7 +59,7 @@ def test_saved_test_is_there_after_reload_and_edit_keeps_history(page, site):
 
     # Saving again with nothing changed writes no empty revision.
     go(page, f"#/entry/{rid}")
-    page.get_by_role("button", name="Save changes").click()
+    save_test(page, "Save changes")
     page.wait_for_selector("text=Nothing changed since the last save.")
     assert stored(page, rid)["rev"] == 2
 
@@ -72,6 +72,7 @@ def test_saved_test_is_there_after_reload_and_edit_keeps_history(page, site):
     assert rec["deleted"] is True and rec["rev"] == 3
     go(page, "#/records")
     assert page.locator(f"li.record-item[data-id='{rid}']").count() == 0
+    open_filters(page)
     page.get_by_label("Kind").select_option("deleted")
     assert page.locator(f"li.record-item[data-id='{rid}']").count() == 1
 

@@ -3,7 +3,7 @@
 // only through ./bridge.js, so every figure shown comes from tamis.api.
 import { onStatus, whenReady, call } from "./bridge.js";
 import { startOffline } from "./offline.js";
-import { h, fill, announce } from "./ui/dom.js";
+import { h, fill, announce, clearToast } from "./ui/dom.js";
 import { loadSettings } from "./storage/settings.js";
 import { listRecords, notExported } from "./storage/records.js";
 import { requestPersistence } from "./storage/persist.js";
@@ -20,6 +20,7 @@ const offlineLine = document.getElementById("offline-status");
 const badge = document.getElementById("unexported");
 const banner = document.getElementById("banner");
 
+let carryToast = false;
 const app = {
   settings: null,
   coreVersion: null,
@@ -27,6 +28,7 @@ const app = {
   nav: {}, // one-shot options for the next screen (seed record, selection)
   go(hash, opts = {}) {
     app.nav = opts;
+    carryToast = true; // a toast just said ("Saved") goes with the screen the app opens
     if (location.hash === hash) render();
     else location.hash = hash;
   },
@@ -35,7 +37,8 @@ const app = {
     const n = recs.filter((r) => r.kind === "test" && notExported(r)).length;
     badge.textContent = String(n);
     badge.hidden = n === 0;
-    badge.setAttribute("aria-label", `${n} tests not yet exported`);
+    badge.setAttribute("aria-label", `${n} not exported`);
+    badge.setAttribute("role", "status");
   },
 };
 
@@ -99,6 +102,8 @@ async function render() {
     else a.removeAttribute("aria-current");
   }
   view.dataset.screen = route;
+  if (!carryToast) clearToast();
+  carryToast = false;
   delete view.dataset.evaluated;
   delete view.dataset.busy;
   try {

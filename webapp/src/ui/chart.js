@@ -6,7 +6,8 @@ import { h, fill, fmt, fmtPct, table } from "./dom.js";
 
 const W = 360;
 const H = 250;
-const M = { left: 40, right: 18, top: 14, bottom: 44 };
+// The top margin holds the D15 window's tag, above the curves (never over them).
+const M = { left: 40, right: 18, top: 26, bottom: 44 };
 
 function sizesOf({ sample, base, band, limits }) {
   const s = [];
@@ -57,7 +58,7 @@ export function renderChart(box, data, axis = "coarse-left", title = "Gradation 
       const d = m * 10 ** k;
       if (Math.log10(d) > hi + 1e-9) continue;
       grid.append(h("svg:line", { x1: x(d), x2: x(d), y1: M.top, y2: H - M.bottom, class: m === 1 ? "major" : "minor" }));
-      if (m === 1) grid.append(h("svg:text", { x: x(d), y: H - M.bottom + 14, class: "tick xtick", text: fmt(d, 3) }));
+      if (m === 1) grid.append(h("svg:text", { x: x(d), y: H - M.bottom + 14, class: "tick xtick", text: String(Number(d.toPrecision(3))) }));
     }
   }
   grid.append(h("svg:text", { x: M.left + pw / 2, y: H - 10, class: "axis-label", text: "Particle size (mm), log scale" }));
@@ -76,7 +77,9 @@ export function renderChart(box, data, axis = "coarse-left", title = "Gradation 
     for (const v of [a, b]) if (v !== null) g.append(h("svg:line", { x1: v, x2: v, y1: M.top, y2: H - M.bottom }));
     g.append(h("svg:line", { class: "d15-level", x1: M.left, x2: W - M.right, y1: y(15), y2: y(15) }));
     const lx = b !== null ? b : a;
-    g.append(h("svg:text", { x: lx + 3, y: M.top + 12, class: "tag", text: "D15 window" }));
+    // Above the plot, anchored so it stays inside the drawing.
+    const anchor = lx > W - M.right - 60 ? "end" : lx < M.left + 60 ? "start" : "middle";
+    g.append(h("svg:text", { x: lx, y: M.top - 8, class: "tag", "text-anchor": anchor, text: "D15 window" }));
     svg.append(g);
   }
 
@@ -110,9 +113,16 @@ export function renderChart(box, data, axis = "coarse-left", title = "Gradation 
     data.sample ? h("li", { class: "lg-sample", text: "Sample: solid line, round marks" }) : null,
     data.base ? h("li", { class: "lg-base", text: "Base soil: dashed line, square marks" }) : null,
     data.band ? h("li", { class: "lg-band", text: `Band ${data.band.name || ""}: shaded area`.trim() }) : null,
-    lim.d15_max_mm || lim.d15_min_mm ? h("li", { class: "lg-d15", text: `D15 window of the filter: ${fmt(lim.d15_min_mm)} to ${fmt(lim.d15_max_mm)} mm` }) : null);
+    lim.d15_max_mm || lim.d15_min_mm ? h("li", { class: "lg-d15", text: d15Words(lim) }) : null);
 
   fill(box, svg, legend, chartTable(data));
+}
+
+/** "D15 window of the filter: 0.1 to 0.586 mm", or its one bound when the other is not known. */
+function d15Words(lim) {
+  const lo = lim.d15_min_mm; const hi = lim.d15_max_mm;
+  if (lo && hi) return `D15 window of the filter: ${fmt(lo)} to ${fmt(hi)} mm`;
+  return hi ? `D15 of the filter at most ${fmt(hi)} mm (dashed line)` : `D15 of the filter at least ${fmt(lo)} mm (dashed line)`;
 }
 
 /** The chart's numbers as a table (its text alternative). No value is interpolated. */

@@ -80,7 +80,9 @@ export function fmt(value, digits = 3) {
   if (typeof value !== "number") return String(value);
   if (value === 0) return "0";
   const abs = Math.abs(value);
-  if (abs >= 1000 || abs < 0.001) return value.toPrecision(digits);
+  // No scientific notation in the ranges people read (masses of kilograms,
+  // sizes down to microns, percentages): 16410.6, 0.0012.
+  if (abs >= 1e15 || abs < 1e-6) return value.toPrecision(digits);
   if (abs >= 100) return value.toFixed(1);
   return Number(value.toPrecision(digits)).toString();
 }
@@ -100,6 +102,12 @@ export function announce(message) {
   requestAnimationFrame(() => { node.textContent = message; });
   clearTimeout(announce.timer);
   announce.timer = setTimeout(() => { node.textContent = ""; }, 6000);
+}
+
+/** Clear the toast line: a screen the person opens does not show a message of the one they left. */
+export function clearToast() {
+  const node = document.getElementById("toast");
+  if (node) { clearTimeout(announce.timer); node.textContent = ""; }
 }
 
 /** An ISO UTC time for people: "2026-12-01T09:30:00Z" -> "2026-12-01 09:30 UTC" (anything else as it is). */

@@ -1,9 +1,11 @@
 // Screen "Sieve test": enter or edit a test, with the verdict as you type.
 import { h, fill, field, announce } from "./dom.js";
+import { askTester } from "./tester.js";
 import { ask, evaluateFields } from "./core.js";
-import { testEditor, enterMovesOn, showFieldError } from "./test_editor.js";
+import { gradationEditor, enterMovesOn, showFieldError } from "./editor/gradation_editor.js";
+import { plainWords } from "./editor/fields.js";
 import { metaForm, newSampleId } from "./meta_form.js";
-import { renderVerdict, verdictLine, noticeNode, FALLBACK_NOTICE } from "./verdict.js";
+import { renderVerdict, verdictLine, firstReason, notYet } from "./verdict.js";
 import { renderChart } from "./chart.js";
 import { sievePresets, RULE_SETS } from "./presets.js";
 import { blankRecord, getRecord, listRecords, saveRecord, storeResult } from "../storage/records.js";
@@ -34,14 +36,16 @@ export async function entryScreen(app, view, id = null, seed = null) {
   if (seed) rec = seed;
   else if (stored) rec = draft && draft.record_id === stored.record_id && draft.rev === stored.rev ? draft : structuredClone(stored);
   else if (draft && draft.rev === 0) rec = draft;
-  else rec = blankRecord("test", { meta: { sample_id: newSampleId(), tested_by: app.settings.tester || undefined, rules: { criteria: app.settings.rules } } });
+  else rec = blankRecord("test", { meta: { sample_id: newSampleId(), sampled_at: nowMinute(), tested_by: app.settings.tester || undefined, rules: { criteria: app.settings.rules } } });
   if (!rec.meta.sample_id) rec.meta.sample_id = newSampleId();
 
   const form = h("form", { class: "screen entry", novalidate: true, onsubmit: (e) => e.preventDefault() });
   enterMovesOn(form);
   const title = stored ? `Edit test ${stored.meta?.sample_id || ""}` : "New sieve test";
-  const bar = h("div", { class: "verdict-bar", role: "status", "aria-live": "polite", "aria-label": "Current verdict" },
-    h("p", { class: "bar-verdict", text: verdictLine(null) }), noticeNode(FALLBACK_NOTICE));
+  // The bar: the verdict and its first reason (the caution is in the verdict card, once).
+  const barVerdict = h("p", { class: "bar-verdict", text: verdictLine(null) });
+  const barReason = h("p", { class: "bar-reason" });
+  const bar = h("div", { class: "verdict-bar", role: "status", "aria-live": "polite", "aria-label": "Current verdict" }, barVerdict, barReason);
 
   // Checked against: band, base soil, rule set.
   const bandF = refSelect("Specification band", bands, rec.meta.band_id, bandName);
@@ -49,13 +53,14 @@ export async function entryScreen(app, view, id = null, seed = null) {
   const rulesSel = h("select", {}, RULE_SETS.map((r) => h("option", { value: r.id, text: r.name, selected: (rec.meta.rules?.criteria || app.settings.rules) === r.id })));
   const rulesF = field("Filter criteria", rulesSel);
   for (const s of [bandF.input, baseF.input, rulesSel]) s.addEventListener("change", () => schedule());
+  bandF.input.addEventListener("change", () => offerBandStack());
 
   const metaBox = h("div");
   const testBox = h("div");
   const verdictBox = h("section", { class: "card verdict-card", "aria-label": "Verdict" });
-  const chartBox = h("section", { class: "card", "aria-label": "Gradation chart" });
+  const chartBox = h("div", { class: "chart-box", "aria-label": "Gradation chart", role: "group" });
   const dvalBox = h("section", { class: "card", "aria-label": "D-values" });
-  const saveStatus = h("p", { class: "hint", role: "status" });
+  const saveStatus = h("p", { class: "hint save-status", role: "status" });
   const banner = h("p", { class: "core-error", role: "alert" });
 
   fill(view,
@@ -68,7 +73,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
       h("summary", { text: `Sample details: ${rec.meta.sample_id} (project, place, date…)` }), metaBox),
     h("section", { class: "card" }, h("h2", { text: "Gradation of the sample" }), testBox),
     banner,
-    verdictBox, dvalBox, chartBox,
+    verdictBox, dvalBox,
     h("div", { class: "actions" },
       h("button", { type: "button", class: "btn primary", text: stored ? "Save changes" : "Save test", onclick: save }),
       h("button", { type: "button", class: "btn", text: "Start a new test", onclick: startNew })),
@@ -76,8 +81,16 @@ export async function entryScreen(app, view, id = null, seed = null) {
     bar);
 
   const meta = metaForm(metaBox, rec.meta, { onChange: () => schedule() });
-  const editor = testEditor(testBox, rec.test, { path: "sample", presets, onChange: () => schedule() });
-  renderVerdict(verdictBox, null);
+  const editor = gradationEditor(testBox, rec.test, { path: "sample", presets, onChange: () => schedule() });
+  renderVerdict(verdictBox, null, { slot: chartBox });
+
+  /** A band chosen: its sieves are offered first as a stack. */
+  function offerBandStack() {
+    const band = bands.find((b) => b.record_id === bandF.input.value)?.band;
+    const sieves = (band?.limits || []).map((l) => ({ opening_mm: l.opening_mm })).sort((a, b) => b.opening_mm - a.opening_mm);
+    editor.offerStacks(sieves.length ? [{ id: "band-sieves", name: `The band's sieves (${band.name || "band"})`, sieves }] : []);
+  }
+  offerBandStack();
 
   function current() {
     const m = meta.read();
@@ -106,7 +119,9 @@ export async function entryScreen(app, view, id = null, seed = null) {
     const done = () => { if (mine === asked) delete view.dataset.busy; };
     const { record, localErrors } = current();
     if (localErrors) {
-      bar.firstChild.textContent = "… fix the highlighted entry";
+      barVerdict.textContent = "… no verdict yet: fix the highlighted entry";
+      barReason.textContent = "";
+      bar.dataset.verdict = "none";
       done();
       return;
     }
@@ -119,13 +134,15 @@ export async function entryScreen(app, view, id = null, seed = null) {
     if (!table.superseded) editor.showGradation(table.ok ? table.result : null);
     last = resp;
     view.dataset.evaluated = String((Number(view.dataset.evaluated) || 0) + 1);
-    const placed = showFieldError(form, resp.ok ? null : resp.error);
-    banner.textContent = !resp.ok && !placed ? resp.error.message : "";
-    renderVerdict(verdictBox, resp);
-    bar.firstChild.textContent = resp.ok ? verdictLine(resp.result.verdict) : "… no verdict yet";
+    const waiting = notYet(resp);
+    const placed = showFieldError(form, resp.ok || waiting ? null : resp.error, editor);
+    banner.textContent = !resp.ok && !placed && !waiting ? plainWords(resp.error.message, form, (f) => editor.screenField(f)) : "";
+    renderVerdict(verdictBox, resp, { slot: chartBox, waiting: "Type the masses on at least two sieves to see the verdict." });
+    if (waiting) fill(chartBox);
+    barVerdict.textContent = resp.ok ? verdictLine(resp.result.verdict) : waiting ? "… no verdict yet: type the masses" : "… no verdict yet";
+    barReason.textContent = resp.ok ? firstReason(resp.result) : "";
     bar.dataset.verdict = resp.ok ? resp.result.verdict : "none";
     if (resp.ok) {
-      bar.lastChild.textContent = resp.result.notice || FALLBACK_NOTICE;
       renderDvalues(dvalBox, resp.result.sample);
       renderChart(chartBox, { sample: resp.result.sample, base: resp.result.base, band, limits: resp.result.limits }, app.settings.axis);
     }
@@ -135,6 +152,8 @@ export async function entryScreen(app, view, id = null, seed = null) {
   async function save() {
     const { record, localErrors } = current();
     if (localErrors) { saveStatus.textContent = "Not saved: fix the highlighted entries first."; return; }
+    const tester = await askTester(app, saveStatus);
+    if (tester && !record.meta.tested_by) record.meta.tested_by = tester;
     const { record: saved, changed } = await saveRecord(record, { by: app.settings.tester || "", summary: stored ? "edited" : "created" });
     rec = structuredClone(saved);
     await clearDraft(draftName);
@@ -152,6 +171,11 @@ export async function entryScreen(app, view, id = null, seed = null) {
   }
 
   schedule();
+}
+
+/** Now, to the minute, as the record keeps times (ISO UTC): the sampling time a new test starts with. */
+function nowMinute() {
+  return new Date().toISOString().replace(/:\d\d\.\d{3}Z$/, ":00Z");
 }
 
 /** D-values, Cu, Cc, fractions and USCS class from the core's gradation. */

@@ -39,7 +39,8 @@ export async function exportRecords(app, records, { share = false } = {}) {
     setTimeout(() => URL.revokeObjectURL(url), 10000);
   }
   await markExported(records.map((r) => r.record_id), at);
-  app.refreshBadge();
+  await app.refreshBadge();
+  await app.recount?.();
   return { ok: true, message: `${resp.result.count} records ${how} as ${name}.`, csv: resp.result.csv };
 }
 
@@ -63,20 +64,37 @@ function describe(r) {
 }
 
 export async function exchangeScreen(app, view, opts = {}) {
-  const all = await listRecords({ includeDeleted: true });
-  const pending = all.filter(notExported);
+  let all = await listRecords({ includeDeleted: true });
+  let pending = all.filter(notExported);
   const selection = (opts.selection || []).map((id) => all.find((r) => r.record_id === id)).filter(Boolean);
+  // The counts on the buttons follow the records at once after an export or an import.
+  const counted = []; // [button, label, () => records]
+  app.recount = async () => {
+    if (!view.contains(status)) return;
+    all = await listRecords({ includeDeleted: true });
+    pending = all.filter(notExported);
+    for (const [btn, label, recs] of counted) { const n = recs().length; btn.textContent = typeof label === "function" ? label(n) : `${label} (${n})`; btn.disabled = n === 0; }
+  };
   const status = h("p", { class: "status-line", role: "status", "aria-live": "polite" });
   const importBox = h("div", { class: "import-result" });
   const canShare = Boolean(navigator.canShare);
-  const exportBtn = (label, recs) => h("button", {
-    type: "button", class: "btn", text: `${label} (${recs.length})`, disabled: recs.length === 0,
-    onclick: async () => { status.textContent = "Exporting…"; const r = await exportRecords(app, recs, { share: false }); status.textContent = r.message; if (r.ok) announce(r.message); },
-  });
-  const shareBtn = (recs) => canShare ? h("button", {
-    type: "button", class: "btn", text: `Share not yet exported (${recs.length})`, disabled: recs.length === 0,
-    onclick: async () => { const r = await exportRecords(app, recs, { share: true }); status.textContent = r.message; },
-  }) : null;
+  const exportBtn = (label, recs) => {
+    const btn = h("button", {
+      type: "button", class: "btn", text: `${label} (${recs().length})`, disabled: recs().length === 0,
+      onclick: async () => { status.textContent = "Exporting…"; const r = await exportRecords(app, recs(), { share: false }); status.textContent = r.message; if (r.ok) announce(r.message); },
+    });
+    counted.push([btn, label, recs]);
+    return btn;
+  };
+  const shareBtn = (recs) => {
+    if (!canShare) return null;
+    const btn = h("button", {
+      type: "button", class: "btn", text: `Share not yet exported (${recs().length})`, disabled: recs().length === 0,
+      onclick: async () => { const r = await exportRecords(app, recs(), { share: true }); status.textContent = r.message; },
+    });
+    counted.push([btn, "Share not yet exported", recs]);
+    return btn;
+  };
 
   const fileInput = h("input", { type: "file", id: "import-file", accept: ".csv,text/csv" });
   fileInput.addEventListener("change", async () => {
@@ -86,17 +104,19 @@ export async function exchangeScreen(app, view, opts = {}) {
     fileInput.value = "";
   });
 
-  const demo = all.filter(isDemo);
+  let demo = all.filter(isDemo);
+  const demoText = (n) => `Remove the demo (${n} records)`;
   const live = all.filter((r) => !r.deleted);
+  let demoBtn = null;
   fill(view, h("div", { class: "screen" },
     h("h1", { text: "Import and export" }),
     h("section", { class: "card" }, h("h2", { text: "Export as CSV" }),
       h("p", { class: "hint", text: "Data leaves this device only when you export it. Exported records are marked with the time of export." }),
       h("div", { class: "actions column" },
-        exportBtn("Export records not yet exported", pending),
-        shareBtn(pending),
-        exportBtn("Export all records", all),
-        selection.length ? exportBtn("Export the selected records", selection) : h("p", { class: "hint", text: "To export a selection, tick records in the Records list." }))),
+        exportBtn("Export records not yet exported", () => pending),
+        shareBtn(() => pending),
+        exportBtn("Export all records", () => all),
+        selection.length ? exportBtn("Export the selected records", () => selection) : h("p", { class: "hint", text: "To export a selection, tick records in the Records list." }))),
     h("section", { class: "card" }, h("h2", { text: "Import a CSV" }),
       h("p", { class: "hint", text: "Tests, bands and base soils from the office or another device. Nothing is written until the file has been read without error." }),
       h("div", { class: "field" }, h("label", { for: "import-file", text: "CSV file" }), fileInput), importBox),
@@ -104,7 +124,8 @@ export async function exchangeScreen(app, view, opts = {}) {
       live.length === 0 ? h("p", { text: "This device holds no records yet. The demo project (an invented dam) shows how tests, bands and base soils fit together." }) : null,
       h("div", { class: "actions" },
         h("button", { type: "button", class: "btn", text: "Open the demo project", onclick: () => openDemo(app, importBox, status) }),
-        h("button", { type: "button", class: "btn", text: `Remove the demo (${demo.length} records)`, disabled: demo.length === 0, onclick: async () => {
+        demoBtn = h("button", { type: "button", class: "btn", text: demoText(demo.length), disabled: demo.length === 0, onclick: async () => {
+          demo = all.filter(isDemo);
           if (!confirm(`Remove the ${demo.length} demo records? Your own records are not touched.`)) return;
           await purgeRecords(demo.map((r) => r.record_id));
           announce("Demo removed.");
@@ -112,6 +133,7 @@ export async function exchangeScreen(app, view, opts = {}) {
           app.go("#/exchange", { force: true });
         } }))),
     status));
+  counted.push([demoBtn, demoText, () => all.filter(isDemo)]);
 }
 
 /**
@@ -150,7 +172,7 @@ async function writeImport(r) {
 }
 
 /** What an applied import did, with the records it added listed by name. */
-function doneView(app, box, status, name, r, written) {
+async function doneView(app, box, status, name, r, written) {
   const added = written.filter((x) => (r.added || []).includes(x.record_id));
   const resolved = (r.resolved || []).length;
   const parts = [`${r.added.length} added${added.length ? ` (${kindsText(added)})` : ""}`];
@@ -165,7 +187,8 @@ function doneView(app, box, status, name, r, written) {
     h("div", { class: "actions" }, h("a", { class: "btn", href: "#/records", text: "See the records" })));
   status.textContent = msg;
   announce(msg);
-  app.refreshBadge();
+  await app.refreshBadge();
+  await app.recount?.();
 }
 
 /**
@@ -186,7 +209,7 @@ export async function importText(app, csv, box, status, name, { direct = false }
   const r = resp.result;
   const conflicts = r.conflicts || [];
   if (direct && conflicts.length === 0) {
-    doneView(app, box, status, name, r, await writeImport(r));
+    await doneView(app, box, status, name, r, await writeImport(r));
     return;
   }
   const choice = new Map();
@@ -228,7 +251,7 @@ export async function importText(app, csv, box, status, name, { direct = false }
         return;
       }
     }
-    doneView(app, box, status, name, result, await writeImport(result));
+    await doneView(app, box, status, name, result, await writeImport(result));
   });
   fill(box,
     h("p", { text: `${name}: ${r.rows} rows; ${r.added.length} new, ${r.updated.length} newer than on this device, ${r.unchanged.length} unchanged, ${conflicts.length} in conflict.` }),

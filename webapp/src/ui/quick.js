@@ -5,8 +5,9 @@
 // filling a whole record; the result can be saved as a test record.
 import { h, fill, field, newId, announce } from "./dom.js";
 import { ask, evaluateFields } from "./core.js";
-import { testEditor, enterMovesOn, showFieldError } from "./test_editor.js";
-import { renderVerdict, checkItem, noticeNode, VERDICT_WORDS } from "./verdict.js";
+import { gradationEditor, enterMovesOn, showFieldError } from "./editor/gradation_editor.js";
+import { renderVerdict, checkItem, noticeNode, verdictBlock, notYet } from "./verdict.js";
+import { plainWords } from "./editor/fields.js";
 import { renderChart } from "./chart.js";
 import { renderDvalues, baseName } from "./entry.js";
 import { RULE_SETS } from "./presets.js";
@@ -66,10 +67,10 @@ export async function quickScreen(app, view) {
     h("div", { class: "actions" }, h("button", { type: "button", class: "btn primary", text: "Save as a test record", onclick: saveAs })),
     status);
   showBase();
-  const baseEditor = testEditor(typedBox, TYPED_BASE, { path: "base", forms: ["dvalues"], dNames: ["D15", "D85"], onChange: () => schedule() });
-  const editor = testEditor(editorBox, { passing: [{}, {}, {}] }, { path: "sample", forms: ["passing", "dvalues"], onChange: () => schedule() });
+  const baseEditor = gradationEditor(typedBox, TYPED_BASE, { path: "base", forms: ["dvalues"], dNames: ["D15", "D85"], dispersive: true, onChange: () => schedule() });
+  const editor = gradationEditor(editorBox, { passing: [{}, {}, {}] }, { path: "sample", forms: ["passing", "dvalues"], onChange: () => schedule() });
   for (const s of [baseSel, rulesSel]) s.addEventListener("change", () => schedule());
-  renderVerdict(verdictBox, null, { title: "All checks" });
+  renderVerdict(verdictBox, null, { title: "All checks", notice: false });
   renderHeadline(headBox, null);
 
   /** {base, record, bad}: the base soil test sent (or null) and the stored record it came from. */
@@ -94,10 +95,11 @@ export async function quickScreen(app, view) {
     const resp = await ask("evaluate", evaluateFields(test, { base, rules: { criteria: rulesSel.value } }), "quick");
     if (resp.superseded) return;
     view.dataset.evaluated = String((Number(view.dataset.evaluated) || 0) + 1);
-    const placed = showFieldError(form, resp.ok ? null : resp.error);
-    status.textContent = !resp.ok && !placed ? resp.error.message : "";
+    const waiting = notYet(resp);
+    const placed = showFieldError(form, resp.ok || waiting ? null : resp.error, editor, baseEditor);
+    status.textContent = !resp.ok && !placed && !waiting ? plainWords(resp.error.message, form) : "";
     renderHeadline(headBox, resp, Boolean(base));
-    renderVerdict(verdictBox, resp, { title: "All checks" });
+    renderVerdict(verdictBox, resp, { title: "All checks", notice: false, waiting: "Type the delivered material's figures to see them." });
     if (resp.ok) {
       renderDvalues(dBox, resp.result.sample);
       renderChart(chartBox, { sample: resp.result.sample, base: resp.result.base, limits: resp.result.limits }, app.settings.axis);
@@ -131,19 +133,17 @@ export async function quickScreen(app, view) {
 function renderHeadline(box, resp, hasBase = false) {
   if (!resp || !resp.ok) {
     fill(box, h("h2", { text: "Retention and permeability" }),
-      h("p", { class: "muted", text: resp ? "No result yet: see the message beside the entries." : "Type the delivered material's figures to see them." }),
+      h("p", { class: "muted", text: resp && !notYet(resp) ? "No result yet: see the message beside the entries." : "Type the delivered material's figures to see them." }),
       noticeNode());
     return;
   }
   const checks = HEADLINE_CHECKS.map((id) => (resp.result.checks || []).find((c) => c.id === id && (c.subject || "sample") === "sample"))
     .filter(Boolean);
-  const vw = VERDICT_WORDS[resp.result.verdict] || { word: resp.result.verdict, symbol: "?" };
   fill(box, h("h2", { text: "Retention and permeability" }),
     hasBase ? null : h("p", { class: "hint", text: "No base soil given: both need one." }),
     checks.length ? h("ul", { class: "checks headline-checks" }, checks.map(checkItem))
       : h("p", { class: "muted", text: "The core reported neither check for this input." }),
-    h("p", { class: `verdict verdict-${resp.result.verdict}` },
-      h("span", { class: "status-mark", "aria-hidden": "true", text: vw.symbol }),
-      ` All checks together: ${vw.word} (see below)`),
+    h("p", { class: "hint", text: "All checks together (listed below):" }),
+    verdictBlock(resp.result.verdict),
     noticeNode(resp.result.notice || undefined));
 }

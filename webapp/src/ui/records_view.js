@@ -60,10 +60,11 @@ export async function recordsScreen(app, view) {
     h("h1", { text: "Records on this device" }),
     h("div", { class: "actions" },
       h("a", { class: "btn primary", href: "#/entry", text: "New sieve test" })),
-    h("section", { class: "card filters" }, h("h2", { text: "Find" }),
+    // The records first; search and filters one tap away.
+    h("details", { class: "card filters" }, h("summary", { text: "Search and filters" }),
       search.wrap, h("div", { class: "grid2" }, kindF.wrap, projectF.wrap, materialF.wrap, verdictF.wrap),
       h("div", { class: "check-row" }, pending, h("label", { for: "f-pending", text: "Only records not yet exported" }))),
-    count, exportSel, list));
+    count, list, exportSel));
 
   let verdicts = new Map();
   const draw = () => {
@@ -106,6 +107,16 @@ function metaList(meta) {
   return h("dl", { class: "meta-list" }, rows.map(([k, v]) => [h("dt", { text: k.replaceAll("_", " ") }), h("dd", { text: typeof v === "object" ? JSON.stringify(v) : String(v) })]));
 }
 
+const FINES_WORDS = { plasticity: "plasticity of the fines", nonplastic: "fines nonplastic", liquid_limit: "liquid limit LL (%)", plasticity_index: "plasticity index PI (%)" };
+
+/** What a test says of its fines: "Nonplastic", "LL 38 %, PI 18 %", "Not tested"; and for a base, dispersive or not. */
+export function finesWords(rec) {
+  const pl = rec.test?.plasticity || {};
+  const parts = [pl.nonplastic ? "Nonplastic" : typeof pl.liquid_limit === "number" ? `LL ${pl.liquid_limit} %, PI ${pl.plasticity_index} %` : "Plasticity not tested"];
+  if (rec.kind === "base") parts.push(rec.test?.dispersive === true ? "dispersive" : rec.test?.dispersive === false ? "not dispersive" : "dispersion not known");
+  return parts.join("; ");
+}
+
 const TOTALS = { pan_g: "pan (g)", dry_mass_g: "dry mass before washing (g)", washed_dry_mass_g: "dry mass after washing (g)" };
 
 /**
@@ -120,6 +131,8 @@ export function fieldWords(path, rec) {
   if ((m = /^test\.passing\[(\d+)\]\.opening_mm$/.exec(path))) return `size of row ${Number(m[1]) + 1} (mm)`;
   if ((m = /^test\.d_mm\.(D\d+(\.\d+)?)$/.exec(path))) return `${m[1]} (mm)`;
   if ((m = /^test\.(pan_g|dry_mass_g|washed_dry_mass_g)$/.exec(path))) return TOTALS[m[1]];
+  if ((m = /^test\.plasticity(\.(nonplastic|liquid_limit|plasticity_index))?$/.exec(path))) return FINES_WORDS[m[2] || "plasticity"];
+  if (path === "test.dispersive") return "dispersive";
   if ((m = /^meta\.([a-z_]+)$/.exec(path))) return m[1].replaceAll("_", " ");
   return null;
 }
@@ -144,6 +157,7 @@ export async function detailScreen(app, view, id) {
   const verdictBox = h("section", { class: "card verdict-card" });
   const dvalBox = h("section", { class: "card" });
   const chartBox = h("section", { class: "card" });
+  const resultChart = h("div", { class: "chart-box", role: "group", "aria-label": "Gradation chart" });
   const status = h("p", { class: "hint", role: "status" });
   const editHref = rec.kind === "test" ? `#/entry/${rec.record_id}` : `#/${rec.kind}/${rec.record_id}`;
   const actions = h("div", { class: "actions" },
@@ -169,7 +183,8 @@ export async function detailScreen(app, view, id) {
     rec.deleted ? h("p", { class: "core-error", text: "Deleted: kept on this device until it has been exported." }) : null,
     h("p", { class: "hint", text: `Revision ${rec.rev}, saved ${when(rec.updated_at)} by ${rec.updated_by || "unknown"}; ${notExported(rec) ? "not yet exported" : `exported ${when(rec.exported_at)}`}.` }),
     actions, status,
-    rec.kind === "test" ? [verdictBox, dvalBox, chartBox] : chartBox,
+    rec.kind === "test" ? [verdictBox, dvalBox] : chartBox,
+    rec.test ? h("section", { class: "card" }, h("h2", { text: "Fines" }), h("p", { class: "fines-line", text: finesWords(rec) })) : null,
     h("section", { class: "card" }, h("h2", { text: "Details" }), ...refs, metaList(rec.meta)),
     rec.kind === "band" ? h("section", { class: "card" }, h("h2", { text: "Band limits" }),
       h("table", {}, h("thead", {}, h("tr", {}, h("th", { scope: "col", text: "Size (mm)" }), h("th", { scope: "col", text: "Min (%)" }), h("th", { scope: "col", text: "Max (%)" }))),
@@ -184,11 +199,11 @@ export async function detailScreen(app, view, id) {
     else status.textContent = errorText(resp);
   } else {
     const resp = await evaluateRecord(rec, byId, app.settings);
-    renderVerdict(verdictBox, resp);
+    renderVerdict(verdictBox, resp, { slot: resultChart });
     if (resp.ok) {
       renderDvalues(dvalBox, resp.result.sample);
       const band = byId.get(rec.meta?.band_id)?.band || null;
-      renderChart(chartBox, { sample: resp.result.sample, base: resp.result.base, band, limits: resp.result.limits }, app.settings.axis);
+      renderChart(resultChart, { sample: resp.result.sample, base: resp.result.base, band, limits: resp.result.limits }, app.settings.axis);
       await storeResult(rec, resp.core_version, { verdict: resp.result.verdict });
     }
   }

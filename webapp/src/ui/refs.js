@@ -2,7 +2,7 @@
 import { h, fill, field, announce, table } from "./dom.js";
 import { ask, errorText } from "./core.js";
 import { parseDecimal, showDecimal } from "./decimal.js";
-import { testEditor, enterMovesOn, showFieldError } from "./test_editor.js";
+import { gradationEditor, enterMovesOn, showFieldError } from "./editor/gradation_editor.js";
 import { renderChart } from "./chart.js";
 import { renderDvalues, bandName, baseName } from "./entry.js";
 import { sievePresets } from "./presets.js";
@@ -125,7 +125,7 @@ export async function baseEditor(app, view, id = null) {
       h("p", { class: "hint", text: "Percent passing from the laboratory report (hydrometer points included), or masses from a sieve test." }), testBox),
     dBox, chartBox,
     h("div", { class: "actions" }, h("button", { type: "button", class: "btn primary", text: "Save base soil", onclick: save })), status);
-  const editor = testEditor(testBox, rec.test, { path: "test", presets, onChange: () => preview() });
+  const editor = gradationEditor(testBox, rec.test, { path: "test", presets, dispersive: true, onChange: () => preview() });
 
   function read() {
     const meta = { ...rec.meta };
@@ -138,7 +138,7 @@ export async function baseEditor(app, view, id = null) {
     if (bad) return;
     const resp = await ask("gradation", { test: record.test }, "base-editor");
     if (resp.superseded) return;
-    const placed = showFieldError(form, resp.ok ? null : resp.error);
+    const placed = showFieldError(form, resp.ok ? null : resp.error, editor);
     status.textContent = !resp.ok && !placed ? errorText(resp) : "";
     if (resp.ok) {
       editor.showGradation(resp.result);
