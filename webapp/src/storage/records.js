@@ -221,3 +221,23 @@ export async function cachedResult(rec, coreVersion) {
 export async function storeResult(rec, coreVersion, summary) {
   await (await db()).put("results", { record_id: rec.record_id, rev: rec.rev, core_version: coreVersion, ...summary });
 }
+
+/** Cached results of many records at once (one read of the whole cache): record_id -> hit, valid ones only. */
+export async function cachedResults(recs, coreVersion) {
+  const all = await (await db()).getAll("results");
+  const byId = new Map(all.map((hit) => [hit.record_id, hit]));
+  const out = new Map();
+  for (const rec of recs) {
+    const hit = byId.get(rec.record_id);
+    if (hit && hit.core_version === coreVersion && hit.rev === rec.rev) out.set(rec.record_id, hit);
+  }
+  return out;
+}
+
+/** Store many results in one transaction: [[record, summary], ...]. */
+export async function storeResults(pairs, coreVersion) {
+  const d = await db();
+  const tx = d.transaction("results", "readwrite");
+  for (const [rec, summary] of pairs) tx.store.put({ record_id: rec.record_id, rev: rec.rev, core_version: coreVersion, ...summary });
+  await tx.done;
+}
