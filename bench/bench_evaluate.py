@@ -1,12 +1,16 @@
 """Latency of ``evaluate`` and ``gradation`` through tamis.api.handle, now against a
 git revision of the core, in the same process (printed, never asserted).
 
-    python bench/bench_evaluate.py [--n 300] [--baseline HEAD] [--rounds 5]
+    python bench/bench_evaluate.py [--n 300] [--baseline HEAD] [--rounds 5] [--points 1000,10000]
 
 The requests are ``--n`` invented tests on a filter-sand stack (the generator
 of ``bench_api.py``) sent as ``gradation`` and as ``evaluate`` (every
 filter-material and internal-stability check), plus every ``evaluate`` golden
-request (tests/golden: filters against base soils, bands, zone sequences).
+request (tests/golden: filters against base soils, bands, zone sequences), plus
+one ``evaluate`` of a smooth invented filter-sand curve of each ``--points``
+size against a clay core (the scans on long curves; one round, and against the
+baseline only up to 2,000 points, since a quadratic baseline takes a minute on
+10,000).
 
 With ``--baseline REV`` the package ``pycore/tamis`` of that revision is taken
 from git (``git archive``) into a temporary directory and imported under
@@ -66,6 +70,23 @@ def request_sets(n: int) -> dict[str, list[str]]:
             "evaluate (golden)": golden_requests("evaluate")}
 
 
+def long_curve_request(n: int) -> str:
+    """``evaluate`` of an invented smooth filter-sand curve of ``n`` points (10 to 0.005 mm) on a clay core."""
+    import json
+    import math
+
+    pts = []
+    for i in range(n):
+        d = 10.0 ** (1.0 - 3.3 * i / (n - 1))
+        pts.append({"opening_mm": d, "passing_pct": 100.0 / (1.0 + math.exp(-(math.log(d) - math.log(0.5)) * 2.2))})
+    core = [(4.75, 100), (2, 99), (0.425, 96), (0.075, 88), (0.02, 60), (0.005, 38), (0.002, 24)]
+    return json.dumps({"schema": 1, "op": "evaluate", "sample": {"passing": pts, "plasticity": {"nonplastic": True}},
+                       "base": {"passing": [{"opening_mm": d, "passing_pct": p} for d, p in core]}})
+
+
+LONG_BASELINE_MAX = 2000
+
+
 def best_round(handle, reqs: list[str]) -> tuple[float, list[str]]:
     """``(seconds, answers)`` of one pass over ``reqs``."""
     t0 = time.perf_counter()
@@ -99,7 +120,10 @@ def main(argv=None) -> int:
     ap.add_argument("--n", type=int, default=300, help="invented tests per set (default 300)")
     ap.add_argument("--baseline", metavar="REV", help="git revision to compare with (e.g. HEAD~3)")
     ap.add_argument("--rounds", type=int, default=5, help="rounds per version; the fastest is kept (default 5)")
+    ap.add_argument("--points", default="1000,10000",
+                    help="sizes of the long curves evaluated once each, comma-separated ('' for none)")
     args = ap.parse_args(argv)
+    points = [int(x) for x in args.points.split(",") if x.strip()]
     sets = request_sets(max(1, args.n))
     with tempfile.TemporaryDirectory() as tmp:
         handles = {"now": api.handle}
@@ -112,6 +136,10 @@ def main(argv=None) -> int:
             for reqs in sets.values():
                 h(reqs[0])
         ok = all([compare(name, reqs, handles, max(1, args.rounds)) for name, reqs in sets.items()])
+        for n in points:
+            hs = {k: h for k, h in handles.items() if k == "now" or n <= LONG_BASELINE_MAX}
+            # the long curves' answers changed on purpose with the exact scans: timed, not compared
+            compare(f"evaluate ({n:,}-point curve)", [long_curve_request(n)], hs, 1)
     return 0 if ok else 1
 
 

@@ -206,8 +206,13 @@ def test_max_size_75(top, status):
     assert max_size_check(make_curve([(top, 100), (4.75, 40), (0.075, 2)])).status == status
 
 
-def test_max_size_needs_a_sieve_passing_100():
-    assert max_size_check(make_curve([(75.0, 98), (0.075, 2)])).status == "needs_data"
+def test_max_size_needs_a_sieve_passing_100_unless_the_bound_decides():
+    # 2 % retained on the coarsest sieve: D100 is larger than that sieve. Coarsest 75 mm: D100 > 75 mm, the
+    # limit D100 <= 75 mm fails whatever the unmeasured top is; coarsest 50 mm: D100 > 50 mm decides nothing
+    chk = max_size_check(make_curve([(75.0, 98), (0.075, 2)]))
+    assert chk.status == "fail" and "Decided by bounds" in chk.message and chk.value is None
+    assert max_size_check(make_curve([(50.0, 98), (0.075, 2)])).status == "needs_data"
+    assert max_size_check(make_curve([(75.0 * (1 - 1e-9), 98), (0.075, 2)])).status == "needs_data"
 
 
 @pytest.mark.parametrize("d10,d90max", [

@@ -130,9 +130,14 @@ def test_uniform_sand_stable_by_every_method():
     c = make_curve(UNIFORM)
     checks = {ch.id: ch for ch in st.stability_checks(c)[0]}
     for cid in ("stability.kezdi", "stability.kenney_lau", "stability.li_fannin", "stability.burenkova",
-                "stability.wan_fell", "stability.istomina"):
+                "stability.istomina"):
         assert checks[cid].status == "pass", (cid, checks[cid].message)
     assert checks["stability.kenney_lau"].extra["f_max_pct"] == 30.0   # Cu <= 3: narrowly graded
+    # Wan & Fell was fitted on broadly graded silt-sand-gravel soils (from memory): a clean sand with no
+    # fines is outside its calibration, so it is not evaluated (its probability is still reported)
+    wf = checks["stability.wan_fell"]
+    assert wf.status == "not_applicable" and "outside its calibration" in wf.message
+    assert wf.value == pytest.approx(st.wan_fell_probability(wf.extra["h_prime"], wf.extra["h_double_prime"]))
 
 
 def test_kenney_lau_boundary_1_3_is_stricter_than_1_0():
@@ -172,3 +177,75 @@ def test_istomina_lower_bound_decides_without_d10():
     c = make_curve([(37.5, 100), (9.5, 60), (0.075, 12)])    # D10 < 0.075 mm, so Cu > 9.5/0.075
     chk = st.istomina_1957(c)
     assert chk.status == "fail" and chk.extra["cu_is_lower_bound"]
+
+
+# ------------------------------------ domain: the fines of a filter within the fines rule (docs/decisions.md D9)
+# Rule (ours, derived, stated in the registry): for a sample with at most 5 % passing 0.075 mm (the fines rule,
+# NEH 633-26 1994 design step 8, from memory) the H/F scans start at 0.075 mm and Kezdi skips the splits whose
+# fine part is more than half fines (Ps < 2 x fines): a result there is driven only by the fines.
+ISSUE_SAND = [(9.5, 100), (4.75, 97), (2.36, 82), (1.18, 58), (0.6, 33), (0.3, 13), (0.15, 4), (0.075, 1.9)]
+GAP_GRAVEL = [(37.5, 100), (19, 75), (9.5, 52), (4.75, 35), (2.36, 30), (1.18, 29), (0.6, 27), (0.3, 15),
+              (0.15, 6), (0.075, 2)]              # constructed gap-graded sandy gravel (no published one at hand)
+BROAD = [(75, 100), (37.5, 80), (19, 62), (9.5, 47), (4.75, 35), (2.36, 26), (1.18, 19), (0.6, 13), (0.3, 8),
+         (0.15, 5), (0.075, 3.5)]                 # constructed broadly graded sandy gravel, Cu about 44
+
+
+def test_clean_filter_sand_is_not_flagged_by_its_fines_and_says_what_was_not_evaluated():
+    checks = {ch.id: ch for ch in st.stability_checks(make_curve(ISSUE_SAND))[0]}
+    kz = checks["stability.kezdi"]
+    # on the whole curve the split at 2.24 % passing gives 4.58 > 4: its fine part is 85 % fines
+    assert kz.status == "pass" and kz.value <= 4.0
+    assert kz.extra["splits_from_pct"] == pytest.approx(2 * 1.9)
+    assert kz.extra["not_evaluated_max_ratio"] == pytest.approx(4.579, abs=5e-4)
+    assert "Splits below 3.8 % passing were not evaluated" in kz.message
+    for cid in ("stability.kenney_lau", "stability.li_fannin"):
+        assert checks[cid].status == "pass" and checks[cid].extra["complete"]
+        assert "F below 1.9 % (the material finer than 0.075 mm" in checks[cid].message
+    assert checks["stability.kenney_lau"].value == pytest.approx(2.35, abs=5e-3)
+    assert checks["stability.wan_fell"].status == "not_applicable"
+    assert not [c for c in checks.values() if c.status in ("fail", "warn")]
+
+
+@pytest.mark.parametrize("fines,applies", [(5.0, True), (5.0 - 1e-9, True), (5.0 + 1e-9, False)])
+def test_fines_domain_at_the_5_pct_threshold(fines, applies):
+    pts = ISSUE_SAND[:-2] + [(0.15, 7), (0.075, fines)]
+    checks = {ch.id: ch for ch in st.stability_checks(make_curve(pts))[0]}
+    kz = checks["stability.kezdi"]
+    if applies:                       # splits below 2 x fines skipped; the whole-curve ratio 5.1 not an alarm
+        assert kz.status == "pass" and kz.extra["splits_from_pct"] == pytest.approx(2 * fines)
+        assert checks["stability.kenney_lau"].status == "pass"
+    else:                             # above the fines rule the whole measured curve is scanned
+        assert "splits_from_pct" not in kz.extra
+        assert kz.status == "fail" and kz.value == pytest.approx(5.098, abs=5e-4)
+        assert checks["stability.kenney_lau"].status == "needs_data"
+
+
+@pytest.mark.parametrize("pts", [GAP_GRAVEL, BROAD, GAP])
+def test_gap_graded_and_broadly_graded_materials_within_the_fines_rule_are_still_flagged(pts):
+    checks = {ch.id: ch for ch in st.stability_checks(make_curve(pts))[0]}
+    for cid in ("stability.kezdi", "stability.kenney_lau", "stability.li_fannin", "stability.istomina"):
+        assert checks[cid].status == "fail", (cid, checks[cid].message)
+    # the failing split lies above the skipped ones: in the sand or gravel sizes, not the fines
+    assert checks["stability.kezdi"].extra["split_mm"] > 0.075
+    assert checks["stability.kenney_lau"].extra["at_mm"] >= 0.075
+
+
+def test_gap_graded_gravel_is_flagged_beside_the_verdict_through_the_api():
+    import json
+
+    from tamis.api import handle
+    req = {"schema": 1, "op": "evaluate",
+           "sample": {"passing": [{"opening_mm": d, "passing_pct": p} for d, p in GAP_GRAVEL],
+                      "plasticity": {"nonplastic": True}}}
+    out = json.loads(handle(json.dumps(req)))
+    flags = [f for f in out["findings"] if f["code"] == "stability_flag"]
+    assert {f["source"].split(",")[0] for f in flags} >= {"Kezdi", "Kenney"}
+
+
+def test_wan_fell_outside_its_calibration_still_warns_at_half():
+    # h' = 1.5, h'' = 20 gives P = 0.79 (W4 pair); a clean curve with those ratios keeps the warn
+    # D15 = 1, D90 = 20, D60 = 13.33 mm; no fines
+    c = make_curve([(40, 100), (20, 90), (20 / 1.5, 60), (1.0, 15), (0.5, 0)])
+    wf, _ = st.wan_fell_2008(c)
+    assert wf.value == pytest.approx(st.wan_fell_probability(1.5, 20.0))
+    assert wf.status == "warn" and "outside its calibration" in wf.message

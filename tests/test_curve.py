@@ -156,3 +156,37 @@ def test_platform_independent_ln_and_exp_agree_with_libm_to_a_few_ulps():
         y = rng.uniform(-25.0, 25.0)
         assert cv.exp(y) == pytest.approx(math.exp(y), rel=1e-15)
     assert cv.ln(1.0) == 0.0 and cv.exp(0.0) == 1.0 and cv.ln(2.0) == math.log(2.0)
+
+
+def _size_at_by_scan(curve, pct):
+    """The pair-by-pair scan that :func:`tamis.curve.size_at` replaced by a bisection (reference)."""
+    pts = curve.points
+    for k in range(1, len(pts)):
+        p_l, p_s = pts[k - 1][1], pts[k][1]
+        if p_l == p_s:
+            continue
+        if p_s <= pct <= p_l:
+            if pct == p_l:
+                return pts[k - 1][0]
+            if pct == p_s:
+                return pts[k][0]
+            logs = curve.log_sizes
+            t = (pct - p_s) / (p_l - p_s)
+            return cv.exp(logs[k] + t * (logs[k - 1] - logs[k]))
+    if len(pts) and all(p == pts[0][1] for _, p in pts) and pts[0][1] == pct:
+        return pts[-1][0]
+    return None
+
+
+@pytest.mark.parametrize("seed", range(40))
+def test_size_at_by_bisection_gives_the_bits_of_the_pair_scan(seed):
+    """The bisection of size_at returns exactly what the coarse-to-fine pair scan returned, on curves with
+    flat runs (at 100 %, 0 % and in between), on every measured percentage and between them."""
+    rng = random.Random(seed)
+    n = rng.randint(2, 12)
+    sizes = sorted({round(rng.uniform(-3, 2), 3) for _ in range(n + 4)}, reverse=True)[:n]
+    pcts = sorted((rng.choice([0.0, 100.0, 50.0, round(rng.uniform(0, 100), 1)]) for _ in sizes), reverse=True)
+    c = cv.Curve(tuple((10.0 ** s, p) for s, p in zip(sizes, pcts)))
+    probes = {p for _, p in c.points} | {0.0, 100.0, 15.0, 85.0} | {rng.uniform(0, 100) for _ in range(20)}
+    for pct in probes:
+        assert cv.size_at(c, pct) == _size_at_by_scan(c, pct), (c.points, pct)

@@ -22,7 +22,7 @@ References
 from __future__ import annotations
 
 import math
-from bisect import bisect_right
+from bisect import bisect_left, bisect_right
 from dataclasses import dataclass
 from functools import cached_property
 
@@ -142,6 +142,11 @@ class Curve:
         return tuple(ln(d) for d, _ in self.points)
 
     @cached_property
+    def _neg_pcts(self) -> tuple[float, ...]:
+        """-passing_pct of each point (non-decreasing, for :mod:`bisect` in :func:`size_at`)."""
+        return tuple(-p for _, p in self.points)
+
+    @cached_property
     def _neg_sizes(self) -> tuple[float, ...] | None:
         """-opening_mm of each point (increasing, for :func:`bisect.bisect_right`),
         or ``None`` when two neighbouring points are not distinct sieves
@@ -259,21 +264,25 @@ def size_at(curve: Curve, pct: float) -> float | None:
     0.632456
     """
     pts = curve.points
-    for k in range(1, len(pts)):
-        p_l, p_s = pts[k - 1][1], pts[k][1]
-        if p_l == p_s:
-            continue
-        if p_s <= pct <= p_l:
-            if pct == p_l:      # on a measured point: its sieve, exactly
-                return pts[k - 1][0]
-            if pct == p_s:
-                return pts[k][0]
-            logs = curve.log_sizes
-            t = (pct - p_s) / (p_l - p_s)
-            return exp(logs[k] + t * (logs[k - 1] - logs[k]))
-    if len(pts) and all(p == pts[0][1] for _, p in pts) and pts[0][1] == pct:
-        return pts[-1][0]
-    return None
+    neg = curve._neg_pcts
+    # The first pair (k-1, k), coarse to fine, with p_k <= pct <= p_(k-1) and p_k != p_(k-1) is found by
+    # bisection on the non-increasing percentages: k is the first point with p_k <= pct (then
+    # p_(k-1) > pct), or, when even the coarsest point has p_0 <= pct, the end of the run of points at
+    # exactly pct (no earlier k qualifies). Same answer as scanning the pairs in order.
+    k = bisect_left(neg, -pct)              # first point with p_k <= pct
+    if k == 0:
+        if pts and pts[0][1] == pct:
+            j = bisect_right(neg, -pct)     # first point with p_j < pct
+            return pts[j - 1][0]            # the finest point of the run at pct (the last one if all are)
+        return None
+    if k == len(pts):
+        return None
+    p_l, p_s = pts[k - 1][1], pts[k][1]
+    if pct == p_s:
+        return pts[k][0]
+    logs = curve.log_sizes
+    t = (pct - p_s) / (p_l - p_s)
+    return exp(logs[k] + t * (logs[k - 1] - logs[k]))
 
 
 def passing_at(curve: Curve, size_mm: float, ln_size: float | None = None) -> float | None:

@@ -23,8 +23,9 @@ from dataclasses import dataclass, field, replace
 from ..curve import size_at
 from ..findings import FAIL, Finding
 from .base import analyse_base, base_info
+from .checks import d_range
 from .material import material_checks, material_limits
-from .pairs import permeability_check, retention_check
+from .pairs import permeability_check, permeability_limit, retention_check
 from .permeability import hazen_estimate, kozeny_carman_estimate, ratio_estimate
 from .rules import parse_rules
 from .stability import stability_checks
@@ -87,17 +88,19 @@ def run_filter_checks(sample, base=None, rules=None, path: str = "rules") -> Fil
     limits = {"d15_max_mm": None, "d15_min_mm": None, **material_limits(curve), "d85b_mm": None, "d15b_mm": None}
     binfo = base_info(None)
     d15f = size_at(curve, 15.0)
+    d15f_range = d_range(curve, 15.0, "D15 of the filter")
     if base is not None:
         bprops = _props(base)
         disp = r["dispersive"] if r["dispersive"] is not None else bprops.get("dispersive")
         b = analyse_base(base.curve, disp, rs["regrade"], r["regrade_on_mm"], "base",
                          regrade_wanted=rs["regrade"] and r["regrade"])
         findings.extend(b.findings)
-        ret, _ = retention_check(d15f, b, rs, r)
-        perm = permeability_check(d15f, b, rs, r)
+        ret, ret_lim = retention_check(d15f, b, rs, r, d15f_range)
+        perm = permeability_check(d15f, b, rs, r, d15f_range)
         checks[0:0] = [ret, perm]
-        limits.update({"d15_max_mm": ret.limit, "d15_min_mm": perm.limit, "d85b_mm": b.d85b_mm,
-                       "d15b_mm": b.d15b_mm})
+        # the limits block carries exact limits only (a bound that decided a check stays in the check)
+        limits.update({"d15_max_mm": ret_lim["limit_mm"], "d15_min_mm": permeability_limit(b, rs, r)[0],
+                       "d85b_mm": b.d85b_mm, "d15b_mm": b.d15b_mm})
         binfo = base_info(b, bprops)
     if r["stability"]:
         st, st_find = stability_checks(curve, r["kenney_lau_boundary"])

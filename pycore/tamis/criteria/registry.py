@@ -22,6 +22,10 @@ PROVENANCE_TAGS = ("read", "read in a secondary source", "from memory", "derived
                    "common practice, no source")
 
 NEH_1994 = "USDA NRCS National Engineering Handbook Part 633 Ch. 26, Gradation Design of Sand and Gravel Filters"
+#: The edition the ``nrcs-1994`` set follows: October 1994, whose preface says its criteria were first issued in
+#: Soil Mechanics Note 1, revised January 1986 (edition line and preface read; confirmations.md). A later edition,
+#: 210-633-H, 1st Ed., Amend. 61, August 2017, exists; its numbers are not checked here.
+NEH_1994_EDITION = "210-vi-NEH, October 1994 (criteria from Soil Mechanics Note 1, rev. January 1986)"
 USBR_2011 = "USBR Design Standards No. 13 Ch. 5, Protective Filters, DS-13(5)-9"
 FEMA_2011 = "FEMA, Filters for Embankment Dams: Best Practices for Design and Construction"
 TERZAGHI = "Terzaghi & Peck, Soil Mechanics in Engineering Practice"
@@ -45,6 +49,11 @@ class Entry:
 
 
 _E = Entry
+
+#: Appended to the rule of every check decided on bounds (docs/decisions.md D8).
+BOUNDS = (" A D-value outside the measured curve is bounded, never extrapolated (below the finest point it is at "
+          "most that size, above the coarsest at least that size); the check is decided when every value within "
+          "the bounds gives the same outcome, and the message names the bound; otherwise it needs data.")
 
 ENTRIES: tuple[Entry, ...] = (
     # ---- lab QA and band checks (computed in tamis.sieve_test / tamis.bands) ----
@@ -94,94 +103,109 @@ ENTRIES: tuple[Entry, ...] = (
        "neighbouring limits are computed and the check warns "
        "unless both pass. For a category 1 or 2 base whose dispersion is not reported (neither the base's "
        "dispersive flag nor rules.dispersive), the check also warns when the filter meets only the "
-       "non-dispersive limit.",
+       "non-dispersive limit. Every limit is non-decreasing in d85B, so a d85B below the base's finest point "
+       "bounds it (category 1: 9 x d85B at most 0.2 mm means the floor governs)." + BOUNDS,
        "A filter placed against a base soil; base curve reaching 0.075 mm.",
-       NEH_1994, "210-vi-NEH, October 1994", "base-soil category table, maximum D15F table (table numbers not verified), design steps 3-5",
+       NEH_1994, NEH_1994_EDITION, "base-soil category table, maximum D15F table (table numbers not verified), design steps 3-5",
        "from memory (categories, non-dispersive limits); read in a secondary source (cat 1 and 4 multipliers, "
        "6.5 x d85B dispersive)"),
     _E("filter.retention", "usbr-2011", "Retention: maximum D15 of the filter",
-       "As nrcs-1994: the same category limits, dispersive variants and regrading on 4.75 mm.",
+       "As nrcs-1994: the same category limits, dispersive variants, regrading on 4.75 mm and bounds.",
        "A filter placed against a base soil.", USBR_2011, "Phase 4 (Final), November 2011",
        "Chapter 5, filter design steps (base-soil categories and D15F max)", "from memory"),
     _E("filter.retention", "fema-2011", "Retention: maximum D15 of the filter",
-       "As nrcs-1994: the same category limits, dispersive variants and regrading on 4.75 mm.",
+       "As nrcs-1994: the same category limits, dispersive variants, regrading on 4.75 mm and bounds.",
        "A filter placed against a base soil.", FEMA_2011, "October 2011",
-       "Chapter 6, design steps 4 and 5", "from memory"),
+       "Chapter 5 (Filter Design Procedure), design steps 4 and 5", "from memory"),
     _E("filter.retention", "terzaghi", "Retention: D15F / D85B",
        "D15F <= ratio x D85B on the curves as given (no regrading), ratio from rules.terzaghi_ratio (4 to 5, "
-       "default 4).", "A filter placed against a base soil.", TERZAGHI, "1948 and later editions",
+       "default 4)." + BOUNDS, "A filter placed against a base soil.", TERZAGHI, "1948 and later editions",
        "filter criteria (retention ratio)", "from memory"),
     # ---- permeability (minimum D15F) ----
     _E("filter.permeability", "nrcs-1994", "Permeability: minimum D15 of the filter",
-       "D15F >= 4 x d15B of the base before regrading, and not less than 0.1 mm.",
-       "A filter placed against a base soil.", NEH_1994, "210-vi-NEH, October 1994",
+       "D15F >= 4 x d15B of the base before regrading, and not less than 0.1 mm. When d15B lies below the "
+       "base's finest point and 4 x that point's size is at most 0.1 mm, the floor governs." + BOUNDS,
+       "A filter placed against a base soil.", NEH_1994, NEH_1994_EDITION,
        "minimum D15F criterion, design step 6", "from memory"),
     _E("filter.permeability", "usbr-2011", "Permeability: minimum D15 of the filter",
-       "D15F >= 5 x d15B of the base before regrading, and not less than 0.1 mm.",
+       "D15F >= 5 x d15B of the base before regrading, and not less than 0.1 mm. When d15B lies below the "
+       "base's finest point and 5 x that point's size is at most 0.1 mm, the floor governs." + BOUNDS,
        "A filter placed against a base soil.", USBR_2011, "Phase 4 (Final), November 2011",
        "Chapter 5, permeability criterion", "from memory"),
     _E("filter.permeability", "fema-2011", "Permeability: minimum D15 of the filter",
-       "D15F >= 5 x d15B of the base before regrading, and not less than 0.1 mm.",
-       "A filter placed against a base soil.", FEMA_2011, "October 2011", "Chapter 6, design step 6",
+       "D15F >= 5 x d15B of the base before regrading, and not less than 0.1 mm. When d15B lies below the "
+       "base's finest point and 5 x that point's size is at most 0.1 mm, the floor governs." + BOUNDS,
+       "A filter placed against a base soil.", FEMA_2011, "October 2011",
+       "Chapter 5 (Filter Design Procedure), design step 6",
        "from memory"),
     _E("filter.permeability", "terzaghi", "Permeability: D15F / D15B",
-       "D15F >= ratio x D15B, ratio from rules.terzaghi_ratio (4 to 5, default 4).",
+       "D15F >= ratio x D15B, ratio from rules.terzaghi_ratio (4 to 5, default 4)." + BOUNDS,
        "A filter placed against a base soil.", TERZAGHI, "1948 and later editions",
        "filter criteria (permeability ratio)", "from memory"),
     # ---- filter material ----
     _E("filter.fines", "", "Fines content of the filter",
        "At most 5 % passing 0.075 mm (No. 200), on the material as tested (placed and compacted material "
-       "is the stricter case).", "Every filter sample.", NEH_1994, "210-vi-NEH, October 1994",
+       "is the stricter case). A curve stopping above 0.075 mm passes when its finest percentage is within "
+       "5 % (no more can pass 0.075 mm).", "Every filter sample.", NEH_1994, NEH_1994_EDITION,
        "design step 8 (D5 min 0.075 mm); same in FEMA 2011 and USBR 2011", "from memory"),
     _E("filter.plasticity", "", "Fines of the filter are nonplastic",
        "The fines must be nonplastic (NP, or plasticity index 0); a positive PI fails; unknown plasticity "
-       "needs data.", "Every filter sample with fines.", NEH_1994, "210-vi-NEH, October 1994",
+       "needs data.", "Every filter sample with fines.", NEH_1994, NEH_1994_EDITION,
        "design step 8; FEMA 2011 (sand-castle test)", "from memory"),
     _E("filter.max_size", "", "Maximum particle size of the filter",
-       "D100 <= 75 mm (3 in). D100 is the finest sieve that passes 100 %.", "Every filter sample.",
-       NEH_1994, "210-vi-NEH, October 1994", "design step 8 (D100 max)", "from memory"),
+       "D100 <= 75 mm (3 in). D100 is the finest sieve that passes 100 %; material retained on a coarsest "
+       "sieve of 75 mm or more fails (D100 is larger than that sieve).", "Every filter sample.",
+       NEH_1994, NEH_1994_EDITION, "design step 8 (D100 max)", "from memory"),
     _E("filter.segregation", "", "Segregation: maximum D90 for the filter's D10",
        "D90 at most 20 / 25 / 30 / 40 / 50 / 60 mm for D10 up to 0.5 / 1 / 2 / 5 / 10 / above 10 mm. A D10 on "
        "a row edge takes the stricter row (our choice). When D10 lies below the finest sieve and that sieve "
-       "is at most 0.5 mm, the first row applies without D10.", "Every filter sample.", NEH_1994,
-       "210-vi-NEH, October 1994", "segregation table (D10 to maximum D90); same values in FEMA 2011 and USBR 2011",
+       "is at most 0.5 mm, the first row applies without D10." + BOUNDS, "Every filter sample.", NEH_1994,
+       NEH_1994_EDITION, "segregation table (D10 to maximum D90); same values in FEMA 2011 and USBR 2011",
        "from memory"),
     # ---- internal stability ----
     _E("stability.kezdi", "", "Internal stability: Kezdi split test",
        "Split the curve at every size; renormalise the coarse and the fine part to 100 %; stable when "
        "D'15 (coarse) / d'85 (fine) <= 4 at every split.",
-       "Whole curve; needs data when splits near the fine or coarse end cannot be read.",
+       "Domain (from memory): cohesionless granular soils, every split of the measured curve. For a filter "
+       "within the 5 % fines rule, splits whose fine part is more than half fines are not evaluated (derived, "
+       "docs/decisions.md D9). Needs data when splits near the fine or coarse end cannot be read.",
        "Kezdi, A., Soil Physics: Selected Topics", "Elsevier, 1979", "the split-curve criterion",
        "from memory"),
     _E("stability.kenney_lau", "", "Internal stability: Kenney & Lau H/F",
        "F = P(d), H = P(4d) - P(d); stable when (H/F)min >= the boundary, scanned over F <= 20 % for "
        "widely graded (Cu > 3) and F <= 30 % for narrowly graded (Cu <= 3) soils. Boundary 1.0 (1986 "
        "reply, default) or 1.3 (1985 paper), set by rules.kenney_lau_boundary.",
-       "Granular soils; needs data when the curve stops above F = 0 without a failure found.",
+       "Domain (from memory): cohesionless granular soils (the tests were on sand and gravel filter "
+       "materials), F over the range above. For a filter within the 5 % fines rule the scan starts at 0.075 mm "
+       "(docs/decisions.md D9). Needs data when the curve stops above F = 0 without a failure found.",
        "Kenney, T.C. & Lau, D., Internal stability of granular filters, Canadian Geotechnical Journal",
        "22(2), 1985; reply 23, 1986", "H/F boundary and F ranges", "from memory"),
     _E("stability.li_fannin", "", "Internal stability: Li & Fannin",
        "Unstable when H < F for F < 15 %, or H < 15 % for F >= 15 %, over the Kenney & Lau F range.",
-       "Granular soils; needs data as for Kenney & Lau.",
+       "Domain (from memory): cohesionless widely graded granular soils, over the Kenney & Lau F range; the "
+       "fines of a filter within the 5 % rule as for Kenney & Lau. Needs data as for Kenney & Lau.",
        "Li, M. & Fannin, R.J., Comparison of two criteria for internal stability of granular soil, "
        "Canadian Geotechnical Journal", "45, 2008, pp. 1303-1309", "combined Kezdi / Kenney-Lau boundary",
        "from memory"),
     _E("stability.burenkova", "", "Internal stability: Burenkova",
        "h' = d90/d60, h'' = d90/d15; non-suffusive when 0.76 log10(h'') + 1 < h' < 1.86 log10(h'') + 1.",
-       "Whole curve (needs D15, D60 and D90).",
+       "Domain (from memory): non-cohesive graded soils (sands and sandy gravels); read on D15, D60 and D90 "
+       "of the measured curve.",
        "Burenkova, V.V., Assessment of suffusion in non-cohesive and graded soils, Filters in Geotechnical "
        "and Hydraulic Engineering", "Balkema, 1993", "the h'-h'' bounds", "from memory"),
     _E("stability.wan_fell", "", "Internal stability: Wan & Fell probability",
        "P(unstable) = e^Z / (1 + e^Z), Z = 2.378 log10(h'') - 3.648 h' + 3.701. The check warns when "
-       "P >= 0.5 (the cut-off is ours, no source); outside silt-sand-gravel soils it also warns.",
-       "Broadly graded silt-sand-gravel and clay-silt-sand-gravel soils, not gap-graded.",
+       "P >= 0.5 (the cut-off is ours, no source). Outside its calibration (at most 5 % fines) it is not "
+       "applicable, except that P >= 0.5 still warns with the caveat.",
+       "Domain (from memory): broadly graded silt-sand-gravel and clay-silt-sand-gravel soils, not gap-graded.",
        "Wan, C.F. & Fell, R., Assessing the potential of internal instability and suffusion in embankment "
        "dams and their foundations, Journal of Geotechnical and Geoenvironmental Engineering",
        "134(3), 2008, pp. 401-407", "logistic regression on h' and h''",
        "from memory (coefficients); derived (the 0.5 cut-off)"),
     _E("stability.istomina", "", "Internal stability: Istomina Cu screen",
        "Cu = D60/D10 <= 10 stable; 10 < Cu <= 20 transitional (warns); Cu > 20 unstable.",
-       "Whole curve (needs D60 and D10, or a lower bound of Cu above 20).",
+       "Domain (from memory): cohesionless soils, a screen on Cu alone (needs D60 and D10, or a lower bound "
+       "of Cu above 20).",
        "Istomina, V.S., Filtration stability of soils", "Gostroizdat, Moscow, 1957", "Cu limits",
        "from memory"),
     # ---- permeability estimates (never enter the verdict) ----

@@ -7,6 +7,13 @@ P(d) is read on the curve as measured (not regraded). A method that needs a
 part of the curve that was not measured reports ``needs_data`` unless the
 measured part already shows instability: nothing is extrapolated.
 
+Each method is evaluated within its domain of application (the registry's
+"applies" text, from memory): for a filter within the 5 % fines rule the split
+and H/F methods leave out the fines (:func:`fines_domain`, docs/decisions.md
+D9) and Wan & Fell is not applicable outside its calibration unless it flags.
+The scans read only the breakpoints of the piecewise log-linear curve, where
+their extremes lie: O(n log n) in the number of points.
+
 Sources (all from memory; see the registry): Kezdi (1979) Soil Physics,
 Elsevier; Kenney & Lau (1985) CGJ 22(2) and reply (1986) CGJ 23; Li & Fannin
 (2008) CGJ 45:1303-1309; Burenkova (1993) in Filters in Geotechnical and
@@ -16,9 +23,10 @@ Istomina (1957).
 
 from __future__ import annotations
 
-from ..curve import Curve, coefficient_of_uniformity, exp, ln, ln_and_ln4, passing_at, size_at
-from ..findings import FAIL, NEEDS_DATA, PASS, WARN, Check, Finding
+from ..curve import Curve, coefficient_of_uniformity, exp, ln, ln_and_ln4, passing_at, same_size, size_at
+from ..findings import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding
 from .checks import make_check
+from .tables import MATERIAL, NO_200_MM
 
 KEZDI_LIMIT = 4.0                      # D'15 coarse / d'85 fine
 KL_F_MAX_WIDE_PCT = 20.0               # widely graded, Cu > 3
@@ -30,8 +38,26 @@ WAN_FELL = {"a": 2.378, "b": -3.648, "c": 3.701}                 # Z = a log10(h
 WAN_FELL_CUTOFF = 0.5                  # ours, no source
 ISTOMINA = {"stable_max": 10.0, "transition_max": 20.0}
 
+KEZDI_FINE_PART_FINES_MAX = 0.5      # Kezdi: at most half of the fine part may be fines (ours, derived)
+
 _EPS = 1e-9
-_GRID = 40                             # scan points between breakpoints
+
+
+def fines_domain(fines_pct: float | None) -> float | None:
+    """The fines limit [%] when a filter with ``fines_pct`` [%] passing 0.075 mm meets the fines rule
+    (``filter.fines``, 5 %), else None.
+
+    For such a filter the split and H/F methods are evaluated on the material the sieves measured and
+    not on the fines (docs/decisions.md D9): the
+    H/F scans start at 0.075 mm, and Kezdi skips the splits whose fine part is more than half fines.
+    A result there would be driven only by the fines, whose gradation below 0.075 mm was not
+    measured and which the fines rule already limits. Otherwise (fines above 5 % or unknown) the
+    whole measured curve is scanned as before.
+    """
+    limit = MATERIAL["fines_max_pct"]
+    if fines_pct is None or fines_pct > limit:
+        return None
+    return limit
 
 
 def _span(curve: Curve) -> tuple[float, float]:
@@ -55,34 +81,13 @@ def _three_way(check_id: str, failed: bool, complete: bool, fail_msg: str, incom
 
 
 # ----------------------------------------------------------------- Kezdi 1979
-def kezdi_1979(curve: Curve) -> Check:
-    """Kezdi split test: at every split, D'15 of the coarse part / d'85 of the
-    fine part <= 4 (both parts renormalised to 100 %).
+def _kezdi_worst(curve: Curve, lo: float, hi: float):
+    """(largest D'15c / d'85f, split Ps) over splits Ps in [lo, hi], or None.
 
-    With the split at Ps % passing, D'15c is the size at Ps + 0.15 (100 - Ps)
-    and d'85f the size at 0.85 Ps on the whole curve. The log of the ratio is
-    linear in Ps between breakpoints, so its maximum is found at breakpoints
-    (approached from both sides where the curve has flat steps).
-
-    Splits are kept where both parts are read on measured material: D'15c no
-    higher than the coarsest point below 100 % and d'85f no lower than the
-    finest point above 0 %. Between the last sieve passing 100 % and the first
-    one retaining material (and likewise at the 0 % end) the curve is only an
-    interpolation across an unmeasured interval, and reading a vanishing part
-    there would make the verdict depend on which empty sieve topped the stack
-    (implementation choice, derived; see docs/decisions.md D5).
-    """
-    p_min, p_max = _span(curve)
-    inner = [p for _, p in curve.points if 0.0 < p < 100.0]
-    p_top = max(inner) if (inner and p_max >= 100.0) else p_max
-    p_bot = min(inner) if (inner and p_min <= 0.0) else p_min
-    lo = max(p_bot / 0.85, _EPS)
-    hi = min((p_top - 15.0) / 0.85, 100.0 - _EPS)
-    incomplete = p_min > 0.0 or p_max < 100.0
-    if hi < lo:
-        return make_check("stability.kezdi", NEEDS_DATA,
-                          "Kezdi split test cannot be made: the measured curve is too short.", limit=KEZDI_LIMIT,
-                          relation="<=", unit="-")
+    The log of the ratio is linear in Ps between the splits where Ps + 0.15 (100 - Ps) or 0.85 Ps meets a
+    measured percentage, so the maximum is read at those splits (approached from both sides where the
+    curve has flat steps) and at the ends: about 6 candidates per point, each read by bisection
+    (:func:`tamis.curve.size_at`), O(n log n) in all."""
     cands = {lo, hi}
     for _, p in curve.points:
         for ps in ((p - 15.0) / 0.85, p / 0.85):
@@ -98,19 +103,72 @@ def kezdi_1979(curve: Curve) -> Check:
         r = dc / df
         if worst is None or r > worst[0]:
             worst = (r, ps)
+    return worst
+
+
+def kezdi_1979(curve: Curve, fines_pct: float | None = None) -> Check:
+    """Kezdi split test: at every split, D'15 of the coarse part / d'85 of the
+    fine part <= 4 (both parts renormalised to 100 %).
+
+    With the split at Ps % passing, D'15c is the size at Ps + 0.15 (100 - Ps)
+    and d'85f the size at 0.85 Ps on the whole curve. The log of the ratio is
+    linear in Ps between breakpoints, so its maximum is found at breakpoints
+    (approached from both sides where the curve has flat steps).
+
+    Splits are kept where both parts are read on measured material: D'15c no
+    higher than the coarsest point below 100 % and d'85f no lower than the
+    finest point above 0 %. Between the last sieve passing 100 % and the first
+    one retaining material (and likewise at the 0 % end) the curve is only an
+    interpolation across an unmeasured interval, and reading a vanishing part
+    there would make the verdict depend on which empty sieve topped the stack
+    (implementation choice, derived; see docs/decisions.md D5).
+
+    ``fines_pct``: P(0.075 mm) of a filter that meets the fines rule (:func:`fines_domain`); splits whose
+    fine part is more than half that material (Ps < 2 x fines) are then not evaluated, and the message
+    says so with the ratio they would give.
+    """
+    p_min, p_max = _span(curve)
+    inner = [p for _, p in curve.points if 0.0 < p < 100.0]
+    p_top = max(inner) if (inner and p_max >= 100.0) else p_max
+    p_bot = min(inner) if (inner and p_min <= 0.0) else p_min
+    lo = max(p_bot / 0.85, _EPS)
+    hi = min((p_top - 15.0) / 0.85, 100.0 - _EPS)
+    incomplete = p_min > 0.0 or p_max < 100.0
+    dom = fines_domain(fines_pct)
+    full_lo = lo
+    if dom is not None:
+        # splits whose fine part is more than half fines are outside the evaluated domain (see fines_domain);
+        # below them lie the splits that would need the unmeasured gradation of the fines
+        lo = max(lo, fines_pct / KEZDI_FINE_PART_FINES_MAX)
+        incomplete = p_max < 100.0
+    if hi < lo:
+        return make_check("stability.kezdi", NEEDS_DATA,
+                          "Kezdi split test cannot be made: the measured curve is too short.", limit=KEZDI_LIMIT,
+                          relation="<=", unit="-")
+    worst = _kezdi_worst(curve, lo, hi)
     if worst is None:
         return make_check("stability.kezdi", NEEDS_DATA, "Kezdi split test: no split could be read.",
                           limit=KEZDI_LIMIT, relation="<=", unit="-")
     r, ps = worst
     d = size_at(curve, ps)          # the split size, read only where the ratio is largest
     extra = {"split_passing_pct": ps, "split_mm": d, "complete": not incomplete}
+    note = ""
+    if dom is not None and lo > full_lo:
+        left = _kezdi_worst(curve, full_lo, min(lo, hi))
+        extra.update({"splits_from_pct": lo, "not_evaluated": "splits whose fine part is mostly fines"})
+        note = (f" Splits below {lo:.3g} % passing were not evaluated: there more than half of the fine part is "
+                f"the {fines_pct:.3g} % finer than 0.075 mm, which meets the {dom:g} % fines rule; "
+                + _fines_reason(curve).replace("its gradation", "the gradation of the fines")
+                + (f" (the ratio there would reach {left[0]:.3g})." if left is not None else "."))
+        if left is not None:
+            extra["not_evaluated_max_ratio"] = left[0]
     return _three_way("stability.kezdi", r > KEZDI_LIMIT, not incomplete,
                       f"Kezdi: D'15 coarse / d'85 fine reaches {r:.3g} (> {KEZDI_LIMIT:g}) at the split "
-                      f"{ps:.1f} % passing: the fine part could wash out of the coarse part.",
+                      f"{ps:.1f} % passing: the fine part could wash out of the coarse part." + note,
                       f"Kezdi: the largest ratio over the measured splits is {r:.3g} (<= {KEZDI_LIMIT:g}), but "
                       "splits beyond the measured curve could not be read; add finer (hydrometer) or coarser "
-                      "points.",
-                      f"Kezdi: the largest D'15 coarse / d'85 fine is {r:.3g} (<= {KEZDI_LIMIT:g}).",
+                      "points." + note,
+                      f"Kezdi: the largest D'15 coarse / d'85 fine is {r:.3g} (<= {KEZDI_LIMIT:g})." + note,
                       value=r, limit=KEZDI_LIMIT, relation="<=", unit="-", extra=extra)
 
 
@@ -128,8 +186,20 @@ def _kl_f_max(curve: Curve) -> tuple[float, str]:
     return KL_F_MAX_NARROW_PCT, "Cu unknown: the wider F range (30 %) is scanned"
 
 
-def hf_scan(curve: Curve, f_max_pct: float) -> tuple[list[tuple[float, float, float]], bool]:
-    """Sample (d_mm, F_pct, H_pct) over F in (0, f_max_pct], F = P(d), H = P(4d) - P(d).
+def hf_scan(curve: Curve, f_max_pct: float, d_min_mm: float | None = None
+            ) -> tuple[list[tuple[float, float, float]], bool]:
+    """(d_mm, F_pct, H_pct) at the breakpoints of F in (0, f_max_pct], F = P(d), H = P(4d) - P(d).
+
+    Between consecutive breakpoints (the measured sizes d_i, the sizes d_i / 4, the ends of the F range
+    and D15) both P(d) and P(4d) are linear in ln d, so H/F is a linear-fractional function of ln d
+    (monotone) and H - min(F, 15) is linear: the minimum of either lies at a breakpoint, and the scan
+    reads only those, about 2n + 3 of them, each by bisection (O(n log n)). Where F reaches 0 at the
+    fine end of an interval, H/F there either tends to infinity or is constant, so the other end gives
+    the minimum. (An earlier version also read 40 points inside each interval, with the same minimum
+    up to rounding in the last digits.)
+
+    ``d_min_mm``: the scan starts there (0.075 mm for a filter within the fines rule,
+    :func:`fines_domain`); the finer part is then outside the evaluated domain, not missing data.
 
     Returns the samples and whether the scan covered the whole F range
     (False when the curve stops above F = 0 or P(4d) is unknown somewhere).
@@ -145,78 +215,104 @@ def hf_scan(curve: Curve, f_max_pct: float) -> tuple[list[tuple[float, float, fl
     if p_min <= 0.0:
         d_zero = size_at(curve, 0.0)
         d_lo = d_zero if d_zero is not None else d_lo
+    if d_min_mm is not None and d_min_mm >= d_lo:
+        d_lo, complete = d_min_mm, True
     breaks = {d_lo, d_hi}
+    d15 = size_at(curve, LI_FANNIN_F_SPLIT_PCT)
+    if d15 is not None and d_lo < d15 < d_hi:
+        breaks.add(d15)
     for d, _ in curve.points:
         for b in (d, d / 4.0):
             if d_lo < b < d_hi:
                 breaks.add(b)
-    bs = sorted(breaks)
     samples = []
-    for a, b in zip(bs, bs[1:]):
-        la, lb = ln(a), ln(b)
-        for k in range(_GRID + 1):
-            d = exp(la + (lb - la) * k / _GRID)
-            ln_d, ln_4d = ln_and_ln4(d)
-            f = passing_at(curve, d, ln_d)
-            if f is None or f <= 0.0 or f > f_max_pct + 1e-9:
-                continue
-            p4 = passing_at(curve, 4.0 * d, ln_4d)
-            if p4 is None:
-                complete = False
-                continue
-            samples.append((d, f, p4 - f))
+    for d in sorted(breaks):
+        ln_d, ln_4d = ln_and_ln4(d)
+        f = passing_at(curve, d, ln_d)
+        if f is None or f <= 0.0 or f > f_max_pct + 1e-9:
+            continue
+        p4 = passing_at(curve, 4.0 * d, ln_4d)
+        if p4 is None:
+            complete = False
+            continue
+        samples.append((d, f, p4 - f))
     return samples, complete
 
 
-def hf_scan_of(curve: Curve) -> tuple[float, str, list[tuple[float, float, float]], bool]:
+def hf_scan_of(curve: Curve, d_min_mm: float | None = None
+               ) -> tuple[float, str, list[tuple[float, float, float]], bool]:
     """``(f_max_pct, basis, samples, complete)``: the H/F scan over the Kenney & Lau
-    F range of this curve (:func:`_kl_f_max`, :func:`hf_scan`)."""
+    F range of this curve (:func:`_kl_f_max`, :func:`hf_scan`), from ``d_min_mm`` when given."""
     f_max, basis = _kl_f_max(curve)
-    samples, complete = hf_scan(curve, f_max)
+    samples, complete = hf_scan(curve, f_max, d_min_mm)
     return f_max, basis, samples, complete
 
 
-def _hf_prepare(curve: Curve, check_id: str, name: str, limit=None, unit: str = "-", scan=None):
+def _fines_reason(curve: Curve) -> str:
+    """Why the fines of a filter within the fines rule are not evaluated by a stability method."""
+    if curve.finest_mm < NO_200_MM and not same_size(curve.finest_mm, NO_200_MM):
+        return "the fines rule already limits it, and a result there would be driven only by the fines"
+    return ("its gradation was not measured (no point below 0.075 mm), and a result there would be driven only "
+            "by the fines")
+
+
+def _hf_not_evaluated(curve: Curve, fines_pct: float | None) -> str:
+    """The sentence saying which part of an H/F scan was outside its evaluated domain ('' when none)."""
+    dom = fines_domain(fines_pct)
+    if dom is None or fines_pct <= 0.0:
+        return ""
+    return (f" F below {fines_pct:.3g} % (the material finer than 0.075 mm, which meets the {dom:g} % fines "
+            f"rule) was not evaluated: {_fines_reason(curve)}.")
+
+
+def _hf_prepare(curve: Curve, check_id: str, name: str, limit=None, unit: str = "-", scan=None,
+                fines_pct: float | None = None):
     """The H/F scan shared by Kenney & Lau and Li & Fannin: (samples, complete,
-    extra, None), or a ``needs_data`` check in the last place when nothing can be scanned."""
-    f_max, basis, samples, complete = hf_scan_of(curve) if scan is None else scan
+    extra, None, note), or a ``needs_data`` check in the fourth place when nothing can be scanned.
+    ``fines_pct`` as for :func:`kenney_lau`; ``note`` says what was not evaluated."""
+    if scan is None:
+        scan = hf_scan_of(curve, NO_200_MM if fines_domain(fines_pct) is not None else None)
+    f_max, basis, samples, complete = scan
     extra = {"f_max_pct": f_max, "f_range_basis": basis, "complete": complete}
+    note = _hf_not_evaluated(curve, fines_pct)
+    if note:
+        extra["scan_from_mm"] = NO_200_MM
     if samples:
-        return samples, complete, extra, None
+        return samples, complete, extra, None, note
     return samples, complete, extra, make_check(
         check_id, NEEDS_DATA, f"{name}: the curve does not reach F <= {f_max:g} %; add finer points.",
-        limit=limit, relation=">=", unit=unit, extra=extra)
+        limit=limit, relation=">=", unit=unit, extra=extra), note
 
 
-def kenney_lau(curve: Curve, boundary: float = 1.0, *, scan=None) -> Check:
+def kenney_lau(curve: Curve, boundary: float = 1.0, *, scan=None, fines_pct: float | None = None) -> Check:
     """Kenney & Lau: stable when (H/F)min >= boundary (1.0, 1986 reply; 1.3, 1985)
     over F <= 20 % (Cu > 3) or F <= 30 % (Cu <= 3).
 
-    ``scan``: the ``(f_max_pct, basis, samples, complete)`` of :func:`hf_scan_of`
-    for this curve, when the caller already has it (the scan is the costly part)."""
-    samples, complete, extra, missing = _hf_prepare(curve, "stability.kenney_lau", "Kenney & Lau",
-                                                    limit=boundary, unit="-", scan=scan)
+    ``fines_pct``: P(0.075 mm); for a filter within the fines rule (:func:`fines_domain`) the scan
+    starts at 0.075 mm. ``scan``: the ``(f_max_pct, basis, samples, complete)`` of :func:`hf_scan_of`
+    for this curve and domain, when the caller already has it (the scan is the costly part)."""
+    samples, complete, extra, missing, note = _hf_prepare(curve, "stability.kenney_lau", "Kenney & Lau",
+                                                          limit=boundary, unit="-", scan=scan, fines_pct=fines_pct)
     if missing:
         return missing
-    extra = {"f_max_pct": extra["f_max_pct"], "f_range_basis": extra["f_range_basis"], "boundary": boundary,
-             "complete": complete}
+    extra.update({"boundary": boundary, "complete": complete})
     d, f, h = min(samples, key=lambda s: s[2] / s[1])
     r = h / f
     extra.update({"at_mm": d, "f_pct": f, "h_pct": h})
     return _three_way("stability.kenney_lau", r < boundary, complete,
                       f"Kenney & Lau: (H/F)min = {r:.3g} < {boundary:g} at F = {f:.3g} % ({d:.3g} mm): "
-                      "internally unstable.",
+                      "internally unstable." + note,
                       f"Kenney & Lau: (H/F)min = {r:.3g} over the measured range, but F below "
                       f"{curve.points[-1][1]:.3g} % was not measured; add hydrometer points.",
-                      f"Kenney & Lau: (H/F)min = {r:.3g} >= {boundary:g}.",
+                      f"Kenney & Lau: (H/F)min = {r:.3g} >= {boundary:g}." + note,
                       value=r, limit=boundary, relation=">=", unit="-", extra=extra)
 
 
-def li_fannin_2008(curve: Curve, *, scan=None) -> Check:
+def li_fannin_2008(curve: Curve, *, scan=None, fines_pct: float | None = None) -> Check:
     """Li & Fannin: unstable when H < F for F < 15 %, or H < 15 % for F >= 15 %,
-    over the Kenney & Lau F range (``scan`` as for :func:`kenney_lau`)."""
-    samples, complete, extra, missing = _hf_prepare(curve, "stability.li_fannin", "Li & Fannin", unit="%",
-                                                    scan=scan)
+    over the Kenney & Lau F range (``scan`` and ``fines_pct`` as for :func:`kenney_lau`)."""
+    samples, complete, extra, missing, note = _hf_prepare(curve, "stability.li_fannin", "Li & Fannin", unit="%",
+                                                          scan=scan, fines_pct=fines_pct)
     if missing:
         return missing
 
@@ -228,10 +324,11 @@ def li_fannin_2008(curve: Curve, *, scan=None) -> Check:
     extra.update({"at_mm": d, "f_pct": f})
     return _three_way("stability.li_fannin", h < req, complete,
                       f"Li & Fannin: H = {h:.3g} % < {req:.3g} % at F = {f:.3g} % ({d:.3g} mm): "
-                      "internally unstable.",
+                      "internally unstable." + note,
                       f"Li & Fannin: no shortfall over the measured range (tightest H = {h:.3g} % against "
                       f"{req:.3g} %), but finer parts were not measured.",
-                      f"Li & Fannin: H >= the boundary everywhere (tightest H = {h:.3g} % against {req:.3g} %).",
+                      f"Li & Fannin: H >= the boundary everywhere (tightest H = {h:.3g} % against {req:.3g} %)."
+                      + note,
                       value=h, limit=req, relation=">=", unit="%", extra=extra)
 
 
@@ -288,26 +385,39 @@ def wan_fell_probability(h1: float, h2: float) -> float:
 
 
 def wan_fell_2008(curve: Curve) -> tuple[Check, list[Finding]]:
-    """Wan & Fell probability of internal instability; warns at P >= 0.5 (cut-off ours)."""
-    findings = []
+    """Wan & Fell probability of internal instability; warns at P >= 0.5 (cut-off ours).
+
+    Domain (from memory): the regression was fitted on broadly graded silt-sand-gravel and
+    clay-silt-sand-gravel soils, not gap-graded. A sample with at most 5 % fines lies outside it: the
+    check is ``not_applicable`` there (the probability is still given in the message), except that a
+    probability of 0.5 or more still warns, with the caveat, so that no flag is dropped."""
+    findings: list[Finding] = []
     hr = _h_ratios(curve)
     if hr is None:
         return make_check("stability.wan_fell", NEEDS_DATA,
                           "Wan & Fell needs D15, D60 and D90 inside the measured curve.", unit="-"), findings
     h1, h2 = hr
     p = wan_fell_probability(h1, h2)
-    fines = passing_at(curve, 0.075)
-    if fines is None or fines <= 5.0:
-        findings.append(Finding("warning", "wan_fell_range",
-                                "Wan & Fell (2008) was fitted on broadly graded silt-sand-gravel soils; this "
-                                "sample has few fines, so its probability is outside the method's calibration.",
-                                "", "Wan & Fell 2008, JGGE 134(3) (from memory)"))
-    extra = {"h_prime": h1, "h_double_prime": h2, "cutoff_source": "ours, no source"}
+    fines = passing_at(curve, NO_200_MM)
+    outside = fines is None or fines <= MATERIAL["fines_max_pct"]
+    extra = {"h_prime": h1, "h_double_prime": h2, "cutoff_source": "ours, no source", "probability": p,
+             "outside_calibration": outside}
     st = PASS if p < WAN_FELL_CUTOFF else WARN
-    return make_check("stability.wan_fell", st,
-                      f"Wan & Fell: probability of internal instability {p:.3g} "
-                      + ("(below 0.5)." if st == PASS else "(0.5 or more: more likely unstable than not)."),
-                      value=p, limit=WAN_FELL_CUTOFF, relation="<", unit="-", extra=extra), findings
+    msg = (f"Wan & Fell: probability of internal instability {p:.3g} "
+           + ("(below 0.5)." if st == PASS else "(0.5 or more: more likely unstable than not)."))
+    if outside:
+        why = ("the fines content is unknown" if fines is None else
+               f"this sample has {fines:.3g} % fines")
+        caveat = (f" The method was fitted on broadly graded silt-sand-gravel soils and {why}, so the sample is "
+                  "outside its calibration")
+        if st == PASS:
+            st = NOT_APPLICABLE
+            msg = (f"Wan & Fell not evaluated: it was fitted on broadly graded silt-sand-gravel soils and {why} "
+                   f"(outside its calibration; its formula would give a probability of {p:.3g}).")
+        else:
+            msg += caveat + "; the flag is indicative."
+    return make_check("stability.wan_fell", st, msg, value=p, limit=WAN_FELL_CUTOFF, relation="<", unit="-",
+                      extra=extra), findings
 
 
 # ------------------------------------------------------------ Istomina 1957
@@ -338,8 +448,12 @@ def istomina_1957(curve: Curve) -> Check:
 
 
 def stability_checks(curve: Curve, kenney_lau_boundary: float = 1.0) -> tuple[list[Check], list[Finding]]:
-    """All internal-stability methods, each its own check."""
+    """All internal-stability methods, each its own check, each within its domain (:func:`fines_domain`)."""
+    fines = passing_at(curve, NO_200_MM)
     wf, findings = wan_fell_2008(curve)
-    scan = hf_scan_of(curve)            # one scan for both H/F methods
-    return [kezdi_1979(curve), kenney_lau(curve, kenney_lau_boundary, scan=scan), li_fannin_2008(curve, scan=scan),
+    dom = fines_domain(fines)
+    scan = hf_scan_of(curve, NO_200_MM if dom is not None else None)    # one scan for both H/F methods
+    return [kezdi_1979(curve, fines if dom is not None else None),
+            kenney_lau(curve, kenney_lau_boundary, scan=scan, fines_pct=fines),
+            li_fannin_2008(curve, scan=scan, fines_pct=fines),
             burenkova_1993(curve), wf, istomina_1957(curve)], findings

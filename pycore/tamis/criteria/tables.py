@@ -78,7 +78,9 @@ _FAMILY_2011 = {
 RULE_SETS = _freeze({
     "nrcs-1994": {
         "title": "USDA NRCS, National Engineering Handbook Part 633 Ch. 26, "
-                 "Gradation Design of Sand and Gravel Filters (210-vi-NEH, October 1994)",
+                 "Gradation Design of Sand and Gravel Filters (210-vi-NEH, October 1994; its criteria were "
+                 "first issued in Soil Mechanics Note 1, revised January 1986). A later edition exists "
+                 "(210-633-H, 1st Ed., Amend. 61, August 2017); its numbers are not checked here",
         "family": "nrcs",
         "regrade": True,
         "retention": _NRCS_RETENTION,
@@ -94,7 +96,7 @@ RULE_SETS = _freeze({
     },
     "fema-2011": {
         "title": "FEMA, Filters for Embankment Dams: Best Practices for Design "
-                 "and Construction (October 2011)",
+                 "and Construction (October 2011), Chapter 5, Filter Design Procedure",
         **_FAMILY_2011,
     },
     "terzaghi": {
