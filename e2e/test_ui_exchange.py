@@ -244,6 +244,7 @@ def test_record_list_verdicts_and_filters_match_cpython(page, site):
     page.get_by_label("Only records not yet exported").check()
     assert page.locator("li.record-item").count() == len(expected)  # imported, never exported from here
     page.get_by_label("Search").fill("Q-0916-1R")
+    page.wait_for_selector("ul.record-list[data-query='q-0916-1r']")  # the search waits for a pause in typing
     assert page.eval_on_selector_all("li.record-item .record-title", "els => els.map(e => e.textContent)")[0].startswith("Q-0916-1R")
 
 

@@ -2,6 +2,7 @@
 //
 //   call(op, fields, {key})  -> Promise<response object>   (the tamis.api JSON contract)
 //   callJSON(text, {key})    -> Promise<response string>   (the exact string tamis.api.handle returned)
+//   callBatch(texts)         -> Promise<response strings>  (many requests in one message, answered in order)
 //   onStatus(cb)             -> unsubscribe function; cb({stage, detail, progress, ready, error, ...})
 //   whenReady()              -> Promise<ready status>; rejects if the worker cannot boot
 //
@@ -42,7 +43,8 @@ function fail(message) {
 function pump() {
   if (inFlight || !status.ready || !waiting.length) return;
   inFlight = waiting.shift();
-  worker.postMessage({ type: "request", n: inFlight.n, json: inFlight.json });
+  if (inFlight.batch) worker.postMessage({ type: "batch", n: inFlight.n, jsons: inFlight.json });
+  else worker.postMessage({ type: "request", n: inFlight.n, json: inFlight.json });
 }
 
 function onMessage(event) {
@@ -88,11 +90,11 @@ function start() {
 }
 
 /** Send one request string; resolves with the response string (or {superseded: true}). */
-export function callJSON(json, { key } = {}) {
+export function callJSON(json, { key, batch = false } = {}) {
   start();
   if (status.error) return Promise.reject(new Error(status.error));
   return new Promise((resolve, reject) => {
-    const job = { n: nextN++, json, key, resolve, reject, superseded: false };
+    const job = { n: nextN++, json, key, batch, resolve, reject, superseded: false };
     if (key !== undefined && key !== null) {
       const olderN = latestByKey.get(key);
       if (olderN !== undefined) supersede(olderN);
@@ -109,6 +111,15 @@ function supersede(n) {
   if (!job) return;
   job.superseded = true;
   job.resolve({ superseded: true });
+}
+
+/**
+ * Send many request strings in one message: the worker answers them in order,
+ * one after the other, in one reply (an array of response strings). Other
+ * calls wait until the whole batch is answered, so keep batches short.
+ */
+export function callBatch(jsons) {
+  return jsons.length ? callJSON(jsons, { batch: true }) : Promise.resolve([]);
 }
 
 /** Send {"schema": 1, "op": op, "id": n, ...fields}; resolves with the parsed response. */

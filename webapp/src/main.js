@@ -26,6 +26,7 @@ const app = {
   coreVersion: null,
   persistence: null,
   nav: {}, // one-shot options for the next screen (seed record, selection)
+  leaving: [], // called once when the screen showing is replaced (a form stops keeping its draft)
   go(hash, opts = {}) {
     app.nav = opts;
     carryToast = true; // a toast just said ("Saved") goes with the screen the app opens
@@ -97,6 +98,9 @@ async function render() {
   const [, name = "", arg = null] = location.hash.match(/^#\/([a-z]+)(?:\/(.+))?$/) || [];
   const route = ROUTES[name] ? name : "entry";
   const ticket = ++rendering;
+  for (const f of app.leaving.splice(0)) {
+    try { f(); } catch (err) { console.error(err); }
+  }
   for (const a of document.querySelectorAll("nav a")) {
     if (a.dataset.route === route || (route === "record" && a.dataset.route === "records")) a.setAttribute("aria-current", "page");
     else a.removeAttribute("aria-current");

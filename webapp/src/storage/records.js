@@ -92,31 +92,52 @@ function nextRevision(stored, draft, by, summary, at) {
 }
 
 /**
- * Run `work(records, results)` in one read-write transaction over both
- * stores and wait for it to commit. `work` may await only IndexedDB requests.
+ * Run `work(records, results, settings)` in one read-write transaction over
+ * the stores and wait for it to commit. `work` may await only IndexedDB requests.
  */
-async function inWriteTx(work) {
+async function inWriteTx(work, stores = ["records", "results"]) {
   const d = await db();
-  const tx = d.transaction(["records", "results"], "readwrite");
-  const out = await work(tx.objectStore("records"), tx.objectStore("results"));
+  const tx = d.transaction(stores, "readwrite");
+  const out = await work(...stores.map((s) => tx.objectStore(s)));
   await tx.done;
   return out;
 }
 
+/** True when two records have the same content (docs/records.md: every field but history and exported_at). */
+export function sameContent(a, b) {
+  return diffContent(a, b).length === 0 && Boolean(a.deleted) === Boolean(b.deleted);
+}
+
 /**
- * Save a record atomically. Returns {record, changed}. When nothing changed
- * the stored record is returned untouched (no empty revision is written).
+ * Save a record atomically. Returns {record, changed} or, when refused,
+ * {conflict: true, stored}. When nothing changed the stored record is
+ * returned untouched (no empty revision is written).
+ *
+ * basisRev: the revision the form started from (0 for a new record). When
+ * given, the save is refused if the stored record is at another revision;
+ * a new record whose id is already stored with the same content is the same
+ * save again and writes nothing (a save is idempotent on its draft's id).
+ * draftKey: a "settings" key (the form's draft) deleted in the same
+ * transaction, so a committed save never leaves its draft behind.
  */
-export function saveRecord(draft, { by = "", summary = "" } = {}) {
-  return inWriteTx(async (records, results) => {
+export function saveRecord(draft, { by = "", summary = "", basisRev, draftKey = null } = {}) {
+  return inWriteTx(async (records, results, settings) => {
     const stored = await records.get(draft.record_id);
+    if (basisRev !== undefined && stored && stored.rev !== basisRev) {
+      if (basisRev === 0 && sameContent(stored, draft)) {
+        if (draftKey) settings.delete(draftKey);
+        return { record: stored, changed: false };
+      }
+      return { conflict: true, stored };
+    }
     const next = nextRevision(stored, draft, by, summary, nowIso());
     if (next) {
       records.put(next);
       results.delete(next.record_id);
     }
+    if (draftKey) settings.delete(draftKey);
     return { record: next || stored, changed: Boolean(next) };
-  });
+  }, ["records", "results", "settings"]);
 }
 
 export async function getRecord(id) {
@@ -199,4 +220,24 @@ export async function cachedResult(rec, coreVersion) {
 
 export async function storeResult(rec, coreVersion, summary) {
   await (await db()).put("results", { record_id: rec.record_id, rev: rec.rev, core_version: coreVersion, ...summary });
+}
+
+/** Cached results of many records at once (one read of the whole cache): record_id -> hit, valid ones only. */
+export async function cachedResults(recs, coreVersion) {
+  const all = await (await db()).getAll("results");
+  const byId = new Map(all.map((hit) => [hit.record_id, hit]));
+  const out = new Map();
+  for (const rec of recs) {
+    const hit = byId.get(rec.record_id);
+    if (hit && hit.core_version === coreVersion && hit.rev === rec.rev) out.set(rec.record_id, hit);
+  }
+  return out;
+}
+
+/** Store many results in one transaction: [[record, summary], ...]. */
+export async function storeResults(pairs, coreVersion) {
+  const d = await db();
+  const tx = d.transaction("results", "readwrite");
+  for (const [rec, summary] of pairs) tx.store.put({ record_id: rec.record_id, rev: rec.rev, core_version: coreVersion, ...summary });
+  await tx.done;
 }

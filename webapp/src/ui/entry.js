@@ -8,8 +8,9 @@ import { metaForm, newSampleId } from "./meta_form.js";
 import { renderVerdict, verdictLine, firstReason, notYet } from "./verdict.js";
 import { renderChart } from "./chart.js";
 import { sievePresets, RULE_SETS } from "./presets.js";
-import { blankRecord, getRecord, listRecords, saveRecord, storeResult } from "../storage/records.js";
-import { loadDraft, saveDraft, clearDraft } from "../storage/drafts.js";
+import { blankRecord, getRecord, listRecords, storeResult } from "../storage/records.js";
+import { openForm, keepForm } from "./form_keeper.js";
+import { clearDraft } from "../storage/drafts.js";
 
 const DEBOUNCE_MS = 120;
 
@@ -28,15 +29,10 @@ export async function entryScreen(app, view, id = null, seed = null) {
   const [presets, bands, bases] = await Promise.all([
     sievePresets(), listRecords({ kind: "band" }), listRecords({ kind: "base" })]);
   const stored = id ? await getRecord(id) : null;
-  // One draft for the new test and one per stored test being edited, so
-  // opening one never overwrites what was typed in the other.
-  const draftName = stored ? `edit:${stored.record_id}` : "new";
-  const draft = await loadDraft(draftName);
-  let rec;
-  if (seed) rec = seed;
-  else if (stored) rec = draft && draft.record_id === stored.record_id && draft.rev === stored.rev ? draft : structuredClone(stored);
-  else if (draft && draft.rev === 0) rec = draft;
-  else rec = blankRecord("test", { meta: { sample_id: newSampleId(), sampled_at: nowMinute(), tested_by: app.settings.tester || undefined, rules: { criteria: app.settings.rules } } });
+  // One draft per tab for the new test and one per tab and stored test being
+  // edited, so neither another form nor another tab overwrites what was typed.
+  const opened = await openForm({ stored, seed, blank: () => blankRecord("test", { meta: { sample_id: newSampleId(), sampled_at: nowMinute(), tested_by: app.settings.tester || undefined, rules: { criteria: app.settings.rules } } }) });
+  let rec = opened.rec;
   if (!rec.meta.sample_id) rec.meta.sample_id = newSampleId();
 
   const form = h("form", { class: "screen entry", novalidate: true, onsubmit: (e) => e.preventDefault() });
@@ -62,9 +58,12 @@ export async function entryScreen(app, view, id = null, seed = null) {
   const dvalBox = h("section", { class: "card", "aria-label": "D-values" });
   const saveStatus = h("p", { class: "hint save-status", role: "status" });
   const banner = h("p", { class: "core-error", role: "alert" });
+  const tabNotice = h("p", { class: "tab-notice hint", role: "status", hidden: true });
+  const conflictBox = h("section", { class: "card conflict", "aria-label": "Two versions of this test", hidden: true });
 
   fill(view,
     h("h1", { text: title }),
+    tabNotice,
     form);
   form.append(
     h("section", { class: "card" }, h("h2", { text: "Checked against" }), h("div", { class: "grid2" }, bandF.wrap, baseF.wrap, rulesF.wrap),
@@ -78,11 +77,17 @@ export async function entryScreen(app, view, id = null, seed = null) {
       h("button", { type: "button", class: "btn primary", text: stored ? "Save changes" : "Save test", onclick: save }),
       h("button", { type: "button", class: "btn", text: "Start a new test", onclick: startNew })),
     saveStatus,
+    conflictBox,
     bar);
 
   const meta = metaForm(metaBox, rec.meta, { onChange: () => schedule() });
   const editor = gradationEditor(testBox, rec.test, { path: "sample", presets, onChange: () => schedule() });
   renderVerdict(verdictBox, null, { slot: chartBox });
+  const keeper = keepForm(app, {
+    ...opened, read: () => current().record, noticeBox: tabNotice, conflictBox,
+    reopen: (r, isNew) => app.go(isNew ? `#/record/${r.record_id}` : `#/entry/${r.record_id}`, { force: true }),
+    done: afterSave,
+  });
 
   /** A band chosen: its sieves are offered first as a stack. */
   function offerBandStack() {
@@ -110,8 +115,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
     view.dataset.busy = "1";
     clearTimeout(timer);
     timer = setTimeout(run, DEBOUNCE_MS);
-    const { record } = current();
-    saveDraft(draftName, record).catch(() => {});
+    keeper.draft();
   }
 
   async function run() {
@@ -154,9 +158,12 @@ export async function entryScreen(app, view, id = null, seed = null) {
     if (localErrors) { saveStatus.textContent = "Not saved: fix the highlighted entries first."; return; }
     const tester = await askTester(app, saveStatus);
     if (tester && !record.meta.tested_by) record.meta.tested_by = tester;
-    const { record: saved, changed } = await saveRecord(record, { by: app.settings.tester || "", summary: stored ? "edited" : "created" });
+    const res = await keeper.save(record, stored ? "edited" : "created");
+    if (res.conflict) saveStatus.textContent = res.message;
+  }
+
+  async function afterSave(saved, changed) {
     rec = structuredClone(saved);
-    await clearDraft(draftName);
     if (last && last.ok) await storeResult(saved, last.core_version, { verdict: last.result.verdict });
     const msg = changed ? `Saved ${saved.meta.sample_id || ""} (revision ${saved.rev}).` : "Nothing changed since the last save.";
     saveStatus.textContent = msg;
@@ -166,6 +173,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
   }
 
   async function startNew() {
+    keeper.close();
     await clearDraft("new");
     app.go("#/entry", { force: true });
   }

@@ -1,28 +1,50 @@
 // Screens "Records" (list with search and filters) and a record's detail
 // (figures, verdict, chart, history).
 import { h, fill, field, fmt, announce, when } from "./dom.js";
-import { ask, evaluateRecord, errorText } from "./core.js";
+import { ask, evaluateRecord, evaluateRecords, errorText } from "./core.js";
 import { renderVerdict, verdictLine, VERDICT_WORDS } from "./verdict.js";
 import { renderChart } from "./chart.js";
 import { renderDvalues, bandName, baseName } from "./entry.js";
-import { listRecords, getRecord, notExported, softDelete, restore, cachedResult, storeResult, blankRecord } from "../storage/records.js";
+import { listRecords, getRecord, notExported, softDelete, restore, cachedResults, storeResult, storeResults, blankRecord } from "../storage/records.js";
 
-/** Verdicts of stored tests: from the cache when it matches the core version, else recomputed. */
-export async function verdictsFor(app, tests, byId) {
+/** Rows drawn at a time; more are drawn as the list is scrolled to its end. */
+export const PAGE_ROWS = 100;
+/** Verdict requests sent to the worker in one message. */
+const VERDICT_BATCH = 50;
+const SEARCH_DEBOUNCE_MS = 120;
+
+/**
+ * Verdicts of stored tests: the cache is read once (hits made by the running
+ * core version for the record's revision), the rest is computed in batches in
+ * the worker and cached. onProgress(verdicts, done, total, ids) after the cache
+ * and after each batch (ids: the records it added); stops early when cancelled().
+ */
+export async function verdictsFor(app, tests, byId, { onProgress = () => {}, cancelled = () => false } = {}) {
   const out = new Map();
   const version = await app.ready; // the cache is valid only for the running core's version
-  for (const rec of tests) {
-    let hit = version ? await cachedResult(rec, version) : undefined;
-    if (!hit && version) {
-      const resp = await evaluateRecord(rec, byId, app.settings);
-      if (resp.ok) {
-        hit = { verdict: resp.result.verdict };
-        await storeResult(rec, resp.core_version, hit);
-      } else {
-        hit = { verdict: null, error: resp.error?.message };
-      }
-    }
-    out.set(rec.record_id, hit || { verdict: null });
+  if (!version) {
+    for (const rec of tests) out.set(rec.record_id, { verdict: null });
+    onProgress(out, tests.length, tests.length, tests.map((r) => r.record_id));
+    return out;
+  }
+  const hits = await cachedResults(tests, version);
+  for (const [id, hit] of hits) out.set(id, hit);
+  const missing = tests.filter((r) => !hits.has(r.record_id));
+  let done = tests.length - missing.length;
+  onProgress(out, done, tests.length, [...hits.keys()]);
+  for (let i = 0; i < missing.length && !cancelled(); i += VERDICT_BATCH) {
+    const chunk = missing.slice(i, i + VERDICT_BATCH);
+    const resps = await evaluateRecords(chunk, byId, app.settings);
+    const keep = [];
+    chunk.forEach((rec, j) => {
+      const resp = resps[j];
+      const hit = resp.ok ? { verdict: resp.result.verdict } : { verdict: null, error: resp.error?.message };
+      if (resp.ok) keep.push([rec, hit]);
+      out.set(rec.record_id, hit);
+    });
+    if (keep.length) await storeResults(keep, resps.find((r) => r.ok)?.core_version || version);
+    done += chunk.length;
+    onProgress(out, done, tests.length, chunk.map((r) => r.record_id));
   }
   return out;
 }
@@ -51,8 +73,11 @@ export async function recordsScreen(app, view) {
   const materialF = sel("Material", materials);
   const verdictF = sel("Verdict", Object.entries(VERDICT_WORDS).map(([k, v]) => ({ value: k, text: v.word })));
   const pending = h("input", { type: "checkbox", id: "f-pending" });
-  const list = h("ul", { class: "record-list", "aria-label": "Records" });
+  const list = h("ul", { class: "record-list", "aria-label": "Records", dataset: { verdicts: "pending" } });
   const count = h("p", { class: "hint", role: "status" });
+  const progress = h("progress", { max: Math.max(tests.length, 1), value: 0, "aria-label": "Tests checked so far" });
+  const progressLine = h("p", { class: "hint verdict-progress" }, progress, h("span"));
+  const more = h("button", { type: "button", class: "btn", hidden: true, onclick: () => drawMore() });
   const selected = new Set();
   const exportSel = h("button", { type: "button", class: "btn", text: "Export the selected records", disabled: true, onclick: () => app.go("#/exchange", { selection: [...selected] }) });
 
@@ -64,41 +89,98 @@ export async function recordsScreen(app, view) {
     h("details", { class: "card filters" }, h("summary", { text: "Search and filters" }),
       search.wrap, h("div", { class: "grid2" }, kindF.wrap, projectF.wrap, materialF.wrap, verdictF.wrap),
       h("div", { class: "check-row" }, pending, h("label", { for: "f-pending", text: "Only records not yet exported" }))),
-    count, list, exportSel));
+    count, progressLine, list, more, exportSel));
 
+  // The search runs on an index made once: each record's searchable text, lower-cased.
+  const index = all.map((r) => JSON.stringify([r.meta, r.band?.name]).toLowerCase());
   let verdicts = new Map();
+  let rows = [];
+  let drawn = 0;
+  const spans = new Map(); // record_id -> verdict span of a drawn row
+  const verdictText = (v) => (v ? verdictLine(v.verdict) : "… verdict pending");
+  const item = (r) => {
+    const v = verdicts.get(r.record_id);
+    const box = h("input", { type: "checkbox", id: `sel-${r.record_id}`, checked: selected.has(r.record_id),
+      "aria-label": `Select ${recordTitle(r)}`,
+      onchange: (e) => { if (e.target.checked) selected.add(r.record_id); else selected.delete(r.record_id); exportSel.disabled = selected.size === 0; } });
+    const span = r.kind === "test" ? h("span", { class: "record-verdict", dataset: { verdict: v?.verdict || "none" }, text: verdictText(v) }) : null;
+    if (span) spans.set(r.record_id, span);
+    return h("li", { class: "record-item", dataset: { id: r.record_id, kind: r.kind } },
+      box,
+      h("a", { href: `#/record/${r.record_id}`, class: "record-link" },
+        h("span", { class: "record-title", text: recordTitle(r) }),
+        h("span", { class: "record-sub", text: [KIND_WORDS[r.kind], r.meta?.project, r.meta?.station && `station ${r.meta.station}`, r.updated_at?.slice(0, 10)].filter(Boolean).join(" · ") }),
+        span,
+        notExported(r) ? h("span", { class: "pill", text: "not exported" }) : null));
+  };
+  function drawMore() {
+    const next = rows.slice(drawn, drawn + PAGE_ROWS);
+    list.append(...next.map(item));
+    drawn += next.length;
+    const left = rows.length - drawn;
+    more.hidden = left === 0;
+    more.textContent = `Show ${Math.min(left, PAGE_ROWS)} more (${left} not drawn yet)`;
+  }
+  let draws = 0;
   const draw = () => {
     const q = search.input.value.trim().toLowerCase();
     const kind = kindF.input.value;
-    const rows = all.filter((r) => {
-      if (kind === "deleted") { if (!r.deleted) return false; } else if (r.deleted || (kind && r.kind !== kind)) return false;
-      if (projectF.input.value && r.meta?.project !== projectF.input.value) return false;
-      if (materialF.input.value && r.meta?.material !== materialF.input.value) return false;
-      if (verdictF.input.value && verdicts.get(r.record_id)?.verdict !== verdictF.input.value) return false;
-      if (pending.checked && !notExported(r)) return false;
-      if (q && !JSON.stringify([r.meta, r.band?.name]).toLowerCase().includes(q)) return false;
-      return true;
-    });
+    const project = projectF.input.value;
+    const material = materialF.input.value;
+    const verdict = verdictF.input.value;
+    rows = [];
+    for (let i = 0; i < all.length; i += 1) {
+      const r = all[i];
+      if (kind === "deleted") { if (!r.deleted) continue; } else if (r.deleted || (kind && r.kind !== kind)) continue;
+      if (project && r.meta?.project !== project) continue;
+      if (material && r.meta?.material !== material) continue;
+      if (verdict && verdicts.get(r.record_id)?.verdict !== verdict) continue;
+      if (pending.checked && !notExported(r)) continue;
+      if (q && !index[i].includes(q)) continue;
+      rows.push(r);
+    }
     count.textContent = `${rows.length} of ${all.length} records shown.`;
-    fill(list, rows.map((r) => {
-      const v = verdicts.get(r.record_id);
-      const box = h("input", { type: "checkbox", id: `sel-${r.record_id}`, checked: selected.has(r.record_id),
-        "aria-label": `Select ${recordTitle(r)}`,
-        onchange: (e) => { if (e.target.checked) selected.add(r.record_id); else selected.delete(r.record_id); exportSel.disabled = selected.size === 0; } });
-      return h("li", { class: "record-item", dataset: { id: r.record_id, kind: r.kind } },
-        box,
-        h("a", { href: `#/record/${r.record_id}`, class: "record-link" },
-          h("span", { class: "record-title", text: recordTitle(r) }),
-          h("span", { class: "record-sub", text: [KIND_WORDS[r.kind], r.meta?.project, r.meta?.station && `station ${r.meta.station}`, r.updated_at?.slice(0, 10)].filter(Boolean).join(" · ") }),
-          r.kind === "test" ? h("span", { class: "record-verdict", dataset: { verdict: v?.verdict || "none" }, text: v ? verdictLine(v.verdict) : "… verdict pending" }) : null,
-          notExported(r) ? h("span", { class: "pill", text: "not exported" }) : null));
-    }));
+    spans.clear();
+    list.replaceChildren();
+    drawn = 0;
+    drawMore();
+    list.dataset.query = q;
+    list.dataset.draws = String(++draws);
   };
-  for (const f of [search, kindF, projectF, materialF, verdictF]) f.input.addEventListener("input", draw);
+  let searchTimer = null;
+  search.input.addEventListener("input", () => { clearTimeout(searchTimer); searchTimer = setTimeout(draw, SEARCH_DEBOUNCE_MS); });
+  for (const f of [kindF, projectF, materialF, verdictF]) f.input.addEventListener("input", draw);
   pending.addEventListener("change", draw);
+  // More rows are drawn when the end of the list comes into view.
+  const seen = typeof IntersectionObserver === "function"
+    ? new IntersectionObserver((entries) => { if (entries.some((e) => e.isIntersecting) && !more.hidden) drawMore(); }, { rootMargin: "400px" })
+    : null;
+  seen?.observe(more);
+  let left = false;
+  app.leaving?.push(() => { left = true; seen?.disconnect(); clearTimeout(searchTimer); });
   draw();
-  verdicts = await verdictsFor(app, tests, byId);
-  draw();
+
+  const onProgress = (map, done, total, ids) => {
+    verdicts = map;
+    progress.value = done;
+    progressLine.lastChild.textContent = done < total ? ` Verdicts: ${done.toLocaleString("en")} of ${total.toLocaleString("en")} worked out…` : "";
+    progressLine.hidden = done >= total;
+    if (verdictF.input.value) { draw(); return; }
+    for (const id of ids) {
+      const span = spans.get(id);
+      if (!span) continue;
+      const v = map.get(id);
+      span.dataset.verdict = v?.verdict || "none";
+      span.textContent = verdictText(v);
+    }
+  };
+  try {
+    await verdictsFor(app, tests, byId, { onProgress, cancelled: () => left });
+  } catch (err) {
+    progressLine.lastChild.textContent = ` Verdicts could not be worked out: ${err.message}`;
+    return;
+  }
+  if (!left) list.dataset.verdicts = "done";
 }
 
 function metaList(meta) {

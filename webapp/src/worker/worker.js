@@ -3,8 +3,9 @@
 // tamis.api requests. JSON strings only cross the seam, never PyProxies.
 //
 // Messages in:   {type: "request", n, json}
+//                {type: "batch", n, jsons}         many requests, answered in order in one reply
 // Messages out:  {type: "status", stage, detail, progress, ready, error, timings?}
-//                {type: "response", n, json}       every answer, Python errors included
+//                {type: "response", n, json}       every answer, Python errors included (an array for a batch)
 //                {type: "fatal", error}             the runtime itself failed; no more answers
 //
 // Install mode: ?install=unpack (default, measured faster) or ?install=micropip
@@ -141,35 +142,43 @@ function isRuntimeFailure(err) {
   return !(err && err.constructor && err.constructor.name === "PythonError");
 }
 
-function answer(n, json) {
-  if (broken) {
-    post({ type: "response", n, json: null, fatal: broken });
-    return;
-  }
+/** One request's answer; throws only when the runtime itself failed (then `broken` is set). */
+function handleOne(json) {
   try {
-    post({ type: "response", n, json: handle(json) });
+    return handle(json);
   } catch (err) {
     if (isRuntimeFailure(err)) {
       broken = `the Python runtime failed: ${err && err.message ? err.message : err}`;
-      post({ type: "fatal", error: broken });
-      post({ type: "response", n, json: null, fatal: broken });
-      return;
+      throw err;
     }
     // tamis.api.handle never raises for bad input; if Python raised anyway,
     // answer with a normal error response in the JSON contract's shape.
     const message = String(err.message || err).split("\n").filter(Boolean).pop() || "Python error";
-    post({ type: "response", n, json: JSON.stringify({
+    return JSON.stringify({
       schema: 1, id: null, ok: false,
       error: { code: "worker_exception", message: `The Python core raised: ${message}`, field: "" },
-    }) });
+    });
   }
+}
+
+function answer(n, json, batch = false) {
+  if (!broken) {
+    try {
+      post({ type: "response", n, json: batch ? json.map(handleOne) : handleOne(json) });
+      return;
+    } catch {
+      post({ type: "fatal", error: broken });
+    }
+  }
+  post({ type: "response", n, json: null, fatal: broken });
 }
 
 self.addEventListener("message", (event) => {
   const msg = event.data;
-  if (!msg || msg.type !== "request") return;
-  if (handle || broken) answer(msg.n, msg.json);
-  else queue.push(msg);
+  if (!msg || (msg.type !== "request" && msg.type !== "batch")) return;
+  const item = { n: msg.n, json: msg.type === "batch" ? msg.jsons : msg.json, batch: msg.type === "batch" };
+  if (handle || broken) answer(item.n, item.json, item.batch);
+  else queue.push(item);
 });
 
 async function boot() {
@@ -230,7 +239,7 @@ async function boot() {
   });
   while (queue.length) {
     const msg = queue.shift();
-    answer(msg.n, msg.json);
+    answer(msg.n, msg.json, msg.batch);
   }
   setTimeout(() => {
     try {
