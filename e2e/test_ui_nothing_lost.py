@@ -10,7 +10,7 @@ The rules these tests hold the app to are written in docs/records.md
 from __future__ import annotations
 
 import helpers
-from test_ui_common import enter_sample, go, open_app, settle, wait_screen
+from test_ui_common import go, open_app, settle, wait_screen
 
 ALL_RECORDS = "async () => (await import('/src/storage/records.js')).listRecords({includeDeleted: true})"
 
