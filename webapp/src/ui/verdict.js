@@ -5,6 +5,7 @@
 // indicators, each check's wording and source one tap away. Status is given
 // by a word and a symbol, so it never depends on colour alone.
 import { h, fill, fmt, fmtPct, table } from "./dom.js";
+import { plainWords } from "./editor/fields.js";
 
 export const FALLBACK_NOTICE =
   "Screening check only. The project specification, local codes and the " +
@@ -267,7 +268,7 @@ export function renderVerdict(box, resp, { only = null, title = "Verdict", slot 
   }
   if (!resp.ok) {
     fill(box, h("h2", { text: title }), verdictBlock(null),
-      h("p", { class: "core-error", text: resp.error?.message || "The core could not answer." }), caution(), slot);
+      h("p", { class: "core-error", text: resp.error?.message ? plainWords(resp.error.message, box.closest("form, .screen") || box) : "The core could not answer." }), caution(), slot);
     return;
   }
   const r = resp.result;
