@@ -17,7 +17,7 @@ built app with the e2e error collector (``conftest.InstrumentedSite``):
 No page, worker or service-worker error may be reported in any of them.
 Hooks: ids, ``data-`` attributes (``data-field`` carries the core's field
 paths), the verdict words; the only button texts used are "Use this stack",
-"Save test" and "Switch to the new version".
+"Save test", "Save with this name" and "Switch to the new version".
 """
 
 from __future__ import annotations
@@ -160,7 +160,11 @@ def test_first_visit_typed_test_saved_and_offline_reload(engine, site):
     assert_verdict(engine, expected)
 
     # Saved: the record screen shows the same verdict.
+    # The first save on a device asks the tester's name once (kept in Settings).
     engine.click_text("Save test")
+    engine.wait_for(".tester-ask input")
+    engine.type(".tester-ask input", "E2E")
+    engine.click_text("Save with this name")
     engine.wait_for("#view[data-screen='record'] [data-id]")
     wait_app(engine)
     record_id = engine.attr("#view [data-id]", "data-id")
