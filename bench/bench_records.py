@@ -12,7 +12,7 @@ visit: all cached) and the search box is typed into. Printed per visit:
 - longest block: the longest the page's main thread did not answer during the
   visit (a message-channel probe pinging itself), and during each keystroke;
 - per keystroke: keystroke to the list showing the new query (for the current
-  app this includes its 120 ms pause for more typing, printed apart).
+  app this includes its one-frame pause for more typing, printed apart).
 
 ``--baseline COMMIT`` builds that commit's web app in a temporary directory
 (``git archive``, this checkout's node_modules and build cache, no network)
@@ -37,27 +37,8 @@ sys.path.insert(0, str(ROOT / "e2e"))
 
 import helpers  # noqa: E402  (the e2e harness: server, chromium)
 
-#: Invented records (demo-style data, no real site): tests given as percent
-#: passing, varied with their index so the core has real work for each.
-MAKE_RECORDS = """async (n) => {
-  const recs = [];
-  const at = '2026-11-01T08:00:00Z';
-  for (let i = 0; i < n; i += 1) {
-    const f = (i % 97) / 97;
-    const passing = [[9.5, 100], [4.75, 92 + 6 * f], [2.36, 70 + 10 * f], [1.18, 45 + 10 * f],
-      [0.6, 25 + 8 * f], [0.3, 10 + 5 * f], [0.15, 3 + 2 * f], [0.075, 1 + f]]
-      .map(([d, p]) => ({ opening_mm: d, passing_pct: Math.round(p * 100) / 100 }));
-    const id = crypto.randomUUID();
-    recs.push({ record_id: id, kind: 'test', rev: 1, updated_at: at, updated_by: 'bench', deleted: false,
-      exported_at: null, band: null, test: { passing },
-      meta: { sample_id: `B-${String(i).padStart(5, '0')}`, project: `Project ${i % 7}`,
-              material: i % 2 ? 'filter sand' : 'drain gravel', station: `${Math.floor(i / 10)}+${(i % 10) * 10}`,
-              rules: { criteria: 'nrcs-1994' } },
-      history: [{ rev: 1, at, by: 'bench', summary: 'created', changes: [] }] });
-  }
-  await (await import('/src/storage/records.js')).putRecords(recs);
-  return recs.length;
-}"""
+#: Invented records written into the app's IndexedDB (shared with the e2e test of the list).
+MAKE_RECORDS = helpers.SEED_TEST_RECORDS
 
 #: Installed once per page: a probe that measures the longest main-thread block.
 PROBE = """() => {
@@ -175,7 +156,7 @@ def report(label: str, n: int, fig: dict, cap_s: float) -> None:
     total = [k["total"] for k in keys]
     block = [k["block"] for k in keys]
     handler = [k["handler"] for k in keys]
-    extra = " (includes the 120 ms pause the app waits for more typing)" if keys and keys[0]["debounced"] else ""
+    extra = " (includes the one-frame pause the app waits for more typing)" if keys and keys[0]["debounced"] else ""
     print(f"  {label:<9} {n:>6,} records, search, {len(keys)} keystrokes: keystroke to list updated median "
           f"{statistics.median(total):,.0f} ms (max {max(total):,.0f}){extra}; input handler median "
           f"{statistics.median(handler):.1f} ms; longest block per keystroke median {statistics.median(block):,.0f} ms "

@@ -205,3 +205,27 @@ def golden_cases() -> list[tuple[str, str, str]]:
         cases.append((name, req.read_text(encoding="utf-8"),
                       resp.read_text(encoding="utf-8") if resp.is_file() else None))
     return cases
+
+
+#: Invented records (demo-style data, no real site): tests given as percent
+#: passing, varied with their index so the core has real work for each; every fifth
+#: has too many fines, every third no word on the fines' plasticity (reject, review, accept).
+SEED_TEST_RECORDS = """async (n) => {
+  const recs = [];
+  const at = '2026-11-01T08:00:00Z';
+  for (let i = 0; i < n; i += 1) {
+    const f = (i % 97) / 97;
+    const passing = [[9.5, 100], [4.75, 92 + 6 * f], [2.36, 70 + 10 * f], [1.18, 45 + 10 * f],
+      [0.6, 25 + 8 * f], [0.3, 10 + 5 * f], [0.15, i % 5 ? 3 + 2 * f : 8 + 2 * f], [0.075, i % 5 ? 1 + f : 6 + f]]
+      .map(([d, p]) => ({ opening_mm: d, passing_pct: Math.round(p * 100) / 100 }));
+    const id = crypto.randomUUID();
+    recs.push({ record_id: id, kind: 'test', rev: 1, updated_at: at, updated_by: 'seed', deleted: false,
+      exported_at: null, band: null, test: i % 3 ? { passing, plasticity: { nonplastic: true } } : { passing },
+      meta: { sample_id: `B-${String(i).padStart(5, '0')}`, project: `Project ${i % 7}`,
+              material: i % 2 ? 'filter sand' : 'drain gravel', station: `${Math.floor(i / 10)}+${(i % 10) * 10}`,
+              rules: { criteria: 'nrcs-1994' } },
+      history: [{ rev: 1, at, by: 'seed', summary: 'created', changes: [] }] });
+  }
+  await (await import('/src/storage/records.js')).putRecords(recs);
+  return recs.length;
+}"""

@@ -137,3 +137,40 @@ def test_a_version_1_database_is_migrated_and_keeps_its_records(page, site):
     })""")
     assert info == [2, ["records", "results", "settings"]]
     assert stored(page, rec["record_id"]) == rec
+
+
+def test_the_records_list_at_three_hundred_tests_shows_each_verdict_the_core_gives(page, site):
+    """300 tests on the device: the list is drawn a page at a time, every row's verdict is the one
+    CPython's tamis.api gives for that record (an independent run of the same core), and a search
+    shows exactly the matching records."""
+    import json
+
+    from tamis.api import handle
+
+    open_app(page, site, "#/entry")
+    assert page.evaluate(helpers.SEED_TEST_RECORDS, 300) == 300
+    go(page, "#/records")
+    page.wait_for_function("() => document.querySelector('#view ul.record-list').dataset.verdicts === 'done'")
+    page.get_by_text("300 of 300 records shown.").wait_for()
+    assert page.locator("#view li.record-item").count() == 100   # one page drawn, the rest on demand
+    while page.locator("#view button", has_text="more").is_visible():
+        page.locator("#view button", has_text="more").click()
+    assert page.locator("#view li.record-item").count() == 300
+
+    shown = dict(page.evaluate("""() => [...document.querySelectorAll('#view li.record-item')]
+        .map((li) => [li.dataset.id, li.querySelector('.record-verdict').dataset.verdict])"""))
+    stored = page.evaluate("async () => (await import('/src/storage/records.js')).listRecords({ kind: 'test' })")
+    assert len(stored) == 300 and set(shown) == {r["record_id"] for r in stored}
+    for r in stored:
+        resp = json.loads(handle(json.dumps({"schema": 1, "op": "evaluate", "id": 1, "sample": r["test"],
+                                             "rules": r["meta"]["rules"]})))
+        assert resp["ok"], resp
+        assert shown[r["record_id"]] == resp["result"]["verdict"], r["meta"]["sample_id"]
+    assert set(shown.values()) == {"accept", "review", "reject"}, "the invented tests should give every verdict"
+
+    open_filters(page)
+    page.get_by_role("searchbox").press_sequentially("b-0001")
+    page.wait_for_function("() => document.querySelector('#view ul.record-list').dataset.query === 'b-0001'")
+    ids = sorted(page.locator("#view li.record-item .record-title").all_text_contents())
+    expected = sorted(r["meta"]["sample_id"] for r in stored if "b-0001" in r["meta"]["sample_id"].lower())
+    assert len(expected) == 10 and [i for i in ids if any(e in i for e in expected)] == ids and len(ids) == 10
