@@ -24,12 +24,15 @@ def new_tab(context):
 
 
 def known_tester(context, site) -> None:
-    """The inspector gave their name on an earlier day (Settings), so a save asks nothing."""
+    """The inspector gave their name on an earlier day (Settings), so a save asks nothing.
+
+    The page is reloaded the moment the name is typed, before the field is left:
+    the name must still be there (it once was lost when the reload beat the
+    IndexedDB write)."""
     page = new_tab(context)
     open_app(page, site, "#/settings")
     box = page.get_by_label("Your name or initials (recorded with each save)")
-    box.fill(TESTER)
-    box.press("Tab")
+    box.press_sequentially(TESTER)
     page.reload()
     page.wait_for_selector("body[data-core-ready]")
     wait_screen(page)

@@ -20,6 +20,12 @@ export function settingsScreen(app, view) {
     return field(label, sel).wrap;
   };
   const tester = field("Your name or initials (recorded with each save)", h("input", { type: "text", autocomplete: "name", value: s.tester }));
+  // Kept at every keystroke (a page closed before the field is left keeps
+  // the name); announced once, when the field is left.
+  tester.input.addEventListener("input", () => {
+    s.tester = tester.input.value.trim();
+    saveSetting("tester", s.tester).catch(() => announce("The name could not be kept on this device."));
+  });
   tester.input.addEventListener("change", async () => {
     s.tester = tester.input.value.trim();
     await saveSetting("tester", s.tester);
