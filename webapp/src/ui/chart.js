@@ -94,24 +94,32 @@ export function renderChart(box, data, axis = "coarse-left", title = "Gradation 
   svg.append(line(upper, "band-line") || "");
   svg.append(line(lower, "band-line") || "");
 
+  // A point from the hydrometer (the core's `source`) is an open triangle on
+  // either curve, so a sieve point and a sedimentation point differ in shape.
   const curve = (grad, cls, marker) => {
-    const pts = (grad?.points || []).map((p) => [x(p.opening_mm), y(p.passing_pct)]);
+    const all = grad?.points || [];
+    const pts = all.map((p) => [x(p.opening_mm), y(p.passing_pct)]);
     const g = h("svg:g", { class: cls });
     const l = line(pts, "curve");
     if (l) g.append(l);
-    for (const [px, py] of pts) {
-      g.append(marker === "circle"
-        ? h("svg:circle", { cx: px, cy: py, r: 3.5 })
-        : h("svg:rect", { x: px - 3, y: py - 3, width: 6, height: 6 }));
-    }
+    pts.forEach(([px, py], i) => {
+      const src = all[i].source || "sieve";
+      g.append(src === "sedimentation"
+        ? h("svg:polygon", { class: "sed-mark", dataset: { source: src }, points: `${px.toFixed(1)},${(py - 4.5).toFixed(1)} ${(px + 4).toFixed(1)},${(py + 3).toFixed(1)} ${(px - 4).toFixed(1)},${(py + 3).toFixed(1)}` })
+        : marker === "circle"
+          ? h("svg:circle", { cx: px, cy: py, r: 3.5, dataset: { source: src } })
+          : h("svg:rect", { x: px - 3, y: py - 3, width: 6, height: 6, dataset: { source: src } }));
+    });
     return g;
   };
+  const hydro = [data.sample, data.base].some((gr) => (gr?.points || []).some((p) => p.source === "sedimentation"));
   if (data.base) svg.append(curve(data.base, "base-curve", "square"));
   if (data.sample) svg.append(curve(data.sample, "sample-curve", "circle"));
 
   const legend = h("ul", { class: "legend" },
     data.sample ? h("li", { class: "lg-sample", text: "Sample: solid line, round marks" }) : null,
     data.base ? h("li", { class: "lg-base", text: "Base soil: dashed line, square marks" }) : null,
+    hydro ? h("li", { class: "lg-sed", text: "Hydrometer points: open triangles (the others are sieve points)" }) : null,
     data.band ? h("li", { class: "lg-band", text: `Band ${data.band.name || ""}: shaded area`.trim() }) : null,
     lim.d15_max_mm || lim.d15_min_mm ? h("li", { class: "lg-d15", text: d15Words(lim) }) : null);
 
@@ -133,8 +141,8 @@ export function chartTable({ sample, base, band }) {
     if (!rows.has(k)) rows.set(k, { d });
     return rows.get(k);
   };
-  for (const p of sample?.points || []) row(p.opening_mm).sample = p.passing_pct;
-  for (const p of base?.points || []) row(p.opening_mm).base = p.passing_pct;
+  for (const p of sample?.points || []) Object.assign(row(p.opening_mm), { sample: p.passing_pct, sed: p.source === "sedimentation" || row(p.opening_mm).sed });
+  for (const p of base?.points || []) Object.assign(row(p.opening_mm), { base: p.passing_pct, sed: p.source === "sedimentation" || row(p.opening_mm).sed });
   for (const l of band?.limits || []) Object.assign(row(l.opening_mm), { min: l.min_pct, max: l.max_pct });
   const sorted = [...rows.values()].sort((a, b) => b.d - a.d);
   const cell = (v) => h("td", { text: typeof v === "number" ? fmtPct(v) : "" });
@@ -142,5 +150,6 @@ export function chartTable({ sample, base, band }) {
     h("summary", { text: "The chart as a table" }),
     table({}, "Percent passing by sieve opening", ["Size (mm)", "Sample (%)", "Band min (%)", "Band max (%)", "Base (%)"],
       h("tbody", {}, sorted.map((r) => h("tr", {},
-        h("th", { scope: "row", text: fmt(r.d, 4) }), cell(r.sample), cell(r.min), cell(r.max), cell(r.base))))));
+        h("th", { scope: "row", dataset: r.sed ? { source: "sedimentation" } : {} }, fmt(r.d, 4),
+          r.sed ? h("span", { class: "src", text: "hydrometer" }) : null), cell(r.sample), cell(r.min), cell(r.max), cell(r.base))))));
 }

@@ -81,7 +81,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
     bar);
 
   const meta = metaForm(metaBox, rec.meta, { onChange: () => schedule() });
-  const editor = gradationEditor(testBox, rec.test, { path: "sample", presets, onChange: () => schedule() });
+  const editor = gradationEditor(testBox, rec.test, { path: "sample", presets, sedimentation: true, onChange: () => schedule() });
   renderVerdict(verdictBox, null, { slot: chartBox });
   const keeper = keepForm(app, {
     ...opened, read: () => current().record, noticeBox: tabNotice, conflictBox,
@@ -104,7 +104,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
     if (bandF.input.value) out.meta.band_id = bandF.input.value; else delete out.meta.band_id;
     if (baseF.input.value) out.meta.base_id = baseF.input.value; else delete out.meta.base_id;
     out.meta.rules = { ...(rec.meta.rules || {}), criteria: rulesSel.value };
-    return { record: out, localErrors: m.errors + t.localErrors };
+    return { record: out, localErrors: m.errors + t.localErrors, coreTest: t.core };
   }
 
   let timer = null;
@@ -121,7 +121,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
   async function run() {
     const mine = asked;
     const done = () => { if (mine === asked) delete view.dataset.busy; };
-    const { record, localErrors } = current();
+    const { record, localErrors, coreTest } = current();
     if (localErrors) {
       barVerdict.textContent = "… no verdict yet: fix the highlighted entry";
       barReason.textContent = "";
@@ -132,10 +132,10 @@ export async function entryScreen(app, view, id = null, seed = null) {
     const band = bands.find((b) => b.record_id === record.meta.band_id)?.band || null;
     const base = bases.find((b) => b.record_id === record.meta.base_id)?.test || null;
     const [resp, table] = await Promise.all([
-      ask("evaluate", evaluateFields(record.test, { band, base, rules: record.meta.rules }), "entry"),
-      ask("gradation", { test: record.test }, "entry-table")]);
+      ask("evaluate", evaluateFields(coreTest, { band, base, rules: record.meta.rules }), "entry"),
+      ask("gradation", { test: coreTest }, "entry-table")]);
     if (resp.superseded) return;
-    if (!table.superseded) editor.showGradation(table.ok ? table.result : null);
+    if (!table.superseded) editor.showGradation(table.ok ? table.result : null, table.ok ? table.findings : []);
     last = resp;
     view.dataset.evaluated = String((Number(view.dataset.evaluated) || 0) + 1);
     const waiting = notYet(resp);

@@ -5,6 +5,7 @@ import { ask, evaluateRecord, evaluateRecords, errorText } from "./core.js";
 import { renderVerdict, verdictLine, VERDICT_WORDS } from "./verdict.js";
 import { renderChart } from "./chart.js";
 import { renderDvalues, bandName, baseName } from "./entry.js";
+import { reducedTable } from "./editor/sedimentation.js";
 import { listRecords, getRecord, notExported, softDelete, restore, cachedResults, storeResult, storeResults, blankRecord } from "../storage/records.js";
 
 /** Rows drawn at a time; more are drawn as the list is scrolled to its end. */
@@ -205,6 +206,26 @@ export function finesWords(rec) {
 }
 
 const TOTALS = { pan_g: "pan (g)", dry_mass_g: "dry mass before washing (g)", washed_dry_mass_g: "dry mass after washing (g)" };
+const SED_WORDS = { hydrometer: "hydrometer", specific_gravity: "specific gravity of solids Gs", dry_mass_g: "dry mass in suspension (g)",
+  split_mm: "split sieve (mm)", composite_correction: "composite correction", meniscus_correction: "meniscus correction",
+  correction_calibration: "correction calibration", depth_calibration: "effective depth calibration", readings: "readings",
+  time_min: "time (min)", reading: "reading", temperature_c: "temperature (°C)", depth_cm: "depth (cm)" };
+
+/** A field of the hydrometer sheet in words: "hydrometer reading 3 at 15 min: temperature (°C)". */
+function sedWords(rest, rec) {
+  if (!rest) return "hydrometer sheet";
+  let m = /^\.readings\[(\d+)\](\.([a-z_]+))?$/.exec(rest);
+  if (m) {
+    const t = rec.test?.sedimentation?.readings?.[Number(m[1])]?.time_min;
+    const head = `hydrometer reading ${Number(m[1]) + 1}${typeof t === "number" ? ` at ${fmt(t, 4)} min` : ""}`;
+    return m[3] ? `${head}: ${SED_WORDS[m[3]] || m[3].replaceAll("_", " ")}` : head;
+  }
+  if ((m = /^\.(correction_calibration|depth_calibration)\[(\d+)\](\.([a-z_]+))?$/.exec(rest))) {
+    return `hydrometer ${SED_WORDS[m[1]]}, row ${Number(m[2]) + 1}${m[4] ? `: ${SED_WORDS[m[4]] || m[4].replaceAll("_", " ")}` : ""}`;
+  }
+  if ((m = /^\.([a-z_]+)$/.exec(rest))) return `hydrometer ${SED_WORDS[m[1]] || m[1].replaceAll("_", " ")}`;
+  return null;
+}
 
 /**
  * A changed field in words, the stored path after it: "mass on 2.36 mm (g)"
@@ -220,6 +241,7 @@ export function fieldWords(path, rec) {
   if ((m = /^test\.(pan_g|dry_mass_g|washed_dry_mass_g)$/.exec(path))) return TOTALS[m[1]];
   if ((m = /^test\.plasticity(\.(nonplastic|liquid_limit|plasticity_index))?$/.exec(path))) return FINES_WORDS[m[2] || "plasticity"];
   if (path === "test.dispersive") return "dispersive";
+  if ((m = /^test\.sedimentation(.*)$/.exec(path))) return sedWords(m[1], rec);
   if ((m = /^meta\.([a-z_]+)$/.exec(path))) return m[1].replaceAll("_", " ");
   return null;
 }
@@ -245,6 +267,7 @@ export async function detailScreen(app, view, id) {
   const dvalBox = h("section", { class: "card" });
   const chartBox = h("section", { class: "card" });
   const resultChart = h("div", { class: "chart-box", role: "group", "aria-label": "Gradation chart" });
+  const sedBox = rec.test?.sedimentation ? h("section", { class: "card sed-detail", "aria-label": "Hydrometer sheet" }) : null;
   const status = h("p", { class: "hint", role: "status" });
   const editHref = rec.kind === "test" ? `#/entry/${rec.record_id}` : `#/${rec.kind}/${rec.record_id}`;
   const actions = h("div", { class: "actions" },
@@ -271,6 +294,7 @@ export async function detailScreen(app, view, id) {
     h("p", { class: "hint", text: `Revision ${rec.rev}, saved ${when(rec.updated_at)} by ${rec.updated_by || "unknown"}; ${notExported(rec) ? "not yet exported" : `exported ${when(rec.exported_at)}`}.` }),
     actions, status,
     rec.kind === "test" ? [verdictBox, dvalBox] : chartBox,
+    sedBox,
     rec.test ? h("section", { class: "card" }, h("h2", { text: "Fines" }), h("p", { class: "fines-line", text: finesWords(rec) })) : null,
     h("section", { class: "card" }, h("h2", { text: "Details" }), ...refs, metaList(rec.meta)),
     rec.kind === "band" ? h("section", { class: "card" }, h("h2", { text: "Band limits" }),
@@ -282,7 +306,7 @@ export async function detailScreen(app, view, id) {
     renderChart(chartBox, { band: rec.band }, app.settings.axis, "Band limits");
   } else if (rec.kind === "base") {
     const resp = await ask("gradation", { test: rec.test });
-    if (resp.ok) { renderChart(chartBox, { base: resp.result }, app.settings.axis, "Base soil curve"); }
+    if (resp.ok) { renderChart(chartBox, { base: resp.result }, app.settings.axis, "Base soil curve"); showSheet(resp); }
     else status.textContent = errorText(resp);
   } else {
     const resp = await evaluateRecord(rec, byId, app.settings);
@@ -293,5 +317,17 @@ export async function detailScreen(app, view, id) {
       renderChart(resultChart, { sample: resp.result.sample, base: resp.result.base, band, limits: resp.result.limits }, app.settings.axis);
       await storeResult(rec, resp.core_version, { verdict: resp.result.verdict });
     }
+    if (sedBox) showSheet(await ask("gradation", { test: rec.test }));
+  }
+
+  /** The hydrometer sheet as the core reduced it, with its warnings. */
+  function showSheet(resp) {
+    if (!sedBox) return;
+    const sed = resp.ok ? resp.result.sedimentation : null;
+    const warnings = (resp.findings || []).filter((f) => String(f.field || "").startsWith("test.sedimentation"));
+    fill(sedBox, h("h2", { text: "Hydrometer sheet" }),
+      sed ? h("p", { class: "hint", text: `${sed.hydrometer}, Gs ${sed.specific_gravity}, ${sed.dry_mass_g} g in suspension; split on ${fmt(sed.split_mm, 4)} mm, ${sed.passing_split_pct.toFixed(1)} % passing it.` }) : null,
+      sed ? reducedTable(sed, resp.result.points) : h("p", { class: "core-error", text: errorText(resp) }),
+      warnings.length ? h("ul", { class: "findings" }, warnings.map((f) => h("li", { text: f.message }))) : null);
   }
 }

@@ -122,26 +122,32 @@ export async function baseEditor(app, view, id = null) {
   form.append(h("h1", { text: stored ? `Edit base soil ${baseName(stored)}` : "New base soil" }),
     h("section", { class: "card" }, h("div", { class: "grid2" }, fields.map(([, f]) => f.wrap))),
     h("section", { class: "card" }, h("h2", { text: "Its gradation" }),
-      h("p", { class: "hint", text: "Percent passing from the laboratory report (hydrometer points included), or masses from a sieve test." }), testBox),
+      h("p", { class: "hint", text: "Percent passing from the laboratory report (hydrometer points included), or masses from a sieve test, with the hydrometer readings as read if the laboratory ran one." }), testBox),
     dBox, chartBox,
     h("div", { class: "actions" }, h("button", { type: "button", class: "btn primary", text: "Save base soil", onclick: save })), status);
-  const editor = gradationEditor(testBox, rec.test, { path: "test", presets, dispersive: true, onChange: () => preview() });
+  const editor = gradationEditor(testBox, rec.test, { path: "test", presets, dispersive: true, sedimentation: true, onChange: () => preview() });
 
   function read() {
     const meta = { ...rec.meta };
     for (const [k, f] of fields) { const v = f.input.value.trim(); if (v) meta[k] = v; else delete meta[k]; }
     const t = editor.read();
-    return { record: { ...rec, meta, test: t.test }, bad: t.localErrors };
+    return { record: { ...rec, meta, test: t.test }, bad: t.localErrors, core: t.core };
   }
+  let asked = 0; // previews asked; view[data-busy] is set until the last one is shown
   async function preview() {
-    const { record, bad } = read();
-    if (bad) return;
-    const resp = await ask("gradation", { test: record.test }, "base-editor");
+    const mine = ++asked;
+    view.dataset.busy = "1";
+    const done = () => { if (mine === asked) delete view.dataset.busy; };
+    const { bad, core } = read();
+    if (bad) { done(); return; }
+    const resp = await ask("gradation", { test: core }, "base-editor");
     if (resp.superseded) return;
+    done();
     const placed = showFieldError(form, resp.ok ? null : resp.error, editor);
     status.textContent = !resp.ok && !placed ? errorText(resp) : "";
+    if (!resp.ok) editor.showGradation(null);
     if (resp.ok) {
-      editor.showGradation(resp.result);
+      editor.showGradation(resp.result, resp.findings);
       renderDvalues(dBox, resp.result);
       renderChart(chartBox, { base: resp.result }, app.settings.axis, "Base soil curve");
     }

@@ -74,6 +74,9 @@ export function showFieldError(scope, error, ...editors) {
   target.setAttribute("aria-invalid", "true");
   target.dataset.coreInvalid = "1";
   const msg = h("p", { class: "field-error core-field-error", role: "status", text: plainWords(error.message, scope, toScreen) });
-  (target.type === "checkbox" || target.type === "radio" ? target.closest(".check-row, fieldset") || target : target).insertAdjacentElement("afterend", msg);
+  // A row whose cells are narrow (the hydrometer readings) has a full-width line below it for messages.
+  const below = target.closest("tr[data-errors-below]")?.nextElementSibling?.querySelector("td");
+  if (below) below.prepend(msg);
+  else (target.type === "checkbox" || target.type === "radio" ? target.closest(".check-row, fieldset") || target : target).insertAdjacentElement("afterend", msg);
   return true;
 }

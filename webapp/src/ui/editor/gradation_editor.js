@@ -15,6 +15,7 @@ import { loadMasses, readMasses, renderMasses } from "./masses.js";
 import { loadPassing, readPassingRows, renderPassing } from "./passing.js";
 import { D_NAMES, loadDvalues, readDvalues, renderDvalues } from "./dvalues.js";
 import { loadFines, readFines, renderFines } from "./fines.js";
+import { loadSed, readSed, renderSed, sedScreenField, showSed } from "./sedimentation.js";
 
 export { D_NAMES } from "./dvalues.js";
 export { enterMovesOn, showFieldError } from "./fields.js";
@@ -31,8 +32,9 @@ const FORM_KEYS = ["sieves", "passing", "d_mm", "pan_g", "dry_mass_g", "washed_d
  * opts.forms: the forms offered, of "masses", "passing", "dvalues" (a choice is shown when more than one).
  * opts.dNames: the D-values offered in the D-value form.
  * opts.dispersive: also ask whether the soil is dispersive (a base soil).
+ * opts.sedimentation: also offer the hydrometer sheet (the test's `sedimentation` key).
  */
-export function gradationEditor(box, test, { path = "sample", onChange = () => {}, presets = [], forms = ["masses", "passing", "dvalues"], dNames = D_NAMES, dispersive = false } = {}) {
+export function gradationEditor(box, test, { path = "sample", onChange = () => {}, presets = [], forms = ["masses", "passing", "dvalues"], dNames = D_NAMES, dispersive = false, sedimentation = false } = {}) {
   const state = {
     form: forms[0],
     rows: [], // masses: {opening_mm, text}; passing and D-value forms: {openText, pctText}
@@ -40,7 +42,9 @@ export function gradationEditor(box, test, { path = "sample", onChange = () => {
     pan: "", dry: "", washed: "",
     extra: {}, // keys no form shows, kept as they were
     fines: loadFines(null),
+    sed: loadSed(null),
   };
+  const formKeys = sedimentation ? [...FORM_KEYS, "sedimentation"] : FORM_KEYS;
   const labels = new Map();
   for (const s of [...(presets.labelsOnly || []), ...presets.flatMap((p) => p.sieves || [])]) {
     if (s.label) labels.set(Number(s.opening_mm).toPrecision(12), s.label);
@@ -48,7 +52,8 @@ export function gradationEditor(box, test, { path = "sample", onChange = () => {
   const root = h("div", { class: "test-editor" });
   const formBox = h("div");
   const finesBox = h("div");
-  root.append(formBox, finesBox);
+  const sedBox = h("div");
+  root.append(formBox, finesBox, sedBox);
   box.append(root);
   const labelOf = (mm) => {
     const name = labels.get(Number(mm).toPrecision(12));
@@ -76,7 +81,8 @@ export function gradationEditor(box, test, { path = "sample", onChange = () => {
   function load(t) {
     state.extra = {};
     state.fines = loadFines(t);
-    for (const [k, v] of Object.entries(t || {})) if (!FORM_KEYS.includes(k)) state.extra[k] = v;
+    if (sedimentation) state.sed = loadSed(t);
+    for (const [k, v] of Object.entries(t || {})) if (!formKeys.includes(k)) state.extra[k] = v;
     loadDvalues(state, t);
     if (t && (t.passing || t.d_mm)) {
       state.form = t.d_mm ? "dvalues" : "passing";
@@ -111,9 +117,14 @@ export function gradationEditor(box, test, { path = "sample", onChange = () => {
   }
   render();
   fill(finesBox, renderFines(ed, { dispersive }));
+  if (sedimentation) fill(sedBox, renderSed(ed));
 
   return {
-    /** {test, localErrors}: the test as the core takes it, and how many fields failed to parse. */
+    /**
+     * {test, localErrors, core}: the test as typed (stored and kept in drafts), how many fields failed to
+     * parse or are incomplete, and the test to send to the core (without a hydrometer sheet that has no
+     * complete reading yet).
+     */
     read() {
       let bad = 0;
       const num = (t) => { const p = parseDecimal(t); if (!p.ok) bad += 1; return p.ok ? p.value : null; };
@@ -122,20 +133,36 @@ export function gradationEditor(box, test, { path = "sample", onChange = () => {
       if (state.form === "masses") ({ test: part, sent } = readMasses(state, num));
       else if (state.form === "dvalues") ({ test: part, sent } = readDvalues(state, num, missing));
       else { const r = readPassingRows(state, num, missing); part = { passing: r.passing }; sent = r.sent; }
-      return { test: { ...state.extra, ...part, ...readFines(state.fines, num) }, localErrors: bad };
+      const test = { ...state.extra, ...part, ...readFines(state.fines, num) };
+      let core = test;
+      if (sedimentation) {
+        const { sed, ready } = readSed(state.sed, num, missing);
+        if (sed) test.sedimentation = sed;
+        core = ready ? test : { ...test };
+        if (!ready) delete core.sedimentation;
+      }
+      return { test, localErrors: bad, core };
     },
-    load(t) { load(t); render(); fill(finesBox, renderFines(ed, { dispersive })); },
+    load(t) {
+      load(t); render(); fill(finesBox, renderFines(ed, { dispersive }));
+      if (sedimentation) fill(sedBox, renderSed(ed));
+    },
     /** The field on screen of a field path of the request (rows left out shift the indices). */
     screenField(field) {
+      if (sedimentation && String(field || "").startsWith(`${path}.sedimentation.`)) return sedScreenField(state.sed, path, field);
       const m = new RegExp(`^${path.replace(".", "\\.")}\\.(sieves|passing)\\[(\\d+)\\](.*)$`).exec(field || "");
       if (!m || sent[Number(m[2])] === undefined) return field;
       return `${path}.${m[1]}[${sent[Number(m[2])]}]${m[3]}`;
     },
     /** Offer more sieve stacks first in the choice (the band's sieves); re-renders the form. */
     offerStacks(stacks) { ed.extraStacks = stacks; if (state.form === "masses") render(); },
-    /** Show the core's per-sieve figures (a `gradation` result with its `table`, or a gradation's points). */
-    showGradation(g) {
+    /**
+     * Show the core's per-sieve figures (a `gradation` result with its `table`, or a gradation's points),
+     * and on the hydrometer sheet its reduced table and the `findings` that concern it.
+     */
+    showGradation(g, findings = []) {
       ed.gradation = g;
+      if (sedimentation) showSed(state.sed, path, g, findings, root.closest("form, .screen") || root);
       for (const tr of root.querySelectorAll("tr[data-opening]")) {
         const p = rowFor(g, Number(tr.dataset.opening));
         const cum = p ? p.cum_retained_pct ?? null : null;
