@@ -217,7 +217,7 @@ function sedWords(rest, rec) {
   let m = /^\.readings\[(\d+)\](\.([a-z_]+))?$/.exec(rest);
   if (m) {
     const t = rec.test?.sedimentation?.readings?.[Number(m[1])]?.time_min;
-    const head = `hydrometer reading ${Number(m[1]) + 1}${typeof t === "number" ? ` at ${fmt(t, 4)} min` : ""}`;
+    const head = `hydrometer reading ${Number(m[1]) + 1}${typeof t === "number" ? ` at ${t} min` : ""}`;
     return m[3] ? `${head}: ${SED_WORDS[m[3]] || m[3].replaceAll("_", " ")}` : head;
   }
   if ((m = /^\.(correction_calibration|depth_calibration)\[(\d+)\](\.([a-z_]+))?$/.exec(rest))) {
@@ -328,6 +328,7 @@ export async function detailScreen(app, view, id) {
     fill(sedBox, h("h2", { text: "Hydrometer sheet" }),
       sed ? h("p", { class: "hint", text: `${sed.hydrometer}, Gs ${sed.specific_gravity}, ${sed.dry_mass_g} g in suspension; split on ${fmt(sed.split_mm, 4)} mm, ${sed.passing_split_pct.toFixed(1)} % passing it.` }) : null,
       sed ? reducedTable(sed, resp.result.points) : h("p", { class: "core-error", text: errorText(resp) }),
-      warnings.length ? h("ul", { class: "findings" }, warnings.map((f) => h("li", { text: f.message }))) : null);
+      warnings.length ? h("ul", { class: "findings sed-findings" }, warnings.map((f) => h("li", {
+        text: `${f.level === "warning" ? "Warning: " : ""}${String(f.message).replace(/\btest\.sedimentation[\w.[\]]*/g, (p) => fieldWords(p, rec) || p)}` }))) : null);
   }
 }

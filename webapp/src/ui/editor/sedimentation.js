@@ -301,7 +301,9 @@ export function showSed(s, path, result, findings, scope) {
       : `The percent passing ${s.split === "2" ? "2 mm" : "0.075 mm"} is read from the sieves; that sieve must be in the gradation above.`;
   }
   if (!sed) {
-    fill(s.reducedBox, h("p", { class: "muted", text: "The reduced sheet appears once a reading (time, reading, temperature) is complete." }));
+    fill(s.reducedBox, h("p", { class: "muted sed-waiting", text: result === null && s.sent.length
+      ? "No reduced sheet while the calculator refuses an entry: see the message in red."
+      : "The reduced sheet appears once a reading (time, reading, temperature) is complete." }));
     return;
   }
   fill(s.reducedBox, reducedTable(sed, result?.points || []));
