@@ -66,7 +66,9 @@ def shown_3(v: float) -> str:
 
 
 @pytest.fixture
-def phone(browser, site):
+def phone(request, browser, site):
+    """A 360 x 780 phone with the tester's name set, in the theme given by parametrize (standard by default)."""
+    theme = getattr(request, "param", "standard")
     context = browser.new_context(viewport=PHONE, accept_downloads=True)
     guard = helpers.RequestGuard(context, site.origin)
     page = context.new_page()
@@ -77,6 +79,8 @@ def phone(browser, site):
     page.wait_for_selector("body[data-core-ready]")
     wait_screen(page)
     page.get_by_label("Your name or initials (recorded with each save)").fill("LT")
+    page.get_by_label("Theme").select_option(theme)
+    page.wait_for_function("(t) => document.documentElement.dataset.theme === t", arg=theme)
     yield page
     context.close()
     guard.assert_clean()
@@ -130,6 +134,7 @@ def enter_clay_core(page) -> None:
     settle(page)
 
 
+@pytest.mark.parametrize("phone", ["standard", "sunlight"], indirect=True)
 def test_clay_core_hydrometer_sheet_typed_as_read(phone, site, browser, tmp_path):
     page = phone
     enter_clay_core(page)
@@ -198,6 +203,11 @@ def test_clay_core_hydrometer_sheet_typed_as_read(phone, site, browser, tmp_path
     assert scroll_width(page) <= PHONE["width"]
     sheet_box = page.locator(".sed-reduced").bounding_box()
     assert sheet_box["x"] >= 0 and sheet_box["x"] + sheet_box["width"] <= PHONE["width"]
+    # Every control of the sheet is a thumb-sized target (a radio with its label), and axe-core finds nothing to report.
+    small = page.eval_on_selector_all(".sed-box input:not([type='radio']), .sed-box button, .sed-box .radio", "ns => ns.filter(n => n.getClientRects().length)"
+                                      ".map(n => n.getBoundingClientRect()).filter(r => r.width < 44 || r.height < 44).length")
+    assert small == 0
+    assert helpers.axe_violations(helpers.run_axe(page, ".sed-box")) == []
 
     page.get_by_role("button", name="Save base soil").click()
     page.wait_for_selector("#view[data-screen='record']")
@@ -340,4 +350,22 @@ def test_filter_check_against_the_sheet_equals_the_core_typed_as_percent_finer(p
     assert a["limits"]["d85b_mm"] == b["limits"]["d85b_mm"] is not None
     assert a["limits"] == b["limits"]
     assert a["verdict"] == b["verdict"]
+
+    # The test screen offers the same sheet for the sample; opened and left empty, it is no input.
+    page.locator("form.entry").get_by_role("button", name="Add hydrometer readings").click()
+    settle(page)
+    assert page.locator("input[data-field='sample.sedimentation.specific_gravity']").count() == 1
+    assert shown_errors(page) == []
+    assert page.get_attribute(".verdict-card .verdict", "data-verdict") == b["verdict"]
+    assert scroll_width(page) <= PHONE["width"]
+    # A figure typed on it before any reading is kept through a reload (the draft), and is still no error.
+    page.fill("input[data-field='sample.sedimentation.specific_gravity']", "2,66")
+    settle(page)
+    page.reload()
+    page.wait_for_selector("body[data-core-ready]")
+    wait_screen(page)
+    settle(page)
+    assert page.input_value("input[data-field='sample.sedimentation.specific_gravity']") == "2.66"
+    assert shown_errors(page) == []
+    assert page.get_attribute(".verdict-card .verdict", "data-verdict") == b["verdict"]
     assert page.console_errors == []

@@ -205,7 +205,9 @@ export function readSed(s, num, missing) {
     s.sent = (s.given?.readings || []).map((_, i) => i);
     s.calSent = (s.given?.correction_calibration || []).map((_, i) => i);
     s.depthSent = (s.given?.depth_calibration || []).map((_, i) => i);
-    return { sed: s.given ?? null, ready: s.given !== undefined && s.given !== null };
+    // As loaded (a stored record, a draft): the same rule as when typed, no reading yet is not sent.
+    const some = Array.isArray(s.given?.readings) && s.given.readings.length > 0;
+    return { sed: s.given ?? null, ready: s.given !== undefined && s.given !== null && (some || !Array.isArray(s.given?.readings)) };
   }
   const out = { ...s.extra, hydrometer: s.hydrometer };
   const put = (key, text) => { const v = num(text); if (v !== null) out[key] = v; };
