@@ -89,6 +89,9 @@ def add_arguments(name: str, parser) -> None:
         parser.add_argument("--conflicts", metavar="FILE",
                             help="write the conflicting versions, in full, to this JSON file")
         parser.add_argument("--bom", action="store_true", help="start the output with a UTF-8 byte order mark")
+        parser.add_argument("--decimal-comma", action="store_true",
+                            help="write the variant for spreadsheets that use the decimal comma: semicolons "
+                                 "between cells, numbers as 12,4 (it reads back as the same records)")
         parser.add_argument("--no-calc", action="store_true",
                             help="leave the calc_* columns blank (faster for very large merges; "
                                  "report recomputes them anyway)")
@@ -224,7 +227,7 @@ def _merge(args) -> int:
         gc.freeze()  # the records live to the end of the command: the collector need never walk them again
     # ops.export_csv(merged), with the progress of the calc columns shown
     calc = None if args.no_calc else calc_cells(merged, args.jobs, Progress("calc columns", "records"))
-    text = write_csv(merged, calc, bom=args.bom)
+    text = write_csv(merged, calc, bom=args.bom, dialect="decimal_comma" if args.decimal_comma else "standard")
     if args.output == "-":
         sys.stdout.buffer.write(text.encode("utf-8"))
         sys.stdout.buffer.flush()
