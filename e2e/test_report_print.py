@@ -1,0 +1,158 @@
+"""The report of a test as an inspector hands it over: opened from the test's screen, printed
+to PDF by headless chromium (``page.pdf``, A4 and US letter), and read back with ``pdftotext``
+(poppler-utils, Debian): the sieve table, the verdict, every failing check and the caution are
+on the page, and the report fits one page.
+
+The document the app shows is the core's (op ``report_html``): it is compared byte for byte
+with what CPython writes for the same records (``python -m tamis report --html`` runs the same
+function), so the office and the phone print the same report.
+"""
+
+from __future__ import annotations
+
+import re
+import shutil
+import subprocess
+
+import pytest
+
+from tamis import demo
+from tamis.exchange import record, report_html, wording
+from tamis.lab.sieves import label_for
+
+RECORDS = demo.load_records()
+IDS = {r["meta"]["sample_id"]: r["record_id"] for r in RECORDS}
+PDFTOTEXT = shutil.which("pdftotext")
+PDFINFO = shutil.which("pdfinfo")
+needs_poppler = pytest.mark.skipif(PDFTOTEXT is None or PDFINFO is None,
+                                   reason="pdftotext/pdfinfo (poppler-utils) not installed; scripts/system-deps.sh "
+                                          "installs them")
+
+
+def open_demo(page, site) -> None:
+    page.goto(site.url + "index.html")
+    page.wait_for_selector("body[data-core-ready]")
+    page.wait_for_selector("#view[data-screen='welcome']")
+    page.get_by_role("button", name="Open the demo project").click()
+    page.get_by_text("Imported the demo project").first.wait_for()
+
+
+def open_report_from_test(page, sample_id: str) -> str:
+    """From the test's screen, tap Report; the document the frame shows."""
+    page.evaluate("(r) => { location.hash = r; }", f"#/record/{IDS[sample_id]}")
+    page.wait_for_selector("#view[data-screen='record'] .verdict-card .verdict")
+    page.get_by_role("link", name="Report", exact=True).click()
+    page.wait_for_selector("#view[data-screen='report'][data-report='ready']")
+    return page.get_attribute("#view iframe.report-frame", "srcdoc")
+
+
+def cpython_report(sample_id: str, paper: str = "auto") -> str:
+    recs = [record.check_record(r) for r in RECORDS]
+    one = next(r for r in recs if r["meta"].get("sample_id") == sample_id)
+    ctx = [r for r in recs if r["record_id"] in (one["meta"].get("band_id"), one["meta"].get("base_id"))]
+    return report_html.build([one], ctx, ids=[one["record_id"]], paper=paper)["html"]
+
+
+def pdf_of(browser, html: str, fmt: str, path) -> tuple[int, str, str]:
+    """Print ``html`` to PDF in chromium at paper ``fmt``; (pages, text by ``pdftotext -layout``, which keeps
+    each table row on its line, and by ``pdftotext -raw``, which keeps a wrapped cell's words in order)."""
+    ctx = browser.new_context()
+    try:
+        pg = ctx.new_page()
+        pg.set_content(html, wait_until="load")
+        pg.pdf(path=str(path), format=fmt, print_background=True)  # the print style sheet and @page apply
+    finally:
+        ctx.close()
+    info = subprocess.run([PDFINFO, str(path)], capture_output=True, text=True, check=True).stdout
+    pages = int(re.search(r"^Pages:\s+(\d+)", info, re.M).group(1))
+    text = subprocess.run([PDFTOTEXT, "-layout", str(path), "-"], capture_output=True, text=True, check=True).stdout
+    raw = subprocess.run([PDFTOTEXT, "-raw", str(path), "-"], capture_output=True, text=True, check=True).stdout
+    return pages, text, raw
+
+
+def flat(text: str) -> str:
+    return re.sub(r"\s+", " ", text)
+
+
+@needs_poppler
+@pytest.mark.parametrize("sample_id", ["Q-L11-CP", "D-0922-1"])
+def test_the_report_of_a_demo_test_prints_on_one_page_with_what_decides_it(page, site, browser, tmp_path,
+                                                                          sample_id):
+    open_demo(page, site)
+    html = open_report_from_test(page, sample_id)
+    assert html == cpython_report(sample_id)  # one source: the phone shows the office's report
+    rec = next(r for r in RECORDS if r["meta"]["sample_id"] == sample_id)
+    by_id = {r["record_id"]: r for r in RECORDS}
+    ev = demo.call(demo.evaluate_request(rec, by_id))["result"]
+    failing = [c for c in ev["checks"] if c["status"] == "fail" and not c["advisory"]]
+    assert failing and ev["verdict"] == "reject"
+    for fmt in ("A4", "Letter"):
+        pages, text, raw = pdf_of(browser, html, fmt, tmp_path / f"{sample_id}-{fmt}.pdf")
+        assert pages == 1, (fmt, pages)
+        t = flat(raw)
+        assert f"Sample {sample_id}" in t
+        assert "Sieve analysis" in t and "Passing %" in t and "Band %" in t
+        # each sieve of the stack on its own line of the table: label, opening, mass retained
+        for s in rec["test"]["sieves"]:
+            label = label_for(s["opening_mm"])
+            assert re.search(rf"{re.escape(label)}\s+{re.escape(wording.num(s['opening_mm'], 4))}\s+"
+                             rf"{re.escape(wording.num(s['retained_g'], 6))}\s", text), (fmt, label)
+        assert "Verdict: Fails a check (reject)" in t
+        for c in failing:
+            assert wording.title(c["id"]) in t, (fmt, c["id"])
+            assert wording.reason_line(c) in t, (fmt, c["id"])
+        assert "Screening check only. The project specification, local codes and the engineer of record govern" in t
+        assert t.count("Signature:") == 3
+
+
+def test_print_save_and_share_from_the_report_screen(page, site):
+    page.add_init_script("""
+        window.__shared = [];
+        navigator.canShare = (d) => Boolean(d && d.files);
+        navigator.share = async (d) => { window.__shared.push({title: d.title, files: (d.files || []).map((f) => [f.name, f.type, f.size])}); };
+    """)
+    open_demo(page, site)
+    html = open_report_from_test(page, "Q-L11-CP")
+    # Print: the browser's print of the report frame (the dialog is the device's; here it is counted).
+    page.evaluate("() => { const w = document.querySelector('iframe.report-frame').contentWindow;"
+                  " window.__printed = 0; w.print = () => { window.__printed += 1; }; }")
+    page.get_by_role("button", name="Print or save as PDF").click()
+    assert page.evaluate("() => window.__printed") == 1
+    page.get_by_role("button", name="Share").click()
+    page.wait_for_function("() => window.__shared.length === 1")
+    shared = page.evaluate("() => window.__shared[0]")
+    assert shared["title"] == "Test report Q-L11-CP"
+    assert shared["files"] == [["Test-report-Q-L11-CP.html", "text/html", len(html.encode("utf-8"))]]
+    with page.expect_download() as dl:
+        page.get_by_role("button", name="Save as a file").click()
+    assert dl.value.suggested_filename == "Test-report-Q-L11-CP.html"
+    # The inspector prints on US letter: the choice is kept over a reload, and the page size follows.
+    page.get_by_label("Paper").select_option("letter")
+    page.wait_for_selector("#view[data-report='ready']")
+    assert "@page{size:letter;" in page.get_attribute("#view iframe.report-frame", "srcdoc")
+    page.reload()
+    page.wait_for_selector("#view[data-screen='report'][data-report='ready']")
+    assert page.locator("#report-paper").input_value() == "letter"
+    assert page.get_attribute("#view iframe.report-frame", "srcdoc") == cpython_report("Q-L11-CP", "letter")
+
+
+def test_lot_and_daily_reports_from_a_test(page, site):
+    open_demo(page, site)
+    page.evaluate("(r) => { location.hash = r; }", f"#/record/{IDS['Q-L11-CP']}")
+    page.wait_for_selector("#view[data-screen='record'] .verdict-card .verdict")
+    page.get_by_role("link", name="Lot report (L11)").click()
+    page.wait_for_selector("#view[data-screen='report'][data-report='ready']")
+    frame = page.frame_locator("iframe.report-frame")
+    body = frame.locator("body").inner_text()
+    assert "Lot report: L11" in body
+    for sid in ("Q-L11-SP", "Q-L11-DL", "Q-L11-CP"):
+        assert sid in body
+    assert "3: 2 accept, 1 reject, 0 review, 0 without verdict" in flat(body)
+    assert "Band: No. 200 passing 5.7 % > 5 %; Fines 5.7 % > 5 %" in flat(body)
+    page.go_back()
+    page.wait_for_selector("#view[data-screen='record'] .verdict-card .verdict")
+    page.get_by_role("link", name="Daily report (2026-09-29)").click()
+    page.wait_for_selector("#view[data-screen='report'][data-report='ready']")
+    body = flat(page.frame_locator("iframe.report-frame").locator("body").inner_text())
+    assert "Daily report: 2026-09-29" in body and "Q-L11-DL" in body and "Q-L11-CP" in body
+    assert "Q-L11-SP" not in body  # sampled the day before
