@@ -111,8 +111,15 @@ def test_print_save_and_share_from_the_report_screen(page, site):
         navigator.canShare = (d) => Boolean(d && d.files);
         navigator.share = async (d) => { window.__shared.push({title: d.title, files: (d.files || []).map((f) => [f.name, f.type, f.size])}); };
     """)
+    violations = []
+    page.on("console", lambda m: violations.append(m.text) if "Content Security Policy" in m.text else None)
     open_demo(page, site)
     html = open_report_from_test(page, "Q-L11-CP")
+    # The report keeps its own style sheet inside the app's frame (its style blocks are allowed by hash).
+    frame = page.frame_locator("iframe.report-frame")
+    assert frame.locator("h1").evaluate("(e) => getComputedStyle(e).fontSize") == "17.3333px"  # 13 pt
+    assert frame.locator("p.stamp").evaluate("(e) => getComputedStyle(e).borderTopStyle") == "solid"
+    assert violations == []
     # Print: the browser's print of the report frame (the dialog is the device's; here it is counted).
     page.evaluate("() => { const w = document.querySelector('iframe.report-frame').contentWindow;"
                   " window.__printed = 0; w.print = () => { window.__printed += 1; }; }")

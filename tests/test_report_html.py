@@ -198,3 +198,25 @@ def test_every_demo_verdict_and_reason_is_the_csvs(sid):
     assert f"({s['verdict']})" in text
     for line in s["reasons"]:
         assert line in text
+
+
+def test_the_apps_policy_allows_the_reports_style_blocks_and_no_other():
+    """The report frame inherits the app's Content-Security-Policy (CSP Level 3, policy inheritance of
+    srcdoc documents): its style blocks are allowed by their hashes, listed in index.html and serve.py.
+    After a change of the report's style sheet, print the new list with
+    ``python -c "from tamis.exchange.report_html import style_hashes; print(' '.join(style_hashes()))"``."""
+    want = set(R.style_hashes())
+    assert len(want) == 4
+    html = R.build(demo_records(), ids=["Q-L11-CP"])["html"]
+    import base64
+    import hashlib
+    blocks = re.findall(r"<style>(.*?)</style>", html, re.S)
+    assert len(blocks) == 2
+    for b in blocks:
+        assert f"'sha256-{base64.b64encode(hashlib.sha256(b.encode()).digest()).decode()}'" in want
+    assert "style=" not in html  # no style attribute: the policy allows none
+    for path in ("webapp/index.html", "scripts/serve.py"):
+        src = (ROOT / path).read_text(encoding="utf-8")
+        m = re.search(r"style-src 'self' ([^;\"]*)", src)
+        assert m, path
+        assert set(m.group(1).split()) == want, path

@@ -167,7 +167,7 @@ def chart_svg(data: dict) -> str:
             out.append(f'<line class="{cls}" x1="{x(v):.1f}" y1="{_PAD_T}" x2="{x(v):.1f}" y2="{_PAD_T + ih}"/>')
             if m == 1:
                 out.append(f'<text class="tx" x="{x(v):.1f}" y="{_PAD_T + ih + 10}" text-anchor="middle">'
-                           f'{_e(num(v, 3))}</text>')
+                           f'{_e(fmt_num(v))}</text>')
     for p in range(0, 101, 10):
         out.append(f'<line class="{"g1" if p % 50 == 0 else "g2"}" x1="{_PAD_L}" y1="{y(p):.1f}" '
                    f'x2="{_PAD_L + iw}" y2="{y(p):.1f}"/>')
@@ -389,7 +389,7 @@ def checks_table(data: dict) -> str:
             items.append(f"<b>{_e(title(c['id']))}</b> {STATUS_SYMBOLS.get(c['status'], '')} "
                          f"{_e(STATUS_WORDS.get(c['status'], c['status']))}{': ' + _e(fig) if fig else ''} "
                          f"<span class=\"src\">{source_cell(c.get('source'))}</span>")
-        items += [_e(f["message"]) for f in data["findings"]
+        items += [_e(f["message"].rstrip(".")) for f in data["findings"]
                   if f.get("level") == "warning" and ADVISORY_WARNING.match(f.get("code") or "")]
         out.append('<p class="small adv"><b>Advisory indicators, reported and not counted in the verdict:</b> '
                    + "; ".join(items) + ".</p>")
@@ -639,12 +639,28 @@ def document(pages: list[str], doc_title: str, paper: str = "auto") -> str:
     ``auto``, the printer's; 12 mm margins, which leave room on both papers)."""
     if paper not in PAPERS:
         raise InputError("unknown_choice", f"paper must be one of {', '.join(PAPERS)}, got {paper!r}.", "paper")
-    size = PAPERS[paper]
-    page_rule = f"@page{{{'size:' + size + ';' if size else ''}margin:10mm 11mm}}"
     return ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
             "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
-            f"<title>{_e(doc_title)}</title><style>{page_rule}{STYLE}</style></head><body>"
+            f"<title>{_e(doc_title)}</title><style>{page_rule(paper)}</style><style>{STYLE}</style></head><body>"
             + "".join(pages) + "</body></html>\n")
+
+
+def page_rule(paper: str) -> str:
+    """The ``@page`` rule of a paper choice."""
+    size = PAPERS[paper]
+    return f"@page{{{'size:' + size + ';' if size else ''}margin:10mm 11mm}}"
+
+
+def style_hashes() -> list[str]:
+    """The CSP sources (``'sha256-...'``, base64 of the SHA-256 of the text, CSP Level 2 section 4.2.5) of
+    every style block a report can hold: the app's Content-Security-Policy (webapp/index.html,
+    scripts/serve.py) allows exactly these, so the report keeps its look inside the app's frame,
+    which inherits the app's policy, while no other inline style is allowed."""
+    import base64
+    import hashlib
+    texts = [STYLE] + [page_rule(p) for p in PAPERS]
+    return [f"'sha256-{base64.b64encode(hashlib.sha256(t.encode('utf-8')).digest()).decode('ascii')}'"
+            for t in texts]
 
 
 def build(records: list[dict], context=(), *, kind: str = "test", ids=(), lot=None, day=None,
