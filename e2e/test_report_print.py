@@ -163,3 +163,19 @@ def test_lot_and_daily_reports_from_a_test(page, site):
     body = flat(page.frame_locator("iframe.report-frame").locator("body").inner_text())
     assert "Daily report: 2026-09-29" in body and "Q-L11-DL" in body and "Q-L11-CP" in body
     assert "Q-L11-SP" not in body  # sampled the day before
+
+
+def test_the_report_screen_and_the_report_itself_have_no_axe_violations(page, site, browser):
+    from helpers import axe_violations, run_axe
+    page.set_viewport_size({"width": 360, "height": 780})
+    open_demo(page, site)
+    html = open_report_from_test(page, "S-0918-T")
+    assert axe_violations(run_axe(page)) == []
+    # The document alone, as the office opens it or a colleague receives it (axe-core default rules).
+    ctx = browser.new_context()
+    try:
+        pg = ctx.new_page()
+        pg.set_content(html, wait_until="load")
+        assert axe_violations(run_axe(pg)) == []
+    finally:
+        ctx.close()

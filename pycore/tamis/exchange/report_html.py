@@ -253,7 +253,7 @@ def sieve_table(data: dict) -> str:
     by_op = {float(r["opening_mm"]): r for r in rows}
     head = ["Sieve", "mm"] + (["Retained g", "Cum. g", "Cum. %"] if masses else []) + ["Passing %"]
     if limits:
-        head += ["Band %", ""]
+        head += ["Band %", "Result"]
     out = ['<table class="sieves"><caption>Sieve analysis</caption><thead><tr>'
            + "".join(f'<th scope="col">{_e(h)}</th>' for h in head) + "</tr></thead><tbody>"]
     cum = 0.0
@@ -641,8 +641,8 @@ def document(pages: list[str], doc_title: str, paper: str = "auto") -> str:
         raise InputError("unknown_choice", f"paper must be one of {', '.join(PAPERS)}, got {paper!r}.", "paper")
     return ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
             "<meta name=\"viewport\" content=\"width=device-width, initial-scale=1\">"
-            f"<title>{_e(doc_title)}</title><style>{page_rule(paper)}</style><style>{STYLE}</style></head><body>"
-            + "".join(pages) + "</body></html>\n")
+            f"<title>{_e(doc_title)}</title><style>{page_rule(paper)}</style><style>{STYLE}</style></head><body><main>"
+            + "".join(pages) + "</main></body></html>\n")
 
 
 def page_rule(paper: str) -> str:
