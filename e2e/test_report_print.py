@@ -179,3 +179,23 @@ def test_the_report_screen_and_the_report_itself_have_no_axe_violations(page, si
         assert axe_violations(run_axe(pg)) == []
     finally:
         ctx.close()
+
+
+@needs_poppler
+def test_a_heavy_report_still_fits_one_page(browser, tmp_path):
+    """The heaviest demo test with every internal-stability method on (six advisory indicators and their
+    warnings) and a long note: printed smaller (report_html.fit_class), still one page, still legible text."""
+    import copy
+    recs = [record.check_record(r) for r in RECORDS]
+    heavy = copy.deepcopy(next(r for r in recs if r["meta"]["sample_id"] == "D-0922-1"))
+    heavy["meta"]["rules"] = dict(heavy["meta"].get("rules") or {}, stability=True)
+    heavy["meta"]["notes"] = "Sampled at the edge of the spread lift; coarse and fine pockets visible. " * 6
+    others = [r for r in recs if r["record_id"] != heavy["record_id"]]
+    html = report_html.build(others + [heavy], ids=[heavy["record_id"]])["html"]
+    assert 'class="page fit' in html
+    for fmt in ("A4", "Letter"):
+        pages, _, raw = pdf_of(browser, html, fmt, tmp_path / f"heavy-{fmt}.pdf")
+        t = flat(raw)
+        assert pages == 1, (fmt, pages)
+        assert "Verdict: Fails a check (reject)" in t and "Internal stability: Kezdi split test" in t
+        assert "Screening check only." in t and t.count("Signature:") == 3

@@ -453,11 +453,29 @@ def test_page(data: dict) -> str:
         body = f'<section class="verdict v-none"><p class="vword">No report</p><p>{_e(data["note"])}</p></section>'
         return (f'<article class="page"><header class="rh"><div><h1>Gradation test report</h1></div>{stamp}'
                 f'</header>{kv}{note}{body}{caution()}{signatures(meta.get("tested_by"))}{_foot(rec)}</article>')
-    return (f'<article class="page"><header class="rh"><div><h1>Gradation test report</h1>'
+    checks, verdict = checks_table(data), verdict_block(data)
+    fit = fit_class(len(_TAG.sub("", checks)), len(_TAG.sub("", verdict)), len(str(meta.get("notes") or "")),
+                    len((data["gradation"] or {}).get("table") or []))
+    return (f'<article class="page{fit}"><header class="rh"><div><h1>Gradation test report</h1>'
             f'<p class="sub">{_e(meta.get("project") or "")}</p></div>{stamp}</header>{kv}{note}'
             f'<div class="two"><div>{sieve_table(data)}</div><div>{chart_svg(data)}{figures_table(data)}</div></div>'
-            f'{checks_table(data)}{verdict_block(data)}{caution()}{signatures(meta.get("tested_by"))}{_foot(rec)}'
+            f'{checks}{verdict}{caution()}{signatures(meta.get("tested_by"))}{_foot(rec)}'
             f"</article>")
+
+
+_TAG = re.compile(r"<[^>]+>")
+#: (the most a page holds at this scale, its class): a page's content, weighed by :func:`fit_class`,
+#: is printed smaller when it would not fit one page at full size (CSS ``zoom``, the width compensated).
+#: Calibrated on the demo tests (every one fits at full size, the heaviest, D-0922-1, weighs about 4,700)
+#: and on the same tests with the internal-stability methods on and a 440-character note (about 8,000):
+#: each fits one A4 and one US-letter page (e2e/test_report_print.py prints them).
+FIT_STEPS = ((5000, ""), (5800, " fit1"), (6800, " fit2"), (8200, " fit3"), (math.inf, " fit4"))
+
+
+def fit_class(checks_chars: int, verdict_chars: int, note_chars: int, sieve_rows: int) -> str:
+    """The scale class of a test page from the length of its texts and the rows of its sieve table."""
+    weight = checks_chars + 3 * verdict_chars + 1.5 * note_chars + 120 * max(sieve_rows, 8)
+    return next(cls for most, cls in FIT_STEPS if weight <= most)
 
 
 def index_label(data: dict, record_id):
@@ -624,6 +642,7 @@ tr.st-reject .res{color:var(--fail);font-weight:700}tr.st-accept .res{color:var(
   html,body{background:#fff}
   .page{margin:0;width:auto;box-shadow:none;padding:0;break-after:page;page-break-after:always}
   .page:last-child{break-after:auto;page-break-after:auto}
+  .page.fit1{zoom:.9}.page.fit2{zoom:.8}.page.fit3{zoom:.72}.page.fit4{zoom:.62}
   .page,table,tr,.verdict,.sign{break-inside:avoid}
   *{-webkit-print-color-adjust:exact;print-color-adjust:exact}
 }
