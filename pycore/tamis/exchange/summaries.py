@@ -160,7 +160,8 @@ def compute_summary(rec: dict, index: dict, parts: FileParts | None = None) -> d
             grad = sample.gradation
             out["verdict"] = ev.verdict
             out["failing_checks"] = sorted({c.id for c in ev.checks if c.status == "fail" and not c.advisory})
-            checks = [c.to_dict() for c in ev.checks]
+            # only the checks that can give a reason are turned into dicts (most tests have none)
+            checks = [c.to_dict() for c in ev.checks if c.status in ("fail", "warn", "needs_data")]
             out["reasons"] = verdict_reasons(ev.verdict, checks)
             out["advisory"] = advisory_lines(checks)
     if note is not None:
