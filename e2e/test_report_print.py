@@ -199,3 +199,35 @@ def test_a_heavy_report_still_fits_one_page(browser, tmp_path):
         assert pages == 1, (fmt, pages)
         assert "Verdict: Fails a check (reject)" in t and "Internal stability: Kezdi split test" in t
         assert "Screening check only." in t and t.count("Signature:") == 3
+
+
+@needs_poppler
+def test_a_corrected_mass_is_in_the_report_after_a_reload(page, site, browser, tmp_path):
+    """The inspector finds the No. 200 mass of Q-L11-CP was read wrong (54.0 g, 57.0 g on the balance
+    sheet), corrects it, saves, reloads and prints: the report holds the new mass, the figures the core
+    gives for it and the new revision, and is still the office's document for the stored record."""
+    from test_ui_common import save_test, settle
+    open_demo(page, site)
+    rid = IDS["Q-L11-CP"]
+    page.evaluate("(r) => { location.hash = r; }", f"#/entry/{rid}")
+    field = page.locator("input[data-field='sample.sieves[7].retained_g']")
+    field.wait_for()
+    assert field.input_value() == "54"
+    field.fill("57")
+    settle(page)
+    save_test(page, "Save changes")
+    page.get_by_text("Saved Q-L11-CP (revision 2).").first.wait_for()
+    page.reload()
+    page.wait_for_selector("body[data-core-ready]")
+    html = open_report_from_test(page, "Q-L11-CP")
+    stored = page.evaluate("async (id) => (await import('/src/storage/records.js')).getRecord(id)", rid)
+    assert stored["rev"] == 2 and stored["test"]["sieves"][7]["retained_g"] == 57
+    recs = [record.check_record(r) for r in RECORDS if r["record_id"] != rid] + [record.check_record(stored)]
+    ctx = [r for r in recs if r["record_id"] in (stored["meta"]["band_id"], stored["meta"]["base_id"])]
+    assert html == report_html.build([record.check_record(stored)], ctx, ids=[rid])["html"]
+    pages, text, raw = pdf_of(browser, html, "Letter", tmp_path / "corrected.pdf")
+    assert pages == 1
+    # C136 section 9 by hand: cumulative 978.5 - 54.0 + 57.0 = 981.5 g; passing 100 x (1037.6 - 981.5) / 1037.6
+    assert re.search(r"No\. 200\s+0\.075\s+57\s+981\.5\s+94\.6\s+5\.4\s+0–5\s+OUT", text), text[:3000]
+    t = flat(raw)
+    assert "rev 2" in t and "Band: No. 200 passing 5.4 % > 5 %" in t
