@@ -45,6 +45,8 @@ SHOTS = (
     ("08-exchange.png", "CSV exchange, with 'Remove the demo'"),
     ("09-entry-fines.png", "a test typed from masses on the entry screen: the result's first screen and the bar"),
     ("10-entry-sunlight.png", "the same result in the sunlight theme"),
+    ("11-report-screen.png", "the Report screen of Q-L11-CP: print, save, share, the paper, the report"),
+    ("12-report-printed.png", "the printed report of Q-L11-CP: the PDF chromium prints (A4), drawn by pdftoppm"),
 )
 
 
@@ -163,9 +165,45 @@ def _take(browser, site, out_dir: Path, log) -> list[Path]:
     _scroll_to(page, "#view .verdict-card")
     shot(SHOTS[9][0])
 
+    _go(page, "#/settings")
+    page.get_by_label("Theme").select_option("standard")
+    _quiet(page)
+    _go(page, f"#/report/test/{rec['record_id']}")
+    page.wait_for_selector("#view[data-report='ready']")
+    _quiet(page)
+    _scroll_to(page, "#view h1")
+    shot(SHOTS[10][0])
+    html = page.get_attribute("#view iframe.report-frame", "srcdoc")
+    written.append(printed_page(browser, html, out_dir / SHOTS[11][0]))
+    log(f"wrote {written[-1]}")
+
     context.close()
     guard.assert_clean()
     return written
+
+
+def printed_page(browser, html: str, path: Path) -> Path:
+    """The report printed to PDF by chromium (A4, the print style sheet), its page drawn as PNG by pdftoppm
+    (poppler-utils) at 110 dpi."""
+    import shutil
+    import subprocess
+    import tempfile
+    tool = shutil.which("pdftoppm")
+    if tool is None:
+        raise RuntimeError("pdftoppm (poppler-utils) is missing: run `make setup` (scripts/system-deps.sh)")
+    ctx = browser.new_context()
+    try:
+        pg = ctx.new_page()
+        pg.set_content(html, wait_until="load")
+        pdf = pg.pdf(format="A4", print_background=True)
+    finally:
+        ctx.close()
+    with tempfile.TemporaryDirectory() as tmp:
+        src = Path(tmp) / "report.pdf"
+        src.write_bytes(pdf)
+        subprocess.run([tool, "-png", "-r", "110", "-singlefile", str(src), str(Path(tmp) / "page")], check=True)
+        path.write_bytes((Path(tmp) / "page.png").read_bytes())
+    return path
 
 
 def main(argv=None) -> int:

@@ -268,3 +268,38 @@ def test_demo_shows_the_review_only_when_something_conflicts(page, site):
     assert kept["meta"]["notes"] == "edited on this device" and kept["rev"] == first["rev"] + 1
     again = core("records_import_csv", csv=demo_csv, existing=all_records(page))
     assert again["conflicts"] == []
+
+
+def test_the_decimal_comma_export_is_the_cores_and_imports_back_unchanged(page, site):
+    """An office whose spreadsheet uses the decimal comma: the inspector picks that variant once,
+    exports, and the file (semicolons, 12,4) is the core's and reads back as the same records."""
+    open_app(page, site)
+    add_base_soil(page, "B-4")
+    enter_sample(page, base_label="B-4 · silty sand core")
+    save_test(page)
+    page.wait_for_selector("#view[data-screen='record']")
+    wait_screen(page)
+    before = all_records(page)
+    go(page, "#/exchange")
+    page.get_by_label("Semicolons, decimal comma (12,4)").check()
+    page.reload()  # the choice is kept on the device
+    page.wait_for_selector("#view[data-screen='exchange']")
+    assert page.get_by_label("Semicolons, decimal comma (12,4)").is_checked()
+    with page.expect_download() as dl:
+        page.get_by_role("button", name="Export all records (2)").click()
+    got = Path(dl.value.path()).read_bytes().decode("utf-8")
+    assert got == core("records_export_csv", records=before, bom=False, context=[], dialect="decimal_comma")["csv"]
+    assert got.startswith("tamis_csv;record_id;kind;")
+    header = got.split("\r\n")[0].split(";")
+    row = next(line for line in got.split("\r\n")[1:] if ";test;" in line).split(";")
+    cells = dict(zip(header, row))
+    assert "," in cells["calc_d15_mm"] and "." not in cells["calc_d15_mm"]
+    assert any(h.startswith("calc_passing_pct@") and "," in cells[h] for h in header)
+    go(page, "#/exchange")
+    upload(page, "comma.csv", got)
+    page.wait_for_selector(".import-result p")
+    assert "2 rows; 0 new, 0 newer than on this device, 2 unchanged, 0 in conflict" in page.text_content(".import-result")
+    page.get_by_label("Commas, decimal point (12.4)").check()  # and back: the default export again
+    with page.expect_download() as dl:
+        page.get_by_role("button", name="Export all records (2)").click()
+    assert Path(dl.value.path()).read_bytes().decode("utf-8").startswith("tamis_csv,record_id,kind,")

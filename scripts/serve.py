@@ -38,7 +38,8 @@ CSP = "; ".join([
     "worker-src 'self'",
     "connect-src 'self'",
     "img-src 'self'",
-    "style-src 'self'",
+    # the hashes: the style blocks of the printable report (tamis.exchange.report_html.style_hashes)
+    "style-src 'self' 'sha256-f6mNWspuxaW6wbGWwpZ2cnf7P45djtgYo5hKDvvpJbU=' 'sha256-l2R2w+yXNCglWCd27nArmQgp1akMfhVkP16FTxqKZsc=' 'sha256-FvfXMega31BajUskvpPuqTdv3sWbwNM463/ZS5MKsfc=' 'sha256-yJLqHTzskVQHnY37TyVr8ZYNbq3QaaxJfuEPAhj4/Xc='",
     "font-src 'self'",
     "manifest-src 'self'",
     "object-src 'none'",

@@ -12,6 +12,9 @@ command -v Xvfb >/dev/null 2>&1 || need+=(xvfb)
 command -v node >/dev/null 2>&1 || need+=(nodejs npm)
 # libreoffice-calc-nogui: soffice --headless --convert-to, for tests/test_csv_spreadsheet.py (CSV opened in Calc).
 command -v soffice >/dev/null 2>&1 || need+=(libreoffice-calc-nogui)
+# poppler-utils: pdftotext and pdfinfo read the printed report back (e2e/test_report_print.py); pdftoppm draws
+# the printed page for docs/img (e2e/screenshots.py).
+command -v pdftotext >/dev/null 2>&1 || need+=(poppler-utils)
 if [ ${#need[@]} -eq 0 ]; then exit 0; fi
 if [ "$(id -u)" != 0 ]; then
   echo "missing Debian packages: ${need[*]}; run as root or install them: apt-get install ${need[*]}" >&2

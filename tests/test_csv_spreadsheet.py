@@ -49,10 +49,17 @@ def _q(tag: str) -> str:
     return f"{{{NS[prefix]}}}{local}"
 
 
-def to_ods(csv_path, tmp_path):
+#: LibreOffice CSV filter options (token 1 the separator as a character code, 2 the text delimiter,
+#: 3 the character set, 76 = UTF-8, 4 the first line, 5 column formats, 6 the language as an MS LCID:
+#: 1033 English (USA), decimal point; 1031 German (Germany), decimal comma).
+STANDARD_FILTER = "CSV:44,34,76,1"
+COMMA_FILTER = "CSV:59,34,76,1,,1031"
+
+
+def to_ods(csv_path, tmp_path, infilter=STANDARD_FILTER):
     profile = (tmp_path / "lo-profile").as_uri()
     p = subprocess.run([SOFFICE, f"-env:UserInstallation={profile}", "--headless", "--norestore",
-                        "--convert-to", "ods", "--infilter=CSV:44,34,76,1", "--outdir", str(tmp_path),
+                        "--convert-to", "ods", f"--infilter={infilter}", "--outdir", str(tmp_path),
                         str(csv_path)], capture_output=True, text=True, timeout=240)
     out = csv_path.with_suffix(".ods")
     assert p.returncode == 0 and out.exists(), p.stdout + p.stderr
@@ -130,3 +137,64 @@ def test_control_the_same_texts_unprotected_do_become_formulas(tmp_path):
     control.write_bytes(("\r\n".join(",".join(csv_write.quote(c) for c in r) for r in raw) + "\r\n").encode("utf-8"))
     sheet = cells_of(to_ods(control, tmp_path))
     assert any(cell[2] for row in sheet for cell in row), "LibreOffice read no formula in the control file"
+
+
+def demo_export(tmp_path, dialect):
+    from tamis import demo
+    from tamis.exchange import record
+    recs = [record.check_record(r) for r in demo.load_records()]
+    out = json.loads(api.handle(json.dumps({"schema": 1, "op": "records_export_csv", "id": 1, "records": recs,
+                                            "dialect": dialect})))
+    assert out["ok"], out
+    path = tmp_path / f"demo-{dialect}.csv"
+    path.write_bytes(out["result"]["csv"].encode("utf-8"))
+    return path, out["result"]["csv"]
+
+
+@pytest.mark.parametrize("dialect,infilter,sep", [("standard", STANDARD_FILTER, ","),
+                                                   ("decimal_comma", COMMA_FILTER, ";")])
+def test_each_variant_opens_with_numbers_as_numbers_and_passing_per_sieve(tmp_path, dialect, infilter, sep):
+    """Each variant, read with the settings docs/csv.md names for it: every number cell is a
+    float of the written value, the percent passing beside each mass is a number, texts are text."""
+    import csv as _csv
+    import io as _io
+    path, text = demo_export(tmp_path, dialect)
+    header, *rows = list(_csv.reader(_io.StringIO(text, newline=""), delimiter=sep))
+    sheet = cells_of(to_ods(path, tmp_path, infilter))
+    assert [c[3] for c in sheet[0][:len(header)]] == header  # one column per header cell
+    col = {h: i for i, h in enumerate(header)}
+    passing = [h for h in header if h.startswith("calc_passing_pct@")]
+    assert len(passing) >= 12
+    r = next(i for i, row in enumerate(rows) if "Q-L11-CP" in row)
+    got = sheet[1 + r]
+    for h in ("calc_passing_pct@2.36mm", "calc_passing_pct@0.075mm", "retained_g@2.36mm", "dry_mass_g",
+              "calc_d15_mm", "calc_fines_pct"):
+        vt, value, formula, shown = got[col[h]]
+        want = float(rows[r][col[h]].replace(",", "."))
+        assert (vt, formula) == ("float", False), (h, vt, shown)
+        assert math.isclose(float(value), want, rel_tol=1e-12), (h, value, want)
+    assert float(got[col["calc_passing_pct@2.36mm"]][1]) == 89.601
+    assert got[col["calc_reasons"]][:2] == ("string", None)
+    assert got[col["calc_reasons"]][3] == "Band: No. 200 passing 5.7 % > 5 %; Fines 5.7 % > 5 %"
+    assert got[col["calc_band_name"]][3] == "Zone 2 fine filter band (spec. TD-02)"
+    assert got[col["sample_id"]][0] == "string"
+    numbers = 0
+    for i, row in enumerate(rows):
+        for h, cell in zip(header, row):
+            if cell and ("@" in h or h in ("dry_mass_g", "pan_g", "calc_cu", "calc_d15_mm")):
+                vt, value, _, _ = sheet[1 + i][col[h]]
+                assert vt == "float", (i, h, cell, vt)
+                assert math.isclose(float(value), float(cell.replace(",", ".")), rel_tol=1e-12)
+                numbers += 1
+    assert numbers > 300
+
+
+def test_control_the_comma_variant_read_with_point_settings_is_not_numbers(tmp_path):
+    """The check above can fail: the decimal-comma file read as if it used the decimal point
+    (English USA) leaves 89,601 as text, so the settings named in docs/csv.md matter."""
+    path, text = demo_export(tmp_path, "decimal_comma")
+    sheet = cells_of(to_ods(path, tmp_path, "CSV:59,34,76,1,,1033"))
+    header = [c[3] for c in sheet[0]]
+    i = header.index("calc_passing_pct@2.36mm")
+    types = {row[i][0] for row in sheet[1:] if len(row) > i and row[i][3] and "," in row[i][3]}
+    assert types and "float" not in types

@@ -25,7 +25,7 @@ import pytest
 from tamis import api, demo
 from tamis.lab import reduction
 from tamis.exchange import summaries as S
-from tamis.exchange import csv_write, record
+from tamis.exchange import csv_write, record, wording
 from test_records_gen import make_records
 
 
@@ -35,6 +35,7 @@ def json_summary(rec: dict, index: dict) -> dict:
         return json.loads(api.handle(json.dumps({"schema": api.SCHEMA, "op": op, "id": None, **fields})))
 
     out = {"d_mm": None, "cu": None, "fines_pct": None, "verdict": None, "failing_checks": [],
+           "reasons": [], "advisory": [], "passing": [], "band_name": None, "base_name": None,
            "note": None, "core_version": None}
     test = rec["test"]
     if rec["kind"] == "band":
@@ -57,6 +58,7 @@ def json_summary(rec: dict, index: dict) -> dict:
                 missing.append(f"meta.{key} names {ref}, which is not a {kind} record with data in this file")
             else:
                 fields[field] = other[part]
+                out[f"{kind}_name"] = S.record_label(other)
         if isinstance(meta.get("rules"), dict):
             fields["rules"] = meta["rules"]
     if rec["kind"] == "base" or missing:
@@ -68,13 +70,19 @@ def json_summary(rec: dict, index: dict) -> dict:
         grad = res.get("sample") if res else None
         if res:
             out["verdict"] = res.get("verdict")
-            out["failing_checks"] = sorted({c.get("id") for c in res.get("checks", []) if c.get("status") == "fail"})
+            checks = res.get("checks", [])
+            out["failing_checks"] = sorted({c.get("id") for c in checks
+                                            if c.get("status") == "fail" and not c.get("advisory")})
+            out["reasons"] = wording.verdict_reasons(res.get("verdict"), checks)
+            out["advisory"] = wording.advisory_lines(checks)
     if not resp.get("ok"):
         err = resp.get("error", {})
         out["note"] = f"not computed: {err.get('field') or 'test'}: {err.get('message')}"
         return out
     out["core_version"] = resp.get("core_version")
     if isinstance(grad, dict):
+        out["passing"] = [(p["opening_mm"], p["passing_pct"]) for p in grad.get("points") or ()
+                          if p.get("passing_pct") is not None]
         d = grad.get("d_mm") or {}
         out["d_mm"] = {k: d.get(k) for k in ("D10", "D15", "D60", "D85")}
         out["cu"] = grad.get("cu")

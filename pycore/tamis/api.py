@@ -47,6 +47,7 @@ OPS: dict[str, str] = {
     "records_export_csv": "tamis.exchange.ops:op_export_csv",
     "records_import_csv": "tamis.exchange.ops:op_import_csv",
     "records_merge": "tamis.exchange.ops:op_merge",
+    "report_html": "tamis.exchange.report_html:op_report_html",
 }
 
 

@@ -13,6 +13,7 @@ import { recordsScreen, detailScreen } from "./ui/records_view.js";
 import { refsScreen, bandEditor, baseEditor } from "./ui/refs.js";
 import { exchangeScreen, openDemo } from "./ui/exchange.js";
 import { settingsScreen, applyTheme } from "./ui/settings_view.js";
+import { reportScreen } from "./ui/report_view.js";
 
 const view = document.getElementById("view");
 const bootLine = document.getElementById("boot-status");
@@ -85,6 +86,7 @@ const ROUTES = {
   quick: () => quickScreen(app, view),
   records: () => recordsScreen(app, view),
   record: (arg) => detailScreen(app, view, arg),
+  report: (arg) => reportScreen(app, view, arg),
   refs: () => refsScreen(app, view),
   band: (arg) => bandEditor(app, view, arg, app.nav.seed || null),
   base: (arg) => baseEditor(app, view, arg),
@@ -102,7 +104,7 @@ async function render() {
     try { f(); } catch (err) { console.error(err); }
   }
   for (const a of document.querySelectorAll("nav a")) {
-    if (a.dataset.route === route || (route === "record" && a.dataset.route === "records")) a.setAttribute("aria-current", "page");
+    if (a.dataset.route === route || ((route === "record" || route === "report") && a.dataset.route === "records")) a.setAttribute("aria-current", "page");
     else a.removeAttribute("aria-current");
   }
   view.dataset.screen = route;
@@ -110,6 +112,7 @@ async function render() {
   carryToast = false;
   delete view.dataset.evaluated;
   delete view.dataset.busy;
+  delete view.dataset.report;
   try {
     await ROUTES[route](arg ? decodeURIComponent(arg) : null);
   } catch (err) {

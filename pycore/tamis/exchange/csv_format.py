@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import re
 
-from .record import TEST_NUM
+from .record import META_NUM, PLASTICITY_NUM, TEST_NUM
 
 #: Version of the CSV layout, written in the first column of every row.
 CSV_VERSION = "1"
@@ -34,7 +34,13 @@ META_COLUMNS = ("sample_id", "project", "material", "zone", "source", "sampling_
 TEST_HEAD = TEST_NUM
 TEST_TAIL = ("nonplastic", "liquid_limit", "plasticity_index", "dispersive", "test_extra_json")
 CALC_COLUMNS = ("calc_d10_mm", "calc_d15_mm", "calc_d60_mm", "calc_d85_mm", "calc_cu", "calc_fines_pct",
-                "calc_verdict", "calc_failing_checks", "calc_note", "calc_core_version")
+                "calc_verdict", "calc_reasons", "calc_advisory", "calc_failing_checks", "calc_note",
+                "calc_core_version")
+#: Calc columns written beside a metadata column (the name beside the id), ignored on reading like the others.
+CALC_BESIDE = {"band_id": "calc_band_name", "base_id": "calc_base_name"}
+#: The calc column family of the percent passing at each opening, written beside the masses.
+CALC_FAMILY = "calc_passing_pct"
+CALC_FAMILY_RE = re.compile(r"calc_passing_pct@([0-9.eE+-]+)mm", re.ASCII)
 REQUIRED_COLUMNS = FIXED_COLUMNS + ("history_json",)
 
 #: Families of columns that carry one opening [mm] in their name.
@@ -43,7 +49,25 @@ FAMILY_RE = re.compile(r"(retained_g|passing_pct|band_min_pct|band_max_pct)@([0-
 
 #: Every column whose name holds no opening.
 STATIC_COLUMNS = frozenset(FIXED_COLUMNS + META_COLUMNS + TEST_HEAD + TEST_TAIL + CALC_COLUMNS
-                           + ("band_name", "band_extra_json", "history_json"))
+                           + tuple(CALC_BESIDE.values()) + ("band_name", "band_extra_json", "history_json"))
+
+#: Columns that hold a number (besides every ``<family>@<d>mm`` column): the decimal-comma variant
+#: writes their decimal mark as a comma.
+NUMBER_COLUMNS = frozenset(META_NUM + TEST_NUM + PLASTICITY_NUM + ("calc_d10_mm", "calc_d15_mm", "calc_d60_mm",
+                                                                  "calc_d85_mm", "calc_cu", "calc_fines_pct"))
+
+
+def is_calc_column(col: str) -> bool:
+    """A column written for people and never read as data (``calc_*``)."""
+    return col.startswith("calc_")
+
+
+def is_number_column(col: str) -> bool:
+    return col in NUMBER_COLUMNS or "@" in col
+
+
+#: The two spellings of the file (docs/csv.md "Two variants"): separator and decimal mark.
+DIALECTS = {"standard": (",", "."), "decimal_comma": (";", ",")}
 
 #: First characters that make a spreadsheet read a cell as a formula (OWASP),
 #: plus the escape character itself so that every text round-trips exactly.

@@ -15,8 +15,8 @@ import math
 import re
 
 from ..errors import InputError
-from .csv_format import CALC_COLUMNS, CSV_VERSION, FAMILIES, FAMILY_RE, MARKER, META_COLUMNS, NUM_RE, \
-    REQUIRED_COLUMNS, STATIC_COLUMNS, unescape_text
+from .csv_format import CALC_COLUMNS, CALC_FAMILY_RE, CSV_VERSION, FAMILIES, FAMILY_RE, MARKER, META_COLUMNS, \
+    NUM_RE, REQUIRED_COLUMNS, STATIC_COLUMNS, is_calc_column, is_number_column, unescape_text
 from .record import META_NUM, META_TEXT, PLASTICITY_NUM, TEST_NUM, acyclic_work, check_record, content_key
 
 CALC_SET = frozenset(CALC_COLUMNS)
@@ -117,6 +117,9 @@ def parse_header(header: list[str], path: str) -> dict:
         seen.add(col)
         if col in STATIC_COLUMNS:
             continue
+        c = CALC_FAMILY_RE.fullmatch(col)
+        if c and NUM_RE.fullmatch(c.group(1)):
+            continue  # percent passing for people: never read
         m = FAMILY_RE.fullmatch(col)
         if not m or not NUM_RE.fullmatch(m.group(2)) or not (0 < float(m.group(2)) < math.inf):
             raise InputError("unknown_column", f"Row 1: {col!r} is not a column of this format "
@@ -132,6 +135,21 @@ def parse_header(header: list[str], path: str) -> dict:
             raise InputError("missing_column", f"Row 1: the required column {col!r} is missing.", f"{where}.{col}")
     colinfo = {col: (f, op) for f in FAMILIES for op, col in fams[f]}
     return {"cols": header, "colinfo": colinfo, "static": frozenset(seen - set(colinfo))}
+
+
+_COMMA_NUM_RE = re.compile(r"[+-]?(\d+(,\d*)?|,\d+)([eE][+-]?\d+)?", re.ASCII)
+
+
+def _point_numbers(cells: dict, where: str) -> None:
+    """In a decimal-comma file, the number cells respelled with a point (in place);
+    a number written with a point there is refused (``1.250`` may be a thousands separator)."""
+    for col, cell in cells.items():
+        if not is_number_column(col) or is_calc_column(col):
+            continue
+        if "." in cell or not _COMMA_NUM_RE.fullmatch(cell):
+            hint = " This file uses semicolons and the decimal comma: write 12,4." if "." in cell else ""
+            raise cell_error("not_a_number", f"{where}.{col}", f"must be a number, got {cell!r}.{hint}")
+        cells[col] = cell.replace(",", ".")
 
 
 def _meta_from(cells: dict, where: str) -> dict:
@@ -229,7 +247,7 @@ def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = Fal
     if cells.get(MARKER) != CSV_VERSION:
         raise cell_error("unsupported_version", f"{where}.{MARKER}", f"must be {CSV_VERSION} (the CSV version "
                          f"this core reads), got {cells.get(MARKER, '')!r}.")
-    for col in ("record_id", "kind", "rev", "updated_at", "updated_by", "deleted", "history_json"):
+    for col in ("record_id", "kind", "rev", "updated_at", "deleted", "history_json"):
         if not cells.get(col):
             raise cell_error("missing_value", f"{where}.{col}", "is empty; every row needs it.")
     rev_cell = cells["rev"]
@@ -240,7 +258,7 @@ def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = Fal
         "kind": cells["kind"],
         "rev": int(rev_cell),
         "updated_at": cells["updated_at"],
-        "updated_by": unescape_text(cells["updated_by"]),
+        "updated_by": unescape_text(cells.get("updated_by", "")),  # blank: an empty text
         "deleted": _parse_bool(cells["deleted"], where, "deleted"),
         "exported_at": cells.get("exported_at") or None,
         "meta": _meta_from(cells, where),
@@ -306,7 +324,9 @@ def read_files(texts, paths=None) -> list[list[dict]]:
 
 
 def _read_rows(text: str, path: str, memo: dict | None):
-    reader = csv.reader(io.StringIO(text, newline=""), strict=True)
+    # The decimal-comma variant (docs/csv.md) is told by its first separator: "tamis_csv;".
+    comma = text.startswith(MARKER + ";")
+    reader = csv.reader(io.StringIO(text, newline=""), strict=True, delimiter=";" if comma else ",")
     n = 0
     records, rows, by_id = [], [], {}
     hdr = None
@@ -325,10 +345,12 @@ def _read_rows(text: str, path: str, memo: dict | None):
                                                      f"{len(cols)}; the line may be truncated or hold an "
                                                      "unquoted comma.", where)
             cells = {col: cell for col, cell in zip(cols, row) if cell}  # the non-blank cells
+            if comma:
+                _point_numbers(cells, where)
             if memo is None:
                 rec = row_record(cells, hdr["colinfo"], where)
             else:
-                key = tuple(item for item in cells.items() if item[0] not in CALC_SET)
+                key = tuple(item for item in cells.items() if not is_calc_column(item[0]))
                 rec = memo.get(key)
                 if rec is None:
                     rec = memo[key] = row_record(cells, hdr["colinfo"], where)

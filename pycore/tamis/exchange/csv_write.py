@@ -11,8 +11,8 @@ from __future__ import annotations
 import math
 import re
 
-from .csv_format import CALC_COLUMNS, CSV_VERSION, FAMILIES, FIXED_COLUMNS, MARKER, META_COLUMNS, TEST_HEAD, \
-    TEST_TAIL, escape_text, fmt_num
+from .csv_format import CALC_BESIDE, CALC_COLUMNS, CALC_FAMILY, CSV_VERSION, DIALECTS, FAMILIES, FIXED_COLUMNS, \
+    MARKER, META_COLUMNS, TEST_HEAD, TEST_TAIL, escape_text, fmt_num, is_number_column
 from .record import META_NUM, META_TEXT, PLASTICITY_NUM, TEST_NUM, acyclic_work, dump_json, is_number, row_order
 
 _META_TEXT_SET, _META_NUM_SET, _TEST_NUM_SET = frozenset(META_TEXT), frozenset(META_NUM), frozenset(TEST_NUM)
@@ -67,13 +67,15 @@ def _bool_cell(b: bool) -> str:
 def record_cells(rec: dict) -> dict:
     """The non-blank cells of a checked record's row (calc columns excluded)."""
     c = {MARKER: CSV_VERSION, "record_id": escape_text(rec["record_id"]), "kind": rec["kind"],
-         "rev": str(rec["rev"]), "updated_at": rec["updated_at"], "updated_by": escape_text(rec["updated_by"]),
+         "rev": str(rec["rev"]), "updated_at": rec["updated_at"],
          "deleted": _bool_cell(rec["deleted"]), "history_json": escape_text(dump_json(rec["history"]))}
+    if rec["updated_by"]:
+        c["updated_by"] = escape_text(rec["updated_by"])  # empty text: a blank cell (read back as "")
     if rec["exported_at"] is not None:
         c["exported_at"] = rec["exported_at"]
     extra = {}
     for k, v in rec["meta"].items():
-        if k in _META_TEXT_SET and isinstance(v, str):
+        if k in _META_TEXT_SET and isinstance(v, str) and v:  # an empty text goes to the JSON: the cell stays blank
             c[k] = escape_text(v)
         elif k in _META_NUM_SET and is_number(v):
             c[k] = fmt_num(v)
@@ -149,7 +151,7 @@ def _pairs_cells(v, val: str):
 
 def _band_cell(k: str, v, c: dict) -> bool:
     """Put band key ``k`` into its columns if they hold it exactly; False if not."""
-    if k == "name" and isinstance(v, str):
+    if k == "name" and isinstance(v, str) and v:
         c["band_name"] = escape_text(v)
     elif k == "limits" and _limits_fit(v):
         for e in v:
@@ -165,7 +167,7 @@ def _band_cell(k: str, v, c: dict) -> bool:
 def header_for(cell_dicts) -> list[str]:
     """The header for a set of rows: every static column, and the opening columns
     that some row uses, coarsest first."""
-    openings = {f: set() for f in FAMILIES}
+    openings = {f: set() for f in FAMILIES + (CALC_FAMILY,)}
     used = set()
     for c in cell_dicts:
         used.update(c)  # each column name once, whatever the number of rows
@@ -174,8 +176,18 @@ def header_for(cell_dicts) -> list[str]:
             fam, _, rest = col.partition("@")
             openings[fam].add(float(rest[:-2]))
     band_ops = sorted(openings["band_min_pct"] | openings["band_max_pct"], reverse=True)
-    cols = list(FIXED_COLUMNS) + list(META_COLUMNS) + list(TEST_HEAD)
-    cols += [column_name("retained_g", o) for o in sorted(openings["retained_g"], reverse=True)]
+    cols = list(FIXED_COLUMNS)
+    for col in META_COLUMNS:
+        cols.append(col)
+        if col in CALC_BESIDE:
+            cols.append(CALC_BESIDE[col])  # the band's or base soil's name beside its id
+    cols += list(TEST_HEAD)
+    # Each mass beside the percent passing it gives (calc, for people), coarsest first.
+    for o in sorted(openings["retained_g"] | openings[CALC_FAMILY], reverse=True):
+        if o in openings["retained_g"]:
+            cols.append(column_name("retained_g", o))
+        if o in openings[CALC_FAMILY]:
+            cols.append(column_name(CALC_FAMILY, o))
     cols += [column_name("passing_pct", o) for o in sorted(openings["passing_pct"], reverse=True)]
     cols += list(TEST_TAIL) + ["band_name"]
     for o in band_ops:
@@ -184,25 +196,29 @@ def header_for(cell_dicts) -> list[str]:
     return cols
 
 
-_NEEDS_QUOTES = re.compile('[,"\r\n]')
+_NEEDS_QUOTES = {",": re.compile('[,"\r\n]'), ";": re.compile('[;"\r\n]')}
 
 
-def quote(cell: str) -> str:
+def quote(cell: str, sep: str = ",") -> str:
     """A cell as RFC 4180 writes it: enclosed in double quotes, an embedded quote doubled, when it
-    holds a comma, a quote or a line break."""
-    if _NEEDS_QUOTES.search(cell):
+    holds the separator (a comma; a semicolon in the decimal-comma variant), a quote or a line break."""
+    if _NEEDS_QUOTES[sep].search(cell):
         return '"' + cell.replace('"', '""') + '"'
     return cell
 
 
-def write_csv(records, summaries=None, *, bom: bool = False) -> str:
+def write_csv(records, summaries=None, *, bom: bool = False, dialect: str = "standard") -> str:
     """CSV text of checked records: one header, one row per record, CRLF line ends,
-    rows in :func:`row_order`. ``summaries`` maps record id -> calc cells."""
+    rows in :func:`row_order`. ``summaries`` maps record id -> calc cells.
+    ``dialect`` ``"decimal_comma"`` separates cells with ``;`` and writes the decimal
+    mark of every number cell as ``,`` (``docs/csv.md``, "Two variants")."""
+    if dialect not in DIALECTS:
+        raise ValueError(f"unknown CSV dialect {dialect!r}")
     with acyclic_work():
-        return _write_rows(records, summaries, bom)
+        return _write_rows(records, summaries, bom, dialect)
 
 
-def _write_rows(records, summaries, bom: bool) -> str:
+def _write_rows(records, summaries, bom: bool, dialect: str = "standard") -> str:
     recs = sorted(records, key=row_order)
     cells = [record_cells(r) for r in recs]
     if summaries:
@@ -210,12 +226,18 @@ def _write_rows(records, summaries, bom: bool) -> str:
             c.update(summaries.get(r["record_id"], {}))
     header = header_for(cells)
     pos = {h: i for i, h in enumerate(header)}
-    lines = [",".join(quote(h) for h in header)]
+    sep, mark = DIALECTS[dialect]
+    lines = [sep.join(quote(h, sep) for h in header)]
+    if mark != ".":
+        numeric = [i for i, h in enumerate(header) if is_number_column(h)]
     for c in cells:
         row = [""] * len(header)
         for col, v in c.items():
-            row[pos[col]] = quote(v)
-        lines.append(",".join(row))
+            row[pos[col]] = quote(v, sep)
+        if mark != ".":
+            for i in numeric:
+                row[i] = row[i].replace(".", mark)  # a number cell holds digits, sign, point, exponent only
+        lines.append(sep.join(row))
     if bom:
         lines[0] = "\ufeff" + lines[0]
     lines.append("")  # the last row ends with CRLF too

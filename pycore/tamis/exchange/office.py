@@ -9,6 +9,9 @@
     Recompute every test's verdict with the current core (the code of the
     ``evaluate`` op, :mod:`tamis.exchange.summaries`) and flag the rows whose stored
     verdict differs. Exit 1 when a stored verdict differs.
+``python -m tamis report FILE.csv --html OUT.html [--test ID ...] [--lot LOT] [--day YYYY-MM-DD]``
+    Write the printable report (:mod:`tamis.exchange.report_html`): one page per
+    test (every test, or those named), or the page of a lot or of a day.
 ``python -m tamis check FILE.csv``
     Validate the file; write nothing.
 
@@ -76,7 +79,8 @@ class Progress:
 EPILOGS = {
     "merge": "exit status: 0 merged; 1 conflicts remain (the kept version is written, the others are listed); "
              "2 a file cannot be read.",
-    "report": "exit status: 0 done; 1 a stored verdict differs from the recomputed one; 2 the file cannot be read.",
+    "report": "exit status: 0 done; 1 a stored verdict differs from the recomputed one; 2 the file cannot be read "
+              "(or, with --html, nothing matches the selection).",
     "check": "exit status: 0 valid; 2 the file cannot be read (file, row and column are named).",
 }
 
@@ -89,6 +93,9 @@ def add_arguments(name: str, parser) -> None:
         parser.add_argument("--conflicts", metavar="FILE",
                             help="write the conflicting versions, in full, to this JSON file")
         parser.add_argument("--bom", action="store_true", help="start the output with a UTF-8 byte order mark")
+        parser.add_argument("--decimal-comma", action="store_true",
+                            help="write the variant for spreadsheets that use the decimal comma: semicolons "
+                                 "between cells, numbers as 12,4 (it reads back as the same records)")
         parser.add_argument("--no-calc", action="store_true",
                             help="leave the calc_* columns blank (faster for very large merges; "
                                  "report recomputes them anyway)")
@@ -97,6 +104,18 @@ def add_arguments(name: str, parser) -> None:
         parser.add_argument("file", help="CSV exchange file")
         parser.add_argument("--json", action="store_true", help="print JSON for machines instead of a table")
         _jobs_argument(parser)
+        sheet = parser.add_argument_group("printable report (HTML, one page per test; print it or save it as PDF "
+                                          "from a browser)")
+        sheet.add_argument("--html", metavar="OUT.html", help="write the report to this self-contained HTML file "
+                           "(- for standard output) instead of the table")
+        pick = sheet.add_mutually_exclusive_group()
+        pick.add_argument("--test", action="append", metavar="ID", default=[],
+                          help="the test to report, by sample id or record id (repeat for a selection; "
+                               "default: every test)")
+        pick.add_argument("--lot", help="the lot report: the tests whose lot (meta.lot) is LOT")
+        pick.add_argument("--day", metavar="YYYY-MM-DD", help="the daily report: the tests sampled that day (UTC)")
+        sheet.add_argument("--paper", choices=("auto", "a4", "letter"), default="auto",
+                           help="page size written in the file (default auto: the printer's; both fit)")
     elif name == "check":
         parser.add_argument("file", help="CSV exchange file")
     else:  # pragma: no cover - cli.py only sends the three names above
@@ -224,7 +243,7 @@ def _merge(args) -> int:
         gc.freeze()  # the records live to the end of the command: the collector need never walk them again
     # ops.export_csv(merged), with the progress of the calc columns shown
     calc = None if args.no_calc else calc_cells(merged, args.jobs, Progress("calc columns", "records"))
-    text = write_csv(merged, calc, bom=args.bom)
+    text = write_csv(merged, calc, bom=args.bom, dialect="decimal_comma" if args.decimal_comma else "standard")
     if args.output == "-":
         sys.stdout.buffer.write(text.encode("utf-8"))
         sys.stdout.buffer.flush()
@@ -301,11 +320,40 @@ def summarise(entries: list[dict]) -> dict:
             "differs": sum(e["differs"] for e in entries)}
 
 
+def _report_html(args, recs) -> int:
+    from . import report_html
+    kind = "lot" if args.lot else "day" if args.day else "test"
+    try:
+        got = report_html.build(recs, kind=kind, ids=args.test, lot=args.lot, day=args.day, paper=args.paper)
+    except InputError as err:
+        print(f"error: {args.file}: {err.message}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if kind != "test" and got["count"] == 0:
+        print(f"error: {args.file}: no test of {'lot ' + args.lot if args.lot else 'the day ' + args.day}.",
+              file=sys.stderr)
+        return EXIT_BAD_INPUT
+    if args.html == "-":
+        sys.stdout.buffer.write(got["html"].encode("utf-8"))
+        sys.stdout.buffer.flush()
+    else:
+        with open(args.html, "wb") as fh:
+            fh.write(got["html"].encode("utf-8"))
+    print(f"wrote {got['title']}" + ("" if kind == "test" else f" ({got['count']} test{'s' if got['count'] != 1 else ''})")
+          + ("" if args.html == "-" else f" to {args.html}") + "; open it in a browser to print or save as PDF.",
+          file=sys.stderr)
+    return EXIT_OK
+
+
 def _report(args) -> int:
     loaded = _load(args.file)
     if isinstance(loaded, int):
         return loaded
     recs, rows = loaded
+    if args.html:
+        return _report_html(args, recs)
+    if args.test or args.lot or args.day:
+        print("error: --test, --lot and --day choose what --html writes; give --html OUT.html", file=sys.stderr)
+        return EXIT_BAD_INPUT
     gc.freeze()  # the records live to the end of the command: the collector need never walk them again
     entries = report_rows(recs, rows, Progress("report", "tests"), args.jobs)
     summary = summarise(entries)

@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 from ..errors import InputError, require_list, require_mapping
+from .csv_format import DIALECTS
 from .csv_read import read_csv, read_files
 from .csv_write import write_csv
 from .merge import import_records, merge_all
@@ -10,24 +11,30 @@ from .record import check_records, iso_field
 from .summaries import summaries_for
 
 
-def export_csv(records: list[dict], *, bom: bool = False, context=()) -> str:
+def export_csv(records: list[dict], *, bom: bool = False, context=(), dialect: str = "standard") -> str:
     """CSV text of checked records with their calc columns computed now
     (:func:`tamis.exchange.summaries.summaries_for`); bands and base soils are looked
-    up in ``records``, then in ``context`` (not written)."""
-    return write_csv(records, summaries_for(records, context), bom=bom)
+    up in ``records``, then in ``context`` (not written). ``dialect``: ``"standard"``
+    (commas, decimal point) or ``"decimal_comma"`` (semicolons, decimal comma)."""
+    return write_csv(records, summaries_for(records, context), bom=bom, dialect=dialect)
 
 
 def op_export_csv(req: dict):
-    """``{"records": [...], "bom": false, "context": [...]}`` -> ``{"csv", "count"}``.
+    """``{"records": [...], "bom": false, "context": [...], "dialect": "standard"}`` -> ``{"csv", "count"}``.
 
     ``context`` (optional) holds records that are looked up for the calc
-    columns (a band, a base soil) but not written."""
+    columns (a band, a base soil) but not written; ``dialect`` (optional)
+    ``"decimal_comma"`` writes the variant for spreadsheets that use the decimal comma."""
     recs = check_records(req.get("records"), "records")
     context = check_records(req.get("context") or [], "context")
     bom = req.get("bom", False)
     if not isinstance(bom, bool):
         raise InputError("not_a_boolean", "bom must be true or false.", "bom")
-    return {"csv": export_csv(recs, bom=bom, context=context), "count": len(recs)}, []
+    dialect = req.get("dialect", "standard")
+    if dialect not in DIALECTS:
+        raise InputError("unknown_choice", f"dialect must be one of {', '.join(DIALECTS)}, got {dialect!r}.",
+                         "dialect")
+    return {"csv": export_csv(recs, bom=bom, context=context, dialect=dialect), "count": len(recs)}, []
 
 
 def op_import_csv(req: dict):

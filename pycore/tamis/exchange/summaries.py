@@ -23,6 +23,7 @@ from ..lab.reduction import reduce_test
 from ..project.evaluate import evaluate_reduced
 from .csv_format import escape_text, fmt_num
 from .record import is_number
+from .wording import advisory_lines, verdict_reasons
 
 #: ``progress(done, total)`` is called after every this many records (and after the last).
 PROGRESS_STEP = 100
@@ -99,11 +100,19 @@ def compute_summary(rec: dict, index: dict, parts: FileParts | None = None) -> d
     bands and bases between calls; without it they are parsed for this call.
 
     Returns ``{"d_mm": {...}|None, "cu", "fines_pct", "verdict", "failing_checks",
-    "note", "core_version"}``; numbers unrounded (never NaN or infinity),
-    ``None`` when not computed. A record the core refuses gets
-    ``note = "not computed: <field or test>: <message>"`` (:func:`error_note`).
+    "reasons", "advisory", "passing", "band_name", "base_name", "note", "core_version"}``;
+    numbers unrounded (never NaN or infinity), ``None`` when not computed. A record
+    the core refuses gets ``note = "not computed: <field or test>: <message>"``
+    (:func:`error_note`). ``failing_checks`` are the ids of the failing checks that
+    count toward the verdict; ``reasons`` says in words what decides it (failures,
+    missing data, warnings; for a ``review`` with nothing deciding, that no counted
+    check applies) and ``advisory`` the flagged advisory indicators
+    (:mod:`tamis.exchange.wording`); ``passing`` is ``[(opening_mm, passing_pct)]``
+    of the curve; ``band_name`` / ``base_name`` name the band and base soil the
+    test refers to, when they are in the file.
     """
     out = {"d_mm": None, "cu": None, "fines_pct": None, "verdict": None, "failing_checks": [],
+           "reasons": [], "advisory": [], "passing": [], "band_name": None, "base_name": None,
            "note": None, "core_version": None}
     test = rec["test"]
     if rec["kind"] == "band":
@@ -130,6 +139,7 @@ def compute_summary(rec: dict, index: dict, parts: FileParts | None = None) -> d
                 missing.append(f"meta.{key} names {ref}, which is not a {kind} record with data in this file")
             else:
                 refs[kind] = ref
+                out[f"{kind}_name"] = record_label(other)
         if isinstance(meta.get("rules"), dict):
             rules = meta["rules"]
     if rec["kind"] == "base" or missing:
@@ -149,12 +159,18 @@ def compute_summary(rec: dict, index: dict, parts: FileParts | None = None) -> d
         if ev is not None:
             grad = sample.gradation
             out["verdict"] = ev.verdict
-            out["failing_checks"] = sorted({c.id for c in ev.checks if c.status == "fail"})
+            out["failing_checks"] = sorted({c.id for c in ev.checks if c.status == "fail" and not c.advisory})
+            # only the checks that can give a reason are turned into dicts (most tests have none)
+            checks = [c.to_dict() for c in ev.checks if c.status in ("fail", "warn", "needs_data")]
+            out["reasons"] = verdict_reasons(ev.verdict, checks)
+            out["advisory"] = advisory_lines(checks)
     if note is not None:
         out["note"] = note
         return out
     out["core_version"] = __version__
     if isinstance(grad, dict):
+        out["passing"] = [(p["opening_mm"], p["passing_pct"]) for p in grad.get("points") or ()
+                          if is_number(p.get("passing_pct"))]
         d = grad.get("d_mm") or {}
         out["d_mm"] = {k: _finite(d.get(k)) for k in ("D10", "D15", "D60", "D85")}
         out["cu"] = _finite(grad.get("cu"))
@@ -162,6 +178,22 @@ def compute_summary(rec: dict, index: dict, parts: FileParts | None = None) -> d
     if missing:
         out["note"] = "no verdict: " + "; ".join(missing)
     return out
+
+
+def record_label(rec: dict) -> str:
+    """A band's or base soil's name for people: the band's ``name`` (else its
+    ``sample_id``); a base soil's ``sample_id`` and ``material``; the record id
+    when nothing else names it."""
+    meta = rec.get("meta") or {}
+    band = rec.get("band") or {}
+    parts = []
+    if rec.get("kind") == "band" and isinstance(band.get("name"), str) and band["name"]:
+        parts.append(band["name"])
+    else:
+        for k in ("sample_id", "material"):
+            if isinstance(meta.get(k), str) and meta[k]:
+                parts.append(meta[k])
+    return ", ".join(parts) or rec["record_id"]
 
 
 def compute_summaries(records: list[dict], index: dict, progress=None) -> list[dict]:
@@ -204,8 +236,17 @@ def summary_cells(s: dict) -> dict:
             c[col] = display_num(s[k])
     if s["verdict"]:
         c["calc_verdict"] = escape_text(s["verdict"])
+    for op, p in s.get("passing") or ():
+        c[f"calc_passing_pct@{fmt_num(op)}mm"] = display_num(p)
+    for k in ("band_name", "base_name"):
+        if s.get(k):
+            c[f"calc_{k}"] = escape_text(s[k])
     if s["failing_checks"]:
         c["calc_failing_checks"] = escape_text(" ".join(s["failing_checks"]))
+    if s.get("reasons"):
+        c["calc_reasons"] = escape_text("; ".join(s["reasons"]))
+    if s.get("advisory"):
+        c["calc_advisory"] = escape_text("; ".join(s["advisory"]))
     if s["note"]:
         c["calc_note"] = escape_text(s["note"])
     if s["core_version"]:

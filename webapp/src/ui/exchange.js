@@ -13,11 +13,38 @@ function fileName(at) {
   return `tamis-${at.replaceAll(":", "").replace("T", "-").replace("Z", "")}.csv`;
 }
 
+const DIALECT_KEY = "tamis.csvDialect";
+/**
+ * The CSV variant to write: the one chosen last on this device, else the one
+ * the device's own number format suggests (a decimal comma -> "decimal_comma").
+ */
+export function csvDialect() {
+  try {
+    const kept = localStorage.getItem(DIALECT_KEY);
+    if (kept === "standard" || kept === "decimal_comma") return kept;
+  } catch { /* storage refused: fall through */ }
+  const dec = new Intl.NumberFormat().formatToParts(1.5).find((p) => p.type === "decimal")?.value;
+  return dec === "," ? "decimal_comma" : "standard";
+}
+
+function dialectChoice() {
+  const current = csvDialect();
+  const opt = (value, label) => h("label", { class: "radio" },
+    h("input", { type: "radio", name: "csv-dialect", value, checked: current === value,
+      onchange: () => { try { localStorage.setItem(DIALECT_KEY, value); } catch { /* not kept */ } } }),
+    " ", label);
+  return h("fieldset", { class: "csv-dialect" },
+    h("legend", { text: "For which spreadsheet" }),
+    opt("standard", "Commas, decimal point (12.4)"),
+    opt("decimal_comma", "Semicolons, decimal comma (12,4)"),
+    h("p", { class: "hint", text: "Both import back here as the same records." }));
+}
+
 /** Export records through the core's CSV codec; returns {ok, message}. */
-export async function exportRecords(app, records, { share = false } = {}) {
+export async function exportRecords(app, records, { share = false, dialect = csvDialect() } = {}) {
   if (records.length === 0) return { ok: false, message: "Nothing to export." };
   const context = await contextFor(records);
-  const resp = await ask("records_export_csv", { records, bom: false, context });
+  const resp = await ask("records_export_csv", { records, bom: false, context, dialect });
   if (!resp.ok) return { ok: false, message: errorText(resp) };
   const at = nowIso();
   const name = fileName(at);
@@ -112,6 +139,7 @@ export async function exchangeScreen(app, view, opts = {}) {
     h("h1", { text: "Import and export" }),
     h("section", { class: "card" }, h("h2", { text: "Export as CSV" }),
       h("p", { class: "hint", text: "Data leaves this device only when you export it. Exported records are marked with the time of export." }),
+      dialectChoice(),
       h("div", { class: "actions column" },
         exportBtn("Export records not yet exported", () => pending),
         shareBtn(() => pending),

@@ -272,6 +272,9 @@ export async function detailScreen(app, view, id) {
   const editHref = rec.kind === "test" ? `#/entry/${rec.record_id}` : `#/${rec.kind}/${rec.record_id}`;
   const actions = h("div", { class: "actions" },
     rec.deleted ? null : h("a", { class: "btn primary", href: editHref, text: "Edit" }),
+    rec.kind === "test" && rec.test ? h("a", { class: "btn", href: `#/report/test/${rec.record_id}`, text: "Report" }) : null,
+    rec.kind === "test" && rec.meta?.lot ? h("a", { class: "btn", href: `#/report/lot/${encodeURIComponent(String(rec.meta.lot))}`, text: `Lot report (${rec.meta.lot})` }) : null,
+    rec.kind === "test" && /^\d{4}-\d\d-\d\d/.test(rec.meta?.sampled_at || "") ? h("a", { class: "btn", href: `#/report/day/${rec.meta.sampled_at.slice(0, 10)}`, text: `Daily report (${rec.meta.sampled_at.slice(0, 10)})` }) : null,
     rec.kind === "test" && !rec.deleted ? h("button", { type: "button", class: "btn", text: "Retest this sample", onclick: () => {
       const seed = blankRecord("test", { meta: { ...rec.meta, retest_of: rec.record_id, sample_id: `${rec.meta?.sample_id || "S"}-R` }, test: null });
       app.go("#/entry", { seed });
