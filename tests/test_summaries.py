@@ -37,7 +37,7 @@ def json_summary(rec: dict, index: dict) -> dict:
     out = {"d_mm": None, "cu": None, "fines_pct": None, "verdict": None, "failing_checks": [],
            "note": None, "core_version": None}
     test = rec["test"]
-    if rec["kind"] == "band":
+    if rec["kind"] in ("band", "lot"):  # a lot has no gradation of its own
         return out
     if rec["deleted"]:
         out["note"] = "deleted record: not computed"

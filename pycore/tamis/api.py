@@ -47,6 +47,9 @@ OPS: dict[str, str] = {
     "records_export_csv": "tamis.exchange.ops:op_export_csv",
     "records_import_csv": "tamis.exchange.ops:op_import_csv",
     "records_merge": "tamis.exchange.ops:op_merge",
+    "lot_summary": "tamis.exchange.lots:op_lot_summary",
+    "frequency_presets": "tamis.exchange.lots:op_frequency_presets",
+    "pwl": "tamis.project.pwl:op_pwl",
 }
 
 

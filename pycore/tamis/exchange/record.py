@@ -27,7 +27,7 @@ from datetime import datetime
 from ..errors import InputError, join, require_list, require_mapping
 
 #: Record kinds, in the order their rows are written.
-KINDS = ("band", "base", "test")
+KINDS = ("band", "base", "lot", "test")
 _KIND_RANK = {k: i for i, k in enumerate(KINDS)}
 
 RECORD_KEYS = ("record_id", "kind", "rev", "updated_at", "updated_by", "deleted", "exported_at",

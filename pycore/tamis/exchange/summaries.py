@@ -106,7 +106,7 @@ def compute_summary(rec: dict, index: dict, parts: FileParts | None = None) -> d
     out = {"d_mm": None, "cu": None, "fines_pct": None, "verdict": None, "failing_checks": [],
            "note": None, "core_version": None}
     test = rec["test"]
-    if rec["kind"] == "band":
+    if rec["kind"] in ("band", "lot"):
         return out
     if rec["deleted"]:
         out["note"] = "deleted record: not computed"
