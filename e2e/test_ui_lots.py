@@ -18,6 +18,7 @@ import pytest
 
 import helpers
 from test_demo_screens import open_demo
+from test_ui_a11y import assert_no_violations, targets_too_small
 from test_ui_common import go, wait_screen
 from tamis.exchange import lots_office as cli
 
@@ -104,6 +105,9 @@ def test_app_and_cli_show_the_same_figures_for_the_demo(phone, site):
     go(page, "#/lots")
     listed = page.eval_on_selector_all("#view .lot-list li", "(ls) => ls.map((l) => [l.dataset.lot, l.dataset.status])")
     assert listed == [[lot["lot"], lot["frequency"]["status"]] for lot in office["result"]["lots"]]
+    materials = page.eval_on_selector_all("#view .lot-materials .material-line", "(ls) => ls.map((l) => l.textContent)")
+    assert materials == [cli.material_line(m) for m in office["result"]["materials"]]
+    assert all(line in office["text"] for line in materials)
     for lot in office["result"]["lots"]:
         open_lot(page, lot["lot"])
         rows = page.eval_on_selector_all("#view .lot-tests tbody tr", """(trs) => trs.map((tr) =>
@@ -167,3 +171,20 @@ def test_lot_editor_mistyped_placement_corrected_and_kept_after_reload(phone, si
     text = page.locator("#view .lot-frequency").inner_text()
     assert "Placed 890 " in text and "of 6 needed" in text  # ceil(890 / 150) = 6, still 2 done
     assert "2026-10-14" in text  # the new day has no test either
+
+
+def test_lot_screens_pass_axe_and_have_large_targets_at_360(phone, site):
+    page = phone
+    open_demo(page, site)
+    go(page, "#/lots")
+    page.wait_for_selector("#view .lot-materials:not([hidden])")
+    assert_no_violations(page, "lots")
+    assert targets_too_small(page) == []
+    open_lot(page, "L11")
+    assert_no_violations(page, "lot L11")
+    assert targets_too_small(page) == []
+    page.get_by_role("link", name="Edit the lot").click()
+    page.wait_for_selector("#view .lot-editor")
+    assert_no_violations(page, "lot editor")
+    assert targets_too_small(page) == []
+    assert page.evaluate("() => document.documentElement.scrollWidth") <= 360

@@ -287,12 +287,17 @@ def lot_summary(records: list[dict], as_of: str | None, settings: dict, trends: 
         else:
             lot.tests.append((i, r))
     parts = FileParts(index)
-    out_lots = []
+    out_lots, by_material = [], {}
     all_lots = list(lots_by_id.values()) + list(virtual.values())
     for lot in all_lots:
         if only is not None and lot.record_id != only and lot.code != only:
             continue
-        out_lots.append(_one_lot(lot, index, parts, superseded, as_of, settings, trends, findings))
+        one, points, limits = _one_lot(lot, index, parts, superseded, as_of, settings, trends, findings)
+        out_lots.append(one)
+        got = by_material.setdefault(one["material"] or "", ([], []))
+        got[0].extend(points)
+        if limits:
+            got[1].append(limits)
     out_lots.sort(key=lambda x: (x["lot"] or "", x["lot_id"] or ""))
     if only is not None and not out_lots:
         raise InputError("unknown_lot", f"lot_id {only!r} names no lot in the records (give a lot's record id "
@@ -301,12 +306,16 @@ def lot_summary(records: list[dict], as_of: str | None, settings: dict, trends: 
     for x in out_lots:
         m = materials.setdefault(x["material"] or "", {"material": x["material"], "lots": 0, "tests": 0,
                                                        "open": 0, "ok": 0, "due": 0, "overdue": 0, "no_rule": 0,
-                                                       "warnings": 0})
+                                                       "warnings": 0, "drift": []})
         m["lots"] += 1
         m["tests"] += x["n_tests"]
         m["open"] += x["status"] == "open"
         m[x["frequency"]["status"]] += 1
         m["warnings"] += len(x["warnings"])
+    for key, (points, limits) in by_material.items():
+        if trends and limits and key in materials:  # the material's tests of every lot, in sampling order
+            materials[key]["drift"] = L.drift_warnings(sorted(points, key=_sort_key), limits[-1],
+                                                       settings["drift_k"], "material")
     due = [{"lot_id": x["lot_id"], "lot": x["lot"], "status": x["frequency"]["status"],
             "messages": [it["message"] for it in x["frequency"]["items"] if it["status"] != "ok"]}
            for x in out_lots if x["frequency"]["status"] in ("due", "overdue")]
@@ -365,13 +374,13 @@ def _one_lot(lot: _Lot, index, parts, superseded, as_of, settings, trends, findi
         out.update(tests=[{"record_id": p.record_id, "sample_id": p.sample_id, "sampled_at": p.sampled_at,
                            "stage": p.stage, "counted": p.counted} for p in points],
                    warnings=[], stages=[], limits={}, band_limits=[], pwl=[])
-        return out
+        return out, points, limits
     stages, warns = L.stage_comparison(points, limits.get("fines_max_pct"), settings["creep_margin_pct"],
                                        settings["d85_loss_share"])
     warns += L.drift_warnings(points, limits, settings["drift_k"])
     out.update(limits=limits, band_limits=band_rows, tests=[_point_dict(p, limits, band_rows) for p in points],
                stages=stages, warnings=warns, pwl=_pwl_rows(points, limits, band_rows))
-    return out
+    return out, points, limits
 
 
 def _first(points, lot, key):

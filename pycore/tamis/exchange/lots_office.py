@@ -68,9 +68,21 @@ def rule_text(rule) -> str:
     return ", ".join(parts) or "no testing rule"
 
 
+def material_line(m: dict) -> str:
+    """One material's lots in a line (the app's Lots screen shows the same words)."""
+    counts = [f"{m[k]} {w}" for k, w in (("ok", "up to date"), ("due", "due"), ("overdue", "overdue"),
+                                          ("no_rule", "without a rule")) if m[k]]
+    return (f"{m['material'] or 'material not named'}: {_count(m['lots'], 'lot')} ({m['open']} open), "
+            f"{_count(m['tests'], 'test')}; {', '.join(counts)}; {_count(m['warnings'], 'warning')}")
+
+
 def render(result: dict, file: str) -> str:
     out = [f"Lots in {file} (counted to {result['as_of'] or 'the latest day recorded'}): {_count(len(result['lots']), 'lot')}, "
            f"{_count(result['unassigned_tests'], 'test')} in no lot."]
+    for m in result["materials"]:
+        out.append(material_line(m))
+        for w in m["drift"]:
+            out.append(f"  WARNING: {w['message']}")
     for lot in result["lots"]:
         f = lot["frequency"]
         unit = lot["quantity_unit"] or ""

@@ -36,6 +36,15 @@ export async function summarise(fields = {}) {
   return { records, resp: await ask("lot_summary", { records, as_of: todayUtc(), ...fields }) };
 }
 
+const count = (n, word) => `${n} ${word}${n === 1 ? "" : "s"}`;
+
+/** One material's lots in a line, in the words `python -m tamis lots` prints. */
+export function materialLine(m) {
+  const counts = [["ok", "up to date"], ["due", "due"], ["overdue", "overdue"], ["no_rule", "without a rule"]]
+    .filter(([k]) => m[k]).map(([k, w]) => `${m[k]} ${w}`);
+  return `${m.material || "material not named"}: ${count(m.lots, "lot")} (${m.open} open), ${count(m.tests, "test")}; ${counts.join(", ")}; ${count(m.warnings, "warning")}`;
+}
+
 function statusPill(status) {
   const s = STATUS_WORDS[status] || { word: status, mark: "" };
   return h("span", { class: "pill lot-status", dataset: { status }, text: `${s.mark} ${s.word}`.trim() });
@@ -72,11 +81,12 @@ export async function dueWarning(box) {
 export async function lotsScreen(app, view) {
   const status = h("p", { class: "hint", role: "status", text: "Counting the lots…" });
   const list = h("ul", { class: "record-list lot-list", "aria-label": "Lots" });
+  const byMaterial = h("section", { class: "card lot-materials", "aria-label": "By material", hidden: true });
   fill(view, h("div", { class: "screen" },
     h("h1", { text: "Lots" }),
     h("p", { class: "hint", text: `Counted to ${todayUtc()} (UTC). Testing rules and margins are the project's; testing status is a reminder, not an acceptance.` }),
     h("div", { class: "actions" }, h("a", { class: "btn primary", href: "#/lotedit", text: "New lot" }), h("a", { class: "btn", href: "#/records", text: "Records" })),
-    status, list));
+    status, byMaterial, list));
   const { resp } = await summarise();
   if (!resp.ok) { status.textContent = errorText(resp); return; }
   const lots = resp.result.lots;
@@ -89,6 +99,12 @@ export async function lotsScreen(app, view) {
       l.frequency.status === "due" || l.frequency.status === "overdue"
         ? h("span", { class: "record-sub lot-due", text: l.frequency.items.filter((i) => i.status !== "ok").map((i) => i.message).join("; ") }) : null,
       l.warnings.length ? h("span", { class: "record-sub lot-warn", text: `⚠ ${l.warnings.map((w) => w.code.replace("_", " ")).join(", ")}` }) : null))));
+  if (resp.result.materials.length) {
+    fill(byMaterial, h("h2", { text: "By material" }), h("ul", { class: "warnings" }, resp.result.materials.map((m) =>
+      h("li", { dataset: { material: m.material || "" } }, h("span", { class: "material-line", text: materialLine(m) }),
+        m.drift.map((w) => h("p", { class: "lot-warn", dataset: { code: w.code }, text: `⚠ ${w.message}` }))))));
+    byMaterial.hidden = false;
+  }
   view.dataset.lots = String(lots.length);
 }
 
@@ -136,7 +152,7 @@ export async function lotPage(app, view, arg) {
 }
 
 function testsTable(lot) {
-  return h("div", { class: "table-scroll" }, h("table", { class: "lot-tests" },
+  return h("div", { class: "table-scroll", tabindex: "0", role: "region", "aria-label": "Tests of the lot (scrolls sideways)" }, h("table", { class: "lot-tests" },
     h("caption", { text: `${lot.n_tests} tests, ${lot.n_counted} counted; failed tests marked ✗` }),
     h("thead", {}, h("tr", {}, ["#", "Sample", "Date", "Stage", "Fines (%)", "D15 (mm)", "D85 (mm)", "Cu", "Verdict"].map((t) => h("th", { scope: "col", text: t })))),
     h("tbody", {}, lot.tests.map((t, i) => h("tr", { dataset: { sample: t.sample_id, failed: t.failed ? "1" : "0" }, class: t.failed ? "failed" : "" },
@@ -152,7 +168,7 @@ function testsTable(lot) {
 }
 
 function stagesTable(lot) {
-  return h("div", { class: "table-scroll" }, h("table", { class: "lot-stages" },
+  return h("div", { class: "table-scroll", tabindex: "0", role: "region", "aria-label": "Stage means (scrolls sideways)" }, h("table", { class: "lot-stages" },
     h("caption", { text: "Mean of each sampling stage" }),
     h("thead", {}, h("tr", {}, ["Stage", "Tests", "Fines (%)", "D15 (mm)", "D85 (mm)"].map((t) => h("th", { scope: "col", text: t })))),
     h("tbody", {}, lot.stages.map((s) => h("tr", { dataset: { stage: s.stage } },
@@ -161,7 +177,7 @@ function stagesTable(lot) {
 
 function pwlTable(lot) {
   const lim = (p) => `${p.lower != null ? pct(p.lower) : ""}–${p.upper != null ? pct(p.upper) : ""}`;
-  return h("div", { class: "table-scroll" }, h("table", { class: "lot-pwl-table" },
+  return h("div", { class: "table-scroll", tabindex: "0", role: "region", "aria-label": "Percent within limits (scrolls sideways)" }, h("table", { class: "lot-pwl-table" },
     h("caption", { text: "PWL by measure, with the number of tests n" }),
     h("thead", {}, h("tr", {}, ["Measure", "n", "Mean", "s", "Limits (%)", "PWL (%)"].map((t) => h("th", { scope: "col", text: t })))),
     h("tbody", {}, lot.pwl.map((p) => h("tr", { dataset: { measure: p.measure, opening: p.opening_mm ?? "" } },
@@ -222,7 +238,7 @@ export async function lotEditor(app, view, arg) {
       h("div", { class: "check-row" }, perDay, h("label", { for: perDay.id, text: "At least one test per day of placement" })),
       h("div", { class: "check-row" }, perSource, h("label", { for: perSource.id, text: "One test per change of source" }))),
     h("section", { class: "card" }, h("h2", { text: "Placed, day by day" }),
-      h("div", { class: "table-scroll" }, h("table", {}, h("thead", {}, h("tr", {}, ["Day", "Quantity", "Source", ""].map((t) => h("th", { scope: "col", text: t })))), rows)),
+      h("div", { class: "table-scroll", tabindex: "0", role: "region", "aria-label": "Placed, day by day (scrolls sideways)" }, h("table", {}, h("thead", {}, h("tr", {}, ["Day", "Quantity", "Source"].map((t) => h("th", { scope: "col", text: t })), h("th", { scope: "col" }, h("span", { class: "sr-only", text: "Remove" })))), rows)),
       h("button", { type: "button", class: "btn", text: "Add a day's placement", onclick: () => addRow().focus() })),
     h("section", { class: "card" }, field("Notes", notes).wrap),
     err,
