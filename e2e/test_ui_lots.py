@@ -108,6 +108,9 @@ def test_app_and_cli_show_the_same_figures_for_the_demo(phone, site):
     materials = page.eval_on_selector_all("#view .lot-materials .material-line", "(ls) => ls.map((l) => l.textContent)")
     assert materials == [cli.material_line(m) for m in office["result"]["materials"]]
     assert all(line in office["text"] for line in materials)
+    n = office["result"]["unassigned_tests"]
+    assert f"; {n} tests in no lot." in page.locator("#view .screen > p[role='status']").inner_text()
+    assert f", {n} tests in no lot." in office["text"].splitlines()[0]
     for lot in office["result"]["lots"]:
         open_lot(page, lot["lot"])
         rows = page.eval_on_selector_all("#view .lot-tests tbody tr", """(trs) => trs.map((tr) =>

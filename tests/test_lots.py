@@ -168,6 +168,18 @@ def test_lazy_migration_by_lot_code():
     assert any(w["code"] == "creep" for w in by["L11"]["warnings"])
 
 
+def test_a_lot_without_a_rule_takes_its_materials_rule():
+    recs = copy.deepcopy(demo.load_records())
+    l12 = next(r for r in recs if r["kind"] == "lot" and r["meta"]["lot"] == "L12")
+    del l12["meta"]["test_frequency"]
+    by = {x["lot"]: x for x in summary(recs, as_of="2026-12-02")["lots"]}
+    assert by["L12"]["rule"]["from"] == "material (lot L10)" and by["L12"]["frequency"]["status"] == "overdue"
+    assert by["L11"]["rule"]["from"] == "lot"
+    l12["meta"]["material"] = "another sand"
+    by = {x["lot"]: x for x in summary(recs, as_of="2026-12-02")["lots"]}
+    assert by["L12"]["rule"] is None and by["L12"]["frequency"]["status"] == "no_rule"
+
+
 def test_light_summary_same_frequency():
     recs = demo.load_records()
     full, light = summary(recs, as_of="2026-12-02"), summary(recs, as_of="2026-12-02", trends=False)

@@ -292,7 +292,8 @@ def lot_summary(records: list[dict], as_of: str | None, settings: dict, trends: 
     for lot in all_lots:
         if only is not None and lot.record_id != only and lot.code != only:
             continue
-        one, points, limits = _one_lot(lot, index, parts, superseded, as_of, settings, trends, findings)
+        one, points, limits = _one_lot(lot, index, parts, superseded, as_of, settings, trends, findings,
+                                       _material_rule(lot, all_lots))
         out_lots.append(one)
         got = by_material.setdefault(one["material"] or "", ([], []))
         got[0].extend(points)
@@ -325,11 +326,32 @@ def lot_summary(records: list[dict], as_of: str | None, settings: dict, trends: 
     return result, findings
 
 
-def _one_lot(lot: _Lot, index, parts, superseded, as_of, settings, trends, findings) -> dict:
+def _material_rule(lot: _Lot, all_lots) -> tuple | None:
+    """For a lot without a testing rule: the rule of the first lot (by code) of the same material that has
+    one, as ``(meta, path, code)``; None when the lot has its own rule or no such lot exists. The project's
+    rule is per material; a lot may state its own."""
+    if lot.meta.get("test_frequency") is not None:
+        return None
+    mat = lot.meta.get("material")
+    if not isinstance(mat, str) or not mat.strip():
+        return None
+    for other in sorted((x for x in all_lots if x.path is not None), key=lambda x: (x.code or "", x.record_id)):
+        if other is not lot and other.meta.get("material") == mat and other.meta.get("test_frequency") is not None:
+            return other.meta["test_frequency"], join(join(other.path, "meta"), "test_frequency"), other.code
+    return None
+
+
+def _one_lot(lot: _Lot, index, parts, superseded, as_of, settings, trends, findings, inherited=None) -> dict:
     meta, path = lot.meta, lot.path or "lot"
     mp = join(path, "meta")
     unit = _unit(meta, "quantity_unit", mp)
-    rule = parse_rule(meta.get("test_frequency"), join(mp, "test_frequency"))
+    rule_path = join(mp, "test_frequency")
+    rule_from = "lot" if meta.get("test_frequency") is not None else None
+    rule_obj = meta.get("test_frequency")
+    if inherited is not None:
+        rule_obj, rule_path, code = inherited
+        rule_from = f"material (lot {code})"
+    rule = parse_rule(rule_obj, rule_path)
     if rule is not None and rule.quantity_unit is not None and unit is not None and rule.quantity_unit != unit:
         raise InputError("unit_mismatch", f"{join(mp, 'test_frequency.quantity_unit')} is {rule.quantity_unit} "
                          f"but the lot counts {unit}.", join(mp, "test_frequency.quantity_unit"))
@@ -368,7 +390,7 @@ def _one_lot(lot: _Lot, index, parts, superseded, as_of, settings, trends, findi
            "represented_quantity": _represented(points, unit),
            "rule": None if rule is None else {"per_quantity": rule.per_quantity, "quantity_unit": rule.quantity_unit,
                                               "per_day": rule.per_day, "per_source": rule.per_source,
-                                              "example": rule.example},
+                                              "example": rule.example, "from": rule_from},
            "frequency": freq.to_dict(), "n_tests": len(points), "n_counted": sum(p.counted for p in points)}
     if not trends:
         out.update(tests=[{"record_id": p.record_id, "sample_id": p.sample_id, "sampled_at": p.sampled_at,

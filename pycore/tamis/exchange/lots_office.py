@@ -65,7 +65,10 @@ def rule_text(rule) -> str:
         parts.append("1 per day of placement")
     if rule["per_source"]:
         parts.append("1 per source")
-    return ", ".join(parts) or "no testing rule"
+    text = ", ".join(parts) or "no testing rule"
+    if rule.get("from", "lot") not in (None, "lot"):
+        text += f"; the rule of its {rule['from']}"
+    return text
 
 
 def material_line(m: dict) -> str:

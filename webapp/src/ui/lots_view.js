@@ -30,10 +30,20 @@ const STAGE_WORDS = { stockpile: "stockpile", delivery: "delivery", loose_in_lif
 
 export const lotName = (r) => [r.meta?.lot ? `Lot ${r.meta.lot}` : null, r.meta?.material].filter(Boolean).join(" · ") || r.record_id.slice(0, 8);
 
-/** lot_summary over every record on the device. */
-export async function summarise(fields = {}) {
-  const records = await listRecords({ includeDeleted: true });
-  return { records, resp: await ask("lot_summary", { records, as_of: todayUtc(), ...fields }) };
+const inLot = (r) => r.kind === "lot" || (r.kind === "test" && Boolean(r.meta?.lot_id || r.meta?.lot));
+
+/**
+ * lot_summary over the device's lots, their tests and the bands and base soils
+ * (only what the op reads is sent, so a device with thousands of tests in no
+ * lot is not slowed). The tests in no lot are counted here, as the op would.
+ */
+export async function summarise(fields = {}, { trends = true } = {}) {
+  const all = await listRecords({ includeDeleted: true });
+  // retests are sent too: a retest replaces its original in the counts even when it names no lot
+  const records = all.filter((r) => inLot(r) || (r.kind === "test" && r.meta?.retest_of) || (trends && (r.kind === "band" || r.kind === "base")));
+  const resp = await ask("lot_summary", { records, as_of: todayUtc(), ...(trends ? {} : { trends: false }), ...fields });
+  if (resp.ok) resp.result.unassigned_tests = all.filter((r) => r.kind === "test" && !r.deleted && !inLot(r)).length;
+  return { records, resp };
 }
 
 const count = (n, word) => `${n} ${word}${n === 1 ? "" : "s"}`;
@@ -56,7 +66,8 @@ function ruleText(rule) {
   if (rule.per_quantity != null) parts.push(`1 per ${qty(rule.per_quantity)} ${rule.quantity_unit}`);
   if (rule.per_day) parts.push("1 per day of placement");
   if (rule.per_source) parts.push("1 per source");
-  return parts.join(", ") || "no testing rule";
+  const text = parts.join(", ") || "no testing rule";
+  return rule.from && rule.from !== "lot" ? `${text}; the rule of its ${rule.from}` : text;
 }
 
 /**
@@ -64,9 +75,8 @@ function ruleText(rule) {
  * without trends: only counting). Fills `box` and resolves with the due list.
  */
 export async function dueWarning(box) {
-  const records = await listRecords({ includeDeleted: true });
-  if (!records.some((r) => r.kind === "lot" || (r.kind === "test" && (r.meta?.lot || r.meta?.lot_id)))) { box.hidden = true; return []; }
-  const resp = await ask("lot_summary", { records, as_of: todayUtc(), trends: false });
+  const { records, resp } = await summarise({}, { trends: false });
+  if (!records.length) { box.hidden = true; return []; }
   if (!resp.ok) { fill(box, h("p", { class: "core-error", text: `Lots could not be counted: ${errorText(resp)}` })); box.hidden = false; return []; }
   const due = resp.result.due;
   if (!due.length) { box.hidden = true; return []; }
