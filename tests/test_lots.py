@@ -265,3 +265,14 @@ def test_cli_bad_lot_field_names_the_row(tmp_path):
     f.write_text(out, encoding="utf-8", newline="")
     r = _cli(str(f))
     assert r.returncode == 2 and "Row " in r.stderr and "meta.status" in r.stderr
+
+
+def test_the_same_record_twice_counts_once_and_a_clash_is_refused():
+    recs = demo.load_records()
+    l12 = next(r for r in recs if r["kind"] == "test" and r["meta"]["sample_id"] == "Q-1005-1")
+    twice = summary(recs + [copy.deepcopy(l12)], as_of="2026-12-02")
+    assert next(x for x in twice["lots"] if x["lot"] == "L12")["n_tests"] == 2
+    other = copy.deepcopy(l12)
+    other["meta"]["ticket"] = "QB-99999"
+    resp = json.loads(api.handle(json.dumps({"op": "lot_summary", "records": recs + [other]})))
+    assert resp["error"]["code"] == "duplicate_id" and resp["error"]["field"] == f"records[{len(recs)}].record_id"

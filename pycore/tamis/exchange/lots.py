@@ -22,13 +22,13 @@ import re
 
 from .. import SCREENING_NOTICE
 from ..checks import Finding
-from ..errors import InputError, join, number, require_mapping
+from ..errors import InputError, join, number, require_list, require_mapping
 from ..lab.reduction import reduce_test
 from ..project import lots as L
 from ..project.evaluate import evaluate_reduced
 from ..project.pwl import NOTICE as PWL_NOTICE
 from ..project.pwl import pwl
-from .record import check_records
+from .record import check_record, content_key
 from .summaries import FileParts, error_note
 
 _DAY_RE = re.compile(r"\d{4}-\d{2}-\d{2}", re.ASCII)
@@ -455,11 +455,29 @@ def _pwl_rows(points, limits, band_rows) -> list[dict]:
     return rows
 
 
+def _check_all(recs) -> list[dict]:
+    """Every record's shape checked (:func:`tamis.exchange.record.check_record`, errors at
+    ``records[i]...``), without the plain-JSON and U+FFFD scans: a request is parsed JSON already, and
+    nothing here is written out (those scans are for the export, and cost most of the check)."""
+    out, seen = [], {}
+    for i, r in enumerate(require_list(recs, "records")):
+        rec = check_record(r, f"records[{i}]", check_json=False)
+        j = seen.get(rec["record_id"])
+        if j is not None:  # as check_records: the same id twice is the same record, or an error
+            if content_key(out[j]) == content_key(rec):
+                continue
+            raise InputError("duplicate_id", f"records[{i}].record_id repeats the id of records[{j}] with "
+                                             "different content.", f"records[{i}].record_id")
+        seen[rec["record_id"]] = len(out)
+        out.append(rec)
+    return out
+
+
 def op_lot_summary(req: dict):
     """API op ``lot_summary``: ``{"records": [...], "as_of": "YYYY-MM-DD"?, "lot_id"?, "trends"?,
     "settings"?}`` -> every lot (or one) with its frequency status, tests, trends, stage comparison,
     warnings and PWL (docs/json-contract.md)."""
-    recs = check_records(req.get("records"), "records")
+    recs = _check_all(req.get("records"))
     as_of = req.get("as_of")
     if as_of is not None:
         as_of = _day(as_of, "as_of")
