@@ -70,7 +70,7 @@ def test_lot_l11_creep_and_chart_and_l12_due_on_records(phone, site):
     assert "Lot L12" in text and "6 tests needed" in text and "2026-10-06" in text
 
     # The inspector follows the warning's link, then opens lot L11 from the list of lots.
-    warn.get_by_role("link", name="Lot L12").click()
+    warn.get_by_role("link", name="Open lot L12").click()
     page.wait_for_selector("#view .lot-page[data-lot='L12'][data-status='overdue']")
     open_lot(page, "L11")
     creep = page.locator("#view .lot-warnings li[data-code='creep']")
@@ -191,3 +191,41 @@ def test_lot_screens_pass_axe_and_have_large_targets_at_360(phone, site):
     assert_no_violations(page, "lot editor")
     assert targets_too_small(page) == []
     assert page.evaluate("() => document.documentElement.scrollWidth") <= 360
+
+
+def test_a_missing_test_taken_for_lot_l12_counts_toward_it(phone, site):
+    """The inspector sees L12 behind, sieves a sample of it, gives the lot, the quantity (a slip corrected)
+    and the ticket in the test's details, saves, and the lot counts one test more."""
+    from test_ui_common import enter_sample, save_test
+
+    page = phone
+    open_demo(page, site)
+    # an existing test shows its lot, quantity and ticket in the editor
+    open_lot(page, "L12")
+    assert "tests counted 2 of 6 needed" in page.locator("#view .lot-quantity").inner_text()
+    page.locator("#view .lot-tests tr[data-sample='Q-1005-1'] a").click()
+    page.wait_for_selector("#view[data-screen='record']")
+    page.get_by_role("link", name="Edit").click()
+    page.wait_for_selector("#view[data-screen='entry']")
+    page.locator("summary", has_text="Sample details").click()
+    assert page.get_by_label("Lot", exact=True).locator("option:checked").inner_text().startswith("Lot L12")
+    assert page.get_by_label("Quantity it represents").input_value() == "150"
+    assert page.get_by_label("Delivery ticket or truck").input_value() == "QB-40502"
+
+    enter_sample(page)  # a new test, typed from the balance
+    page.locator("summary", has_text="Sample details").click()
+    page.get_by_label("Lot", exact=True).select_option(label="Lot L12 · Zone 2 fine filter sand")
+    page.get_by_label("Sampling point").select_option("delivery")
+    qty = page.get_by_label("Quantity it represents")
+    qty.fill("14O")
+    assert "Type a number" in page.locator(f"#{qty.get_attribute('id')}-err").inner_text()
+    qty.fill("140")
+    page.get_by_label("Delivery ticket or truck").fill("QB-40611")
+    save_test(page)
+    page.wait_for_selector("#view[data-screen='record'] .lot-link")
+    assert "represents 140 m³ · ticket QB-40611" in page.locator("#view .lot-link").inner_text()
+    page.locator("#view .lot-link a").click()
+    page.wait_for_selector("#view .lot-page[data-lot='L12']")
+    wait_screen(page)
+    assert "tests counted 3 of 6 needed" in page.locator("#view .lot-quantity").inner_text()
+    assert page.get_attribute("#view .lot-page", "data-status") == "overdue"  # still 3 short

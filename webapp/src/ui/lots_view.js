@@ -82,8 +82,9 @@ export async function dueWarning(box) {
   if (!due.length) { box.hidden = true; return []; }
   fill(box, h("h2", { text: "Testing due" }),
     h("ul", { class: "warnings" }, due.map((d) => h("li", { dataset: { lot: d.lot, status: d.status } },
-      h("a", { href: `#/lot/${encodeURIComponent(d.lot_id || d.lot)}`, text: `Lot ${d.lot}` }), ": ", statusPill(d.status),
-      h("span", { text: ` ${d.messages.join("; ")}.` })))));
+      h("strong", { text: `Lot ${d.lot}: ` }), statusPill(d.status),
+      h("span", { text: ` ${d.messages.join("; ")}.` }),
+      h("div", { class: "actions" }, h("a", { class: "btn", href: `#/lot/${encodeURIComponent(d.lot_id || d.lot)}`, text: `Open lot ${d.lot}` }))))));
   box.hidden = false;
   return due;
 }
