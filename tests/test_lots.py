@@ -276,3 +276,35 @@ def test_the_same_record_twice_counts_once_and_a_clash_is_refused():
     other["meta"]["ticket"] = "QB-99999"
     resp = json.loads(api.handle(json.dumps({"op": "lot_summary", "records": recs + [other]})))
     assert resp["error"]["code"] == "duplicate_id" and resp["error"]["field"] == f"records[{len(recs)}].record_id"
+
+
+@pytest.mark.parametrize("settings, field", [
+    ({"creep_margin": 1.0}, "settings.creep_margin"),
+    ({"drift_k": 1}, "settings.drift_k"),
+    ({"drift_k": 2.5}, "settings.drift_k"),
+    ({"d85_loss_share": 1.5}, "settings.d85_loss_share"),
+    ({"creep_margin_pct": -1}, "settings.creep_margin_pct"),
+])
+def test_bad_settings_name_their_field(settings, field):
+    resp = json.loads(api.handle(json.dumps({"op": "lot_summary", "records": [], "settings": settings})))
+    assert not resp["ok"] and resp["error"]["field"] == field
+
+
+def test_settings_change_the_creep_verdict():
+    recs = demo.load_records()
+    wide = summary(recs, lot_id="L11", settings={"creep_margin_pct": 2.0})["lots"][0]
+    # 1.5 points is inside a 2-point margin, but the compacted fines still pass the limit the delivered sand met
+    creep = [w for w in wide["warnings"] if w["code"] == "creep"]
+    assert creep and "margin" not in creep[0]["message"].split(";")[0] and creep[0]["crossed_limit"]
+    assert summary(recs, lot_id="L11", settings={"drift_k": 4})["lots"][0]["warnings"][1:] == []
+
+
+def test_frequency_presets_are_examples():
+    resp = json.loads(api.handle(json.dumps({"op": "frequency_presets"})))
+    assert resp["ok"] and all(p["example"] and p["label"].startswith("Example") for p in resp["result"]["presets"])
+    assert "not standards" in resp["result"]["note"]
+
+
+def test_unknown_lot_id():
+    resp = json.loads(api.handle(json.dumps({"op": "lot_summary", "records": demo.load_records(), "lot_id": "L99"})))
+    assert resp["error"]["code"] == "unknown_lot" and resp["error"]["field"] == "lot_id"
