@@ -314,7 +314,7 @@ def lot_summary(records: list[dict], as_of: str | None, settings: dict, trends: 
         m[x["frequency"]["status"]] += 1
         m["warnings"] += len(x["warnings"])
     for key, (points, limits) in by_material.items():
-        if trends and limits and key in materials:  # the material's tests of every lot, in sampling order
+        if trends and only is None and limits and key in materials:  # the material's tests of every lot, in order
             materials[key]["drift"] = L.drift_warnings(sorted(points, key=_sort_key), limits[-1],
                                                        settings["drift_k"], "material")
     due = [{"lot_id": x["lot_id"], "lot": x["lot"], "status": x["frequency"]["status"],

@@ -334,7 +334,8 @@ def drift_warnings(tests: list[TestPoint], limits: dict, k: int, subject: str = 
     if _toward(fines, fmax, k):
         out.append({"code": "drift", "measure": "fines_pct", "limit": fmax, "k": k,
                     "tests": [t.sample_id for t in seq[-k:]],
-                    "message": f"Fines drift: the last {k} tests of this {subject} rise toward the {fmax:g} % limit "
+                    "message": f"Fines drift: the last {k} tests of this {subject} rise "
+                               f"{'to and past' if fines[-1] > fmax else 'toward'} the {fmax:g} % limit "
                                f"({', '.join(f'{v:.1f}' for v in fines[-k:])} %)."})
     d15 = [t.d15_mm for t in seq if t.d15_mm is not None]
     d15_tests = [t for t in seq if t.d15_mm is not None]
@@ -347,7 +348,8 @@ def drift_warnings(tests: list[TestPoint], limits: dict, k: int, subject: str = 
                 out.append({"code": "drift", "measure": "d15_mm", "limit": lim, "k": k,
                             "tests": [t.sample_id for t in d15_tests[-k:]],
                             "message": f"D15 drift: the last {k} tests of this {subject} move toward {name} "
-                                       f"{lim:.3g} mm ({', '.join(f'{v:.3g}' for v in d15[-k:])} mm)."})
+                                       f"{lim:.3g} mm ({', '.join(f'{v:.3g}' for v in d15[-k:])} mm)"
+                                       + (", and past it." if (d15[-1] > lim if lim == hi else d15[-1] < lim) else ".")})
     return out
 
 

@@ -49,8 +49,12 @@ export function renderTrend(box, lot, m) {
   let lo = Math.min(...all);
   let hi = Math.max(...all);
   if (hi === lo) { hi += 1; lo = Math.max(0, lo - 1); }
-  const pad = (hi - lo) * 0.08;
-  lo = Math.max(0, lo - pad); hi += pad;
+  // Round ticks: a step of 1, 2 or 5 times a power of ten, about four of them.
+  const raw = (hi - lo) / 4;
+  const p10 = 10 ** Math.floor(Math.log10(raw));
+  const step = [1, 2, 5, 10].map((k) => k * p10).find((k) => k >= raw);
+  lo = Math.max(0, Math.floor(lo / step) * step); hi = Math.ceil(hi / step) * step;
+  if (hi - m.limits.reduce((a, l) => Math.max(a, l.value), -Infinity) < step / 4) hi += step; // room for a limit's tag
   const pw = W - M.left - M.right;
   const ph = H - M.top - M.bottom;
   const n = tests.length;
@@ -61,8 +65,8 @@ export function renderTrend(box, lot, m) {
   const failed = tests.filter((t) => t.failed).map((t) => t.sample_id);
   svg.append(h("svg:desc", { id: "trend-desc", text: `${m.label}${m.unit ? ` (${m.unit})` : ""} of ${n} tests in sampling order${m.limits.length ? `, against ${m.limits.map((l) => l.name).join(" and ")}` : ""}. ${failed.length ? `Failed: ${failed.join(", ")}.` : "No test failed."} The same numbers are in the table below.` }));
   const grid = h("svg:g", { class: "grid" });
-  for (let k = 0; k <= 4; k += 1) {
-    const v = lo + ((hi - lo) * k) / 4;
+  for (let k = 0; lo + k * step <= hi + step / 1e6; k += 1) {
+    const v = lo + k * step;
     grid.append(h("svg:line", { x1: M.left, x2: W - M.right, y1: y(v), y2: y(v) }));
     grid.append(h("svg:text", { x: M.left - 4, y: y(v) + 4, class: "tick ytick", text: show(v) }));
   }
