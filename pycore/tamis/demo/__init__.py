@@ -193,7 +193,7 @@ def _lot_lines(records: list[dict]) -> list[str]:
     for lot in r["result"]["lots"]:
         f = lot["frequency"]
         out.append(f"   lot {lot['lot']:<4} {lot['status']:<6} {words[f['status']]}: {f['tests_counted']} tests counted"
-                   + (f" of {f['tests_required']} needed" if f["tests_required"] is not None else ""))
+                   + (f", {f['tests_required']} needed" if f["tests_required"] is not None else ""))
         for it in f["items"]:
             if it["status"] != "ok":
                 out.append(f"      {it['status']}: {it['message']}")

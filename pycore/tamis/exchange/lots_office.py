@@ -94,7 +94,7 @@ def render(result: dict, file: str) -> str:
                    f"{STATUS_WORDS[f['status']]}")
         out.append(f"  placed {qty(lot['placed_quantity'])} {unit} of {qty(lot['planned_quantity'])} {unit} planned; "
                    f"tests counted {f['tests_counted']}"
-                   + (f" of {f['tests_required']} needed" if f["tests_required"] is not None else "")
+                   + (f", {f['tests_required']} needed" if f["tests_required"] is not None else "")
                    + f" ({rule_text(lot['rule'])})")
         for it in f["items"]:
             if it["status"] != "ok":

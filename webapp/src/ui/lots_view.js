@@ -144,7 +144,7 @@ export async function lotPage(app, view, arg) {
       h("a", { class: "btn", href: "#/lots", text: "All lots" })),
     h("section", { class: "card lot-frequency", "aria-label": "Testing frequency" },
       h("h2", {}, "Testing ", statusPill(f.status)),
-      h("p", { class: "lot-quantity", text: `Placed ${qty(lot.placed_quantity)} ${unit} of ${qty(lot.planned_quantity)} ${unit} planned${f.quantity_from === "tests" ? " (from the tests' quantities: no placements logged)" : ""}; tests counted ${f.tests_counted}${f.tests_required != null ? ` of ${f.tests_required} needed` : ""}.` }),
+      h("p", { class: "lot-quantity", text: `Placed ${qty(lot.placed_quantity)} ${unit} of ${qty(lot.planned_quantity)} ${unit} planned${f.quantity_from === "tests" ? " (from the tests' quantities: no placements logged)" : ""}; tests counted ${f.tests_counted}${f.tests_required != null ? `, ${f.tests_required} needed` : ""}.` }),
       h("p", { class: "hint", text: `Rule: ${ruleText(lot.rule)}${lot.rule?.example ? " (an example rule, not a standard)" : ""}. Counted to ${resp.result.as_of}. Stockpile tests and tests replaced by a retest are not counted.` }),
       f.items.length ? h("ul", { class: "warnings" }, f.items.map((i) => h("li", { dataset: { status: i.status, rule: i.rule } }, h("strong", { text: `${STATUS_WORDS[i.status]?.mark || ""} ${i.status === "ok" ? "" : i.status.toUpperCase() + ": "}` }), i.message))) : null),
     lot.warnings.length ? h("section", { class: "card lot-warnings", role: "alert", "aria-label": "Warnings" },
