@@ -75,8 +75,9 @@ function ruleText(rule) {
  * without trends: only counting). Fills `box` and resolves with the due list.
  */
 export async function dueWarning(box) {
-  const { records, resp } = await summarise({}, { trends: false });
-  if (!records.length) { box.hidden = true; return []; }
+  const all = await listRecords({ includeDeleted: true });
+  if (!all.some(inLot)) { box.hidden = true; return []; } // no lot on the device: nothing is asked of the core
+  const { resp } = await summarise({}, { trends: false });
   if (!resp.ok) { fill(box, h("p", { class: "core-error", text: `Lots could not be counted: ${errorText(resp)}` })); box.hidden = false; return []; }
   const due = resp.result.due;
   if (!due.length) { box.hidden = true; return []; }
