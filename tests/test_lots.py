@@ -308,3 +308,9 @@ def test_frequency_presets_are_examples():
 def test_unknown_lot_id():
     resp = json.loads(api.handle(json.dumps({"op": "lot_summary", "records": demo.load_records(), "lot_id": "L99"})))
     assert resp["error"]["code"] == "unknown_lot" and resp["error"]["field"] == "lot_id"
+
+
+def test_office_check_counts_the_lots():
+    r = subprocess.run([sys.executable, "-m", "tamis", "check", str(DEMO_CSV)], capture_output=True, text=True,
+                       cwd=ROOT)
+    assert r.returncode == 0 and "20 tests, 2 bands, 5 base soils, 4 lots; 0 deleted" in r.stdout
