@@ -244,7 +244,7 @@ def floats_only(obj):
 
 
 def row_order(rec: dict):
-    """Rows are written by kind (bands, base soils, tests), then record id."""
+    """Rows are written by kind (bands, base soils, lots, tests), then record id."""
     return (_KIND_RANK[rec["kind"]], rec["record_id"])
 
 
