@@ -370,7 +370,8 @@ def build_records() -> list[dict]:
     for row in DRAIN_TESTS:
         delivery(row, DRAIN_STACK_MM, "TD-03", lambda zone: "F1-MEAN")
 
-    # Lot L11 was followed from the stockpile to the compacted lift.
+    # Lot L11 was followed from the stockpile to the compacted lift (its tests carry the lot code;
+    # the lot records below are made last, so every earlier record keeps its id).
     for sid in ("Q-L11-SP", "Q-L11-DL", "Q-L11-CP"):
         recs[sid]["meta"]["lot"] = "L11"
     # The retest points at the test it replaces.
@@ -386,7 +387,68 @@ def build_records() -> list[dict]:
          "changes": [{"field": "test.sieves[3].retained_g", "old": _round1(wrong),
                       "new": r["test"]["sieves"][3]["retained_g"]}]},
     ]
+    lots(recs, ids)
     return list(recs.values())
+
+
+# ---------------------------------------------------------------------------
+# Lots: quantities placed, the testing rule, the tests of each lot
+# ---------------------------------------------------------------------------
+
+#: The demo's testing rules: invented for the demo, in the form of the examples of
+#: ``tamis.project.lots.FREQUENCY_EXAMPLES`` (examples, not standards).
+SAND_RULE = {"per_quantity": 150.0, "quantity_unit": "m3", "per_day": True, "per_source": True}
+GRAVEL_RULE = {"per_quantity": 300.0, "quantity_unit": "t", "per_day": False, "per_source": True}
+
+#: code, material, zone, source, band, base, unit, planned quantity, status, rule,
+#: placements (day, quantity), tests (sample id, quantity represented, ticket), notes.
+LOTS = (
+    ("L10", "Zone 2 fine filter sand", "2 chimney", QUELLBROOK, "TD-02", "CORE-C1", "m3", 900.0, "closed", SAND_RULE,
+     (("2026-09-07", 150.0), ("2026-09-09", 140.0), ("2026-09-11", 150.0), ("2026-09-14", 145.0),
+      ("2026-09-16", 150.0), ("2026-09-23", 135.0)),
+     (("Q-0907-1", 150.0, "QB-40117"), ("Q-0909-1", 140.0, "QB-40162"), ("Q-0911-1", 150.0, "QB-40208"),
+      ("Q-0914-1", 145.0, "QB-40251"), ("Q-0916-1", 150.0, "QB-40297"), ("Q-0916-1R", 150.0, "QB-40297"),
+      ("Q-0923-1", 135.0, "QB-40385")),
+     "Chimney lifts 1 to 7, closed on 23 September."),
+    ("L11", "Zone 2 fine filter sand", "2 chimney", QUELLBROOK, "TD-02", "CORE-C1", "m3", 300.0, "open", SAND_RULE,
+     (("2026-09-29", 140.0),),
+     (("Q-L11-SP", None, None), ("Q-L11-DL", 140.0, "QB-40431"), ("Q-L11-CP", 140.0, "QB-40431")),
+     "Followed from stockpile B to the compacted lift 8."),
+    ("L12", "Zone 2 fine filter sand", "2 chimney", QUELLBROOK, "TD-02", "CORE-C1", "m3", 900.0, "open", SAND_RULE,
+     (("2026-10-05", 150.0), ("2026-10-06", 160.0), ("2026-10-08", 150.0), ("2026-10-12", 140.0),
+      ("2026-10-13", 170.0)),
+     (("Q-1005-1", 150.0, "QB-40502"), ("Q-1012-1", 140.0, "QB-40588")),
+     "Chimney lifts 9 to 11; night shifts placed sand without the technician."),
+    ("G1", "Zone 3 drain gravel", "3 drain", SARNET, "TD-03", "F1-MEAN", "t", 2000.0, "open", GRAVEL_RULE,
+     (("2026-09-08", 290.0), ("2026-09-15", 300.0), ("2026-09-22", 280.0), ("2026-09-30", 295.0),
+      ("2026-10-07", 300.0), ("2026-10-14", 290.0)),
+     (("D-0908-1", 290.0, "SR-7713"), ("D-0915-1", 300.0, "SR-7748"), ("D-0922-1", 280.0, "SR-7790"),
+      ("D-0930-1", 295.0, "SR-7826"), ("D-1007-1", 300.0, "SR-7861"), ("D-1014-1", 290.0, "SR-7899")),
+     "Toe drain, lifts 1 to 5."),
+)
+
+
+def lots(recs: dict, ids) -> None:
+    """Add the lot records (after every other record, so the others keep their ids) and link their tests:
+    ``meta.lot_id`` (the lot record), ``meta.lot`` (its code), the quantity each test represents and the
+    delivery ticket."""
+    for (code, material, zone, source, band_key, base_key, unit, planned, status, rule, placed, tests,
+         notes) in LOTS:
+        meta = {"lot": code, "sample_id": code, "material": material, "zone": zone, "source": source,
+                "band_id": recs[band_key]["record_id"], "base_id": recs[base_key]["record_id"],
+                "quantity_unit": unit, "planned_quantity": planned, "status": status,
+                "test_frequency": dict(rule),
+                "placements": [{"date": d, "quantity": q} for d, q in placed], "notes": notes}
+        lot = recs["lot:" + code] = _record(next(ids), "lot", "2026-09-01T07:30:00Z", "IMO", meta)
+        for sid, qty, ticket in tests:
+            m = recs[sid]["meta"]
+            m["lot"] = code
+            m["lot_id"] = lot["record_id"]
+            if qty is not None:
+                m["quantity"] = qty
+                m["quantity_unit"] = unit
+            if ticket is not None:
+                m["ticket"] = ticket
 
 
 # ---------------------------------------------------------------------------

@@ -91,6 +91,7 @@ def test_generation_is_deterministic():
 def test_scenario_size_and_markers():
     kinds = [r["kind"] for r in RECORDS]
     assert kinds.count("test") == 20 and kinds.count("band") == 2 and kinds.count("base") == 5
+    assert kinds.count("lot") == 4
     assert all(demo.is_demo(r) for r in RECORDS)
     ids = [r["record_id"] for r in RECORDS]
     assert len(set(ids)) == len(ids)

@@ -38,7 +38,7 @@ def json_summary(rec: dict, index: dict) -> dict:
            "reasons": [], "advisory": [], "passing": [], "band_name": None, "base_name": None,
            "note": None, "core_version": None}
     test = rec["test"]
-    if rec["kind"] == "band":
+    if rec["kind"] in ("band", "lot"):  # a lot has no gradation of its own
         return out
     if rec["deleted"]:
         out["note"] = "deleted record: not computed"

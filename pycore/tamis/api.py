@@ -48,6 +48,9 @@ OPS: dict[str, str] = {
     "records_import_csv": "tamis.exchange.ops:op_import_csv",
     "records_merge": "tamis.exchange.ops:op_merge",
     "report_html": "tamis.exchange.report_html:op_report_html",
+    "lot_summary": "tamis.exchange.lots:op_lot_summary",
+    "frequency_presets": "tamis.exchange.lots:op_frequency_presets",
+    "pwl": "tamis.project.pwl:op_pwl",
 }
 
 

@@ -31,6 +31,7 @@ OTHER_COMMANDS = {
     "merge": ("tamis.exchange.office", "merge CSV exchange files from several devices into one"),
     "report": ("tamis.exchange.office", "recompute every verdict in a CSV file and print a summary"),
     "check": ("tamis.exchange.office", "validate a CSV exchange file without writing anything"),
+    "lots": ("tamis.exchange.lots_office", "the lots of a CSV file: testing frequency, trends, warnings, PWL"),
     "demo": ("tamis.demo", "a short tour of the demo project"),
 }
 

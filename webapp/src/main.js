@@ -14,6 +14,7 @@ import { refsScreen, bandEditor, baseEditor } from "./ui/refs.js";
 import { exchangeScreen, openDemo } from "./ui/exchange.js";
 import { settingsScreen, applyTheme } from "./ui/settings_view.js";
 import { reportScreen } from "./ui/report_view.js";
+import { lotsScreen, lotPage, lotEditor } from "./ui/lots_view.js";
 
 const view = document.getElementById("view");
 const bootLine = document.getElementById("boot-status");
@@ -92,6 +93,9 @@ const ROUTES = {
   base: (arg) => baseEditor(app, view, arg),
   exchange: () => exchangeScreen(app, view, app.nav),
   settings: () => settingsScreen(app, view),
+  lots: () => lotsScreen(app, view),
+  lot: (arg) => lotPage(app, view, arg),
+  lotedit: (arg) => lotEditor(app, view, arg),
   welcome: () => welcomeScreen(),
 };
 
@@ -104,7 +108,7 @@ async function render() {
     try { f(); } catch (err) { console.error(err); }
   }
   for (const a of document.querySelectorAll("nav a")) {
-    if (a.dataset.route === route || ((route === "record" || route === "report") && a.dataset.route === "records")) a.setAttribute("aria-current", "page");
+    if (a.dataset.route === route || (["record", "report", "lots", "lot", "lotedit"].includes(route) && a.dataset.route === "records")) a.setAttribute("aria-current", "page");
     else a.removeAttribute("aria-current");
   }
   view.dataset.screen = route;

@@ -182,6 +182,26 @@ def _delivery_lines(records: list[dict], by_id: dict) -> tuple[list[str], dict]:
     return out, fines_by_lot
 
 
+def _lot_lines(records: list[dict]) -> list[str]:
+    """Each lot's testing status and warnings, from the ``lot_summary`` op (counted to the last day recorded,
+    so the tour does not change with the date; the app and ``python -m tamis lots`` count to today)."""
+    r = call({"schema": 1, "op": "lot_summary", "id": "tour", "records": records})
+    if not r.get("ok"):
+        return [f"4. Lots: error: {r['error'].get('field')}: {r['error'].get('message')}"]
+    words = {"ok": "testing up to date", "due": "test due", "overdue": "TESTING OVERDUE", "no_rule": "no testing rule"}
+    out = ["4. Lots: testing frequency and warnings (python -m tamis lots FILE.csv for the whole summary)"]
+    for lot in r["result"]["lots"]:
+        f = lot["frequency"]
+        out.append(f"   lot {lot['lot']:<4} {lot['status']:<6} {words[f['status']]}: {f['tests_counted']} tests counted"
+                   + (f", {f['tests_required']} needed" if f["tests_required"] is not None else ""))
+        for it in f["items"]:
+            if it["status"] != "ok":
+                out.append(f"      {it['status']}: {it['message']}")
+        for w in lot["warnings"]:
+            out.append(f"      {w['message']}")
+    return out
+
+
 def tour_lines(records: list[dict] | None = None) -> list[str]:
     """The tour, one line per entry; every number comes from ``tamis.api``."""
     records = load_records() if records is None else records
@@ -198,7 +218,9 @@ def tour_lines(records: list[dict] | None = None) -> list[str]:
     lines, lots = _delivery_lines(records, by_id)
     out += lines
     for lot, seq in lots.items():
-        out.append(f"   lot {lot} fines: " + " -> ".join(f"{_num(f, '%')} ({p})" for p, f in seq))
+        if any(p == "stockpile" for p, _ in seq):  # a lot followed through its stages
+            out.append(f"   lot {lot} fines: " + " -> ".join(f"{_num(f, '%')} ({p})" for p, f in seq))
+    out += [""] + _lot_lines(records)
     out += ["", SCREENING_NOTICE]
     return out
 

@@ -225,7 +225,8 @@ def _check(args) -> int:
     counts = {k: sum(1 for r in recs if r["kind"] == k) for k in KINDS}
     deleted = sum(1 for r in recs if r["deleted"])
     print(f"{args.file}: valid tamis CSV version {CSV_VERSION}, {len(recs)} records "
-          f"({counts['test']} tests, {counts['band']} bands, {counts['base']} base soils; {deleted} deleted).")
+          f"({counts['test']} tests, {counts['band']} bands, {counts['base']} base soils"
+          + (f", {counts['lot']} lots" if counts["lot"] else "") + f"; {deleted} deleted).")
     return EXIT_OK
 
 

@@ -27,7 +27,7 @@ from datetime import datetime
 from ..errors import InputError, join, require_list, require_mapping
 
 #: Record kinds, in the order their rows are written.
-KINDS = ("band", "base", "test")
+KINDS = ("band", "base", "lot", "test")
 _KIND_RANK = {k: i for i, k in enumerate(KINDS)}
 
 RECORD_KEYS = ("record_id", "kind", "rev", "updated_at", "updated_by", "deleted", "exported_at",
@@ -244,7 +244,7 @@ def floats_only(obj):
 
 
 def row_order(rec: dict):
-    """Rows are written by kind (bands, base soils, tests), then record id."""
+    """Rows are written by kind (bands, base soils, lots, tests), then record id."""
     return (_KIND_RANK[rec["kind"]], rec["record_id"])
 
 

@@ -115,7 +115,7 @@ def compute_summary(rec: dict, index: dict, parts: FileParts | None = None) -> d
            "reasons": [], "advisory": [], "passing": [], "band_name": None, "base_name": None,
            "note": None, "core_version": None}
     test = rec["test"]
-    if rec["kind"] == "band":
+    if rec["kind"] in ("band", "lot"):
         return out
     if rec["deleted"]:
         out["note"] = "deleted record: not computed"

@@ -6,7 +6,7 @@
 // the record is flagged and kept until it has been exported.
 import { db } from "./db.js";
 
-export const KINDS = ["test", "band", "base"];
+export const KINDS = ["test", "band", "base", "lot"];
 
 /** Current time as ISO 8601 UTC without milliseconds. */
 export function nowIso() {

@@ -26,8 +26,8 @@ export const baseName = (r) => [r.meta?.sample_id, r.meta?.material].filter(Bool
 
 /** Render the entry screen. `id`: a stored test to edit; `seed`: a new record to start from. */
 export async function entryScreen(app, view, id = null, seed = null) {
-  const [presets, bands, bases] = await Promise.all([
-    sievePresets(), listRecords({ kind: "band" }), listRecords({ kind: "base" })]);
+  const [presets, bands, bases, lots] = await Promise.all([
+    sievePresets(), listRecords({ kind: "band" }), listRecords({ kind: "base" }), listRecords({ kind: "lot" })]);
   const stored = id ? await getRecord(id) : null;
   // One draft per tab for the new test and one per tab and stored test being
   // edited, so neither another form nor another tab overwrites what was typed.
@@ -80,7 +80,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
     conflictBox,
     bar);
 
-  const meta = metaForm(metaBox, rec.meta, { onChange: () => schedule() });
+  const meta = metaForm(metaBox, rec.meta, { onChange: () => schedule(), lots: lots.filter((l) => !l.deleted) });
   const editor = gradationEditor(testBox, rec.test, { path: "sample", presets, sedimentation: true, onChange: () => schedule() });
   renderVerdict(verdictBox, null, { slot: chartBox });
   const keeper = keepForm(app, {

@@ -182,7 +182,7 @@ export async function openDemo(app, box, status) {
   await importText(app, text, box, status, "the demo project", { direct: true });
 }
 
-const KIND_PLURAL = { test: "tests", band: "bands", base: "base soils" };
+const KIND_PLURAL = { test: "tests", band: "bands", base: "base soils", lot: "lots" };
 
 /** "3 tests, 2 bands": the kinds of some records, counted. */
 function kindsText(records) {

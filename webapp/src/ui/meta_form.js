@@ -40,7 +40,7 @@ function toLocalInput(iso) {
  * Metadata fields in `box`; returns {read(): {meta, errors}}. Keys not shown
  * here (band_id, base_id, rules, demo, retest_of...) are kept untouched.
  */
-export function metaForm(box, meta, { onChange = () => {} } = {}) {
+export function metaForm(box, meta, { onChange = () => {}, lots = [] } = {}) {
   const inputs = {};
   const kept = { ...meta };
   const grid = h("div", { class: "grid2" });
@@ -69,6 +69,23 @@ export function metaForm(box, meta, { onChange = () => {} } = {}) {
     inputs[key] = f;
     grid.append(f.wrap);
   }
+  // The lot the test belongs to, the quantity it represents and the delivery ticket (docs/records.md).
+  const lotSel = h("select", { onchange: () => { const l = lots.find((r) => r.record_id === lotSel.value); if (l?.meta?.quantity_unit) unitSel.value = l.meta.quantity_unit; onChange(); } },
+    h("option", { value: "", text: "No lot" }),
+    lots.map((r) => h("option", { value: r.record_id, text: [`Lot ${r.meta?.lot || r.record_id.slice(0, 8)}`, r.meta?.material].filter(Boolean).join(" · "), selected: meta.lot_id === r.record_id })));
+  if (!meta.lot_id && meta.lot) {  // a test that names its lot by code only: matched to the lot record with that code
+    const byCode = lots.find((r) => r.meta?.lot === meta.lot);
+    if (byCode) lotSel.value = byCode.record_id;
+    else lotSel.append(h("option", { value: `code:${meta.lot}`, text: `Lot ${meta.lot} (no lot record yet)`, selected: true }));
+  }
+  inputs.lot = field("Lot", lotSel);
+  const qty = h("input", { type: "text", inputmode: "decimal", class: "seq num", enterkeyhint: "next", autocomplete: "off", value: showDecimal(meta.quantity) });
+  inputs.quantity = field("Quantity it represents", qty, { hint: "Placed quantity this sample stands for." });
+  qty.addEventListener("input", () => { const p = parseDecimal(qty.value); inputs.quantity.error.textContent = p.ok ? (p.value !== null && p.value < 0 ? "A quantity cannot be negative." : "") : p.message; onChange(); });
+  const unitSel = h("select", { onchange: onChange }, [["m3", "m³"], ["t", "t"]].map(([v, t]) => h("option", { value: v, text: t, selected: (meta.quantity_unit || "m3") === v })));
+  inputs.quantity_unit = field("Unit", unitSel);
+  inputs.ticket = field("Delivery ticket or truck", h("input", { type: "text", class: "seq", enterkeyhint: "next", autocomplete: "off", value: meta.ticket ?? "", oninput: onChange }));
+  grid.append(inputs.lot.wrap, inputs.quantity.wrap, inputs.quantity_unit.wrap, inputs.ticket.wrap);
   const gpsStatus = h("p", { class: "hint", role: "status", id: newId("gps") });
   const gps = h("button", {
     type: "button", class: "btn", text: "Add my GPS position",
@@ -108,6 +125,15 @@ export function metaForm(box, meta, { onChange = () => {} } = {}) {
         else if (p.value === null) delete out[key];
         else out[key] = p.value;
       }
+      if (lotSel.value.startsWith("code:")) { out.lot = lotSel.value.slice(5); delete out.lot_id; }
+      else if (lotSel.value) { out.lot_id = lotSel.value; out.lot = lots.find((r) => r.record_id === lotSel.value)?.meta?.lot || out.lot; }
+      else { delete out.lot_id; delete out.lot; }
+      const q = parseDecimal(qty.value);
+      if (!q.ok || (q.value !== null && q.value < 0)) errors += 1;
+      else if (q.value === null) { delete out.quantity; delete out.quantity_unit; }
+      else { out.quantity = q.value; out.quantity_unit = unitSel.value; }
+      const tk = inputs.ticket.input.value.trim();
+      if (tk) out.ticket = tk; else delete out.ticket;
       const n = notes.value.trim();
       if (n) out.notes = notes.value; else delete out.notes;
       return { meta: out, errors };

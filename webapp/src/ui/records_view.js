@@ -6,6 +6,7 @@ import { renderVerdict, verdictLine, VERDICT_WORDS } from "./verdict.js";
 import { renderChart } from "./chart.js";
 import { renderDvalues, bandName, baseName } from "./entry.js";
 import { reducedTable } from "./editor/sedimentation.js";
+import { dueWarning, lotPage, lotName } from "./lots_view.js";
 import { listRecords, getRecord, notExported, softDelete, restore, cachedResults, storeResult, storeResults, blankRecord } from "../storage/records.js";
 
 /** Rows drawn at a time; more are drawn as the list is scrolled to its end. */
@@ -55,11 +56,12 @@ export async function verdictsFor(app, tests, byId, { onProgress = () => {}, can
   return out;
 }
 
-const KIND_WORDS = { test: "Test", band: "Band", base: "Base soil" };
+const KIND_WORDS = { test: "Test", band: "Band", base: "Base soil", lot: "Lot" };
 
 export function recordTitle(r) {
   if (r.kind === "band") return bandName(r);
   if (r.kind === "base") return baseName(r);
+  if (r.kind === "lot") return lotName(r);
   return [r.meta?.sample_id, r.meta?.material].filter(Boolean).join(" · ") || r.record_id.slice(0, 8);
 }
 
@@ -73,7 +75,7 @@ export async function recordsScreen(app, view) {
 
   const search = field("Search", h("input", { type: "search", autocomplete: "off", placeholder: "sample id, station, notes…" }));
   const sel = (label, opts) => field(label, h("select", {}, h("option", { value: "", text: "All" }), opts.map((o) => h("option", { value: o.value ?? o, text: o.text ?? o }))));
-  const kindF = sel("Kind", [{ value: "test", text: "Tests" }, { value: "band", text: "Bands" }, { value: "base", text: "Base soils" }, { value: "deleted", text: "Deleted, not yet exported" }]);
+  const kindF = sel("Kind", [{ value: "test", text: "Tests" }, { value: "band", text: "Bands" }, { value: "base", text: "Base soils" }, { value: "lot", text: "Lots" }, { value: "deleted", text: "Deleted, not yet exported" }]);
   kindF.input.value = "test";
   const projectF = sel("Project", projects);
   const materialF = sel("Material", materials);
@@ -84,13 +86,16 @@ export async function recordsScreen(app, view) {
   const progress = h("progress", { max: Math.max(tests.length, 1), value: 0, "aria-label": "Tests checked so far" });
   const progressLine = h("p", { class: "hint verdict-progress" }, progress, h("span"));
   const more = h("button", { type: "button", class: "btn", hidden: true, onclick: () => drawMore() });
+  const dueBox = h("section", { class: "card lot-due-warning", role: "alert", "aria-label": "Testing due", hidden: true });
   const selected = new Set();
   const exportSel = h("button", { type: "button", class: "btn", text: "Export the selected records", disabled: true, onclick: () => app.go("#/exchange", { selection: [...selected] }) });
 
   fill(view, h("div", { class: "screen" },
     h("h1", { text: "Records on this device" }),
     h("div", { class: "actions" },
-      h("a", { class: "btn primary", href: "#/entry", text: "New sieve test" })),
+      h("a", { class: "btn primary", href: "#/entry", text: "New sieve test" }),
+      h("a", { class: "btn", href: "#/lots", text: "Lots" })),
+    dueBox,
     // The records first; search and filters one tap away.
     h("details", { class: "card filters" }, h("summary", { text: "Search and filters" }),
       search.wrap, h("div", { class: "grid2" }, kindF.wrap, projectF.wrap, materialF.wrap, verdictF.wrap),
@@ -113,7 +118,7 @@ export async function recordsScreen(app, view) {
     if (span) spans.set(r.record_id, span);
     return h("li", { class: "record-item", dataset: { id: r.record_id, kind: r.kind } },
       box,
-      h("a", { href: `#/record/${r.record_id}`, class: "record-link" },
+      h("a", { href: r.kind === "lot" ? `#/lot/${r.record_id}` : `#/record/${r.record_id}`, class: "record-link" },
         h("span", { class: "record-title", text: recordTitle(r) }),
         h("span", { class: "record-sub", text: [KIND_WORDS[r.kind], r.meta?.project, r.meta?.station && `station ${r.meta.station}`, r.updated_at?.slice(0, 10)].filter(Boolean).join(" · ") }),
         span,
@@ -165,6 +170,7 @@ export async function recordsScreen(app, view) {
   let left = false;
   app.leaving?.push(() => { left = true; seen?.disconnect(); clearTimeout(searchTimer); });
   draw();
+  dueWarning(dueBox).catch((err) => console.error(err));
 
   const onProgress = (map, done, total, ids) => {
     verdicts = map;
@@ -190,7 +196,7 @@ export async function recordsScreen(app, view) {
 }
 
 function metaList(meta) {
-  const skip = new Set(["rules", "band_id", "base_id", "retest_of"]);
+  const skip = new Set(["rules", "band_id", "base_id", "retest_of", "lot_id"]);
   const rows = Object.entries(meta || {}).filter(([k]) => !skip.has(k));
   return h("dl", { class: "meta-list" }, rows.map(([k, v]) => [h("dt", { text: k.replaceAll("_", " ") }), h("dd", { text: typeof v === "object" ? JSON.stringify(v) : String(v) })]));
 }
@@ -261,6 +267,7 @@ const show = (v) => (v === null || v === undefined ? "empty" : typeof v === "obj
 export async function detailScreen(app, view, id) {
   const rec = await getRecord(id);
   if (!rec) { fill(view, h("div", { class: "screen" }, h("h1", { text: "Record not found" }), h("a", { href: "#/records", text: "Back to the records" }))); return; }
+  if (rec.kind === "lot") { await lotPage(app, view, rec.record_id); return; }
   const all = await listRecords({ includeDeleted: true });
   const byId = new Map(all.map((r) => [r.record_id, r]));
   const verdictBox = h("section", { class: "card verdict-card" });
@@ -289,6 +296,12 @@ export async function detailScreen(app, view, id) {
   const refs = [];
   if (rec.meta?.band_id) refs.push(h("p", {}, "Band: ", h("a", { href: `#/record/${rec.meta.band_id}`, text: byId.get(rec.meta.band_id) ? bandName(byId.get(rec.meta.band_id)) : "missing" })));
   if (rec.meta?.base_id) refs.push(h("p", {}, "Base soil: ", h("a", { href: `#/record/${rec.meta.base_id}`, text: byId.get(rec.meta.base_id) ? baseName(byId.get(rec.meta.base_id)) : "missing" })));
+  if (rec.meta?.lot_id || rec.meta?.lot) {
+    const lotRec = byId.get(rec.meta.lot_id);
+    refs.push(h("p", { class: "lot-link" }, "Lot: ", h("a", { href: `#/lot/${encodeURIComponent(lotRec ? lotRec.record_id : rec.meta.lot)}`, text: lotRec ? lotName(lotRec) : `Lot ${rec.meta.lot}` }),
+      typeof rec.meta.quantity === "number" ? ` · represents ${rec.meta.quantity} ${rec.meta.quantity_unit === "t" ? "t" : "m³"}` : "",
+      rec.meta.ticket ? ` · ticket ${rec.meta.ticket}` : ""));
+  }
   if (rec.meta?.retest_of) refs.push(h("p", {}, "Retest of: ", h("a", { href: `#/record/${rec.meta.retest_of}`, text: byId.get(rec.meta.retest_of) ? recordTitle(byId.get(rec.meta.retest_of)) : "missing" })));
 
   fill(view, h("div", { class: "screen detail", dataset: { id: rec.record_id } },
