@@ -20,6 +20,9 @@ const SITE = new URL("../../", HERE);
 const VENDOR = new URL("vendor/", SITE);
 const PYODIDE_DIR = new URL("pyodide/", VENDOR);
 const INSTALL_MODE = new URL(import.meta.url).searchParams.get("install") === "micropip" ? "micropip" : "unpack";
+// Set by the bridge when a service worker controls the page: its cache answers every fetch, so the shared
+// downloads below (for a first visit, or a page it does not control) are not needed.
+const CONTROLLED = new URL(import.meta.url).searchParams.get("sw") === "1";
 
 const t0 = performance.now();
 const timings = {};
@@ -264,9 +267,9 @@ async function boot() {
   ])]);
   filesByPath = new Map(manifest.files.map((f) => [f.path, f]));
   cacheName = `tamis-${manifest.version}`;
-  const boots = BOOT_FILES.filter((p) => filesByPath.has(p));
-  for (const p of [...boots, manifest.wheel]) if (filesByPath.has(p)) routed.add(p);
-  const bootBytes = boots.reduce((sum, p) => sum + filesByPath.get(p).size, 0);
+  const boots = CONTROLLED ? [] : BOOT_FILES.filter((p) => filesByPath.has(p));
+  for (const p of CONTROLLED ? [] : [...boots, manifest.wheel]) if (filesByPath.has(p)) routed.add(p);
+  const bootBytes = boots.reduce((sum, p) => sum + filesByPath.get(p).size, 0) || 1;
   for (const p of boots) received.set(p, 0);
   let lastGot = 0;
   onReceived = () => {
