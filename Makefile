@@ -49,6 +49,7 @@ test-core: setup
 
 test-pyodide: build
 	node tests/pyodide/replay_golden.mjs
+	node tests/pyodide/stdlib_complete.mjs
 
 test-e2e: build
 	$(PY) -m pytest -q -p no:cacheprovider --ignore=e2e/engines e2e
