@@ -49,6 +49,7 @@ test-core: setup
 
 test-pyodide: build
 	node tests/pyodide/replay_golden.mjs
+	node tests/pyodide/stdlib_complete.mjs
 
 test-e2e: build
 	$(PY) -m pytest -q -p no:cacheprovider --ignore=e2e/engines e2e
@@ -79,8 +80,11 @@ screenshots: build
 	$(PY) e2e/screenshots.py
 
 ## bench: performance figures (printed, never asserted)
+## bench: every benchmark, each figure beside its target and beside BASELINE (a git revision, measured in the
+## same run; default: the start of the performance work, issue 17). BASELINE= runs without one.
+BASELINE ?= 82407df
 bench: build
-	$(PY) bench/run_all.py
+	$(PY) bench/run_all.py $(if $(BASELINE),--baseline $(BASELINE),)
 
 clean:
 	rm -rf $(VENV) node_modules webapp/vendor build dist pycore/*.egg-info

@@ -14,7 +14,18 @@ import time
 HERE = pathlib.Path(__file__).resolve().parent
 
 
+#: The benchmarks that take ``--baseline REV`` (measured beside that revision in the same run).
+WITH_BASELINE = {"bench_evaluate.py", "bench_merge.py", "bench_records.py", "bench_typing.py", "bench_webapp.py"}
+
+
 def main(argv: list[str]) -> int:
+    """``run_all.py [--baseline REV] [NAME ...]``: the benchmarks whose file name contains a NAME (all by
+    default); ``--baseline REV`` is passed to those that take it."""
+    baseline = None
+    if "--baseline" in argv:
+        i = argv.index("--baseline")
+        baseline = argv[i + 1]
+        argv = argv[:i] + argv[i + 2:]
     scripts = sorted(HERE.glob("bench_*.py"))
     if argv:
         scripts = [s for s in scripts if any(a in s.name for a in argv)]
@@ -22,7 +33,8 @@ def main(argv: list[str]) -> int:
     for script in scripts:
         print(f"== {script.name}", flush=True)
         t0 = time.perf_counter()
-        rc = subprocess.call([sys.executable, str(script)])
+        extra = ["--baseline", baseline] if baseline and script.name in WITH_BASELINE else []
+        rc = subprocess.call([sys.executable, str(script), *extra])
         print(f"== {script.name}: exit {rc}, {time.perf_counter() - t0:.1f} s wall\n", flush=True)
         if rc:
             failed.append(script.name)

@@ -48,8 +48,8 @@ serve = _load_script("serve")
 build_webapp = _load_script("build_webapp")
 
 
-def read_manifest() -> dict:
-    path = VENDOR / "manifest.json"
+def read_manifest(webapp: Path = WEBAPP) -> dict:
+    path = webapp / "vendor" / "manifest.json"
     if not path.is_file():
         raise RuntimeError("webapp/vendor/manifest.json is missing: run `make build` before the e2e tests")
     return json.loads(path.read_text(encoding="utf-8"))
@@ -62,10 +62,11 @@ def _sha256(path: Path) -> str:
 class Site:
     """The built app served on 127.0.0.1, plus the e2e test pages."""
 
-    def __init__(self, with_test_pages: bool = True):
-        self.base_manifest = read_manifest()
+    def __init__(self, with_test_pages: bool = True, webapp: Path = WEBAPP):
+        """``webapp``: the built site to serve (another build's, e.g. a baseline's for a benchmark)."""
+        self.base_manifest = read_manifest(webapp)
         mounts = {TEST_PREFIX: TEST_PAGES} if with_test_pages else {}
-        self.server = serve.StaticServer(WEBAPP, "127.0.0.1", 0, mounts=mounts).start()
+        self.server = serve.StaticServer(webapp, "127.0.0.1", 0, mounts=mounts).start()
         self.with_test_pages = with_test_pages
         self.version = self.base_manifest["version"]
         self._serve_manifest(self.version)

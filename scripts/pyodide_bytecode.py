@@ -29,18 +29,43 @@ def _digest(data: bytes) -> str:
     return "sha256=" + base64.urlsafe_b64encode(hashlib.sha256(data).digest()).rstrip(b"=").decode()
 
 
-def add_pyc(src: str, out: str, code_path, pyc_name, *, record_name: str | None = None, level: int | None = None):
+#: Top-level stdlib modules and packages left out of the app's stdlib zip (docs/decisions.md, "precache"):
+#: none is imported by the core, its self-test, Pyodide's own start or micropip (tests/pyodide/
+#: stdlib_complete.mjs runs all of them on the trimmed zip and fails on a missing module). Interactive and
+#: development tools (REPL, debuggers, test runners, documentation browsers), process and server modules that
+#: cannot run in a browser worker, and the pure-Python twins of modules Pyodide builds in C (_decimal,
+#: _datetime, _io).
+STDLIB_LEFT_OUT = frozenset({
+    "_pyrepl", "pdb", "bdb", "doctest", "unittest", "pydoc", "pydoc_data", "idlelib", "turtledemo", "turtle",
+    "tkinter", "lib2to3", "ensurepip", "venv", "curses", "dbm", "sqlite3", "test", "antigravity", "this",
+    "__hello__", "__phello__", "multiprocessing", "xmlrpc", "wsgiref", "mailbox", "imaplib", "poplib",
+    "smtplib", "ftplib", "socketserver", "cProfile", "profile", "pstats", "trace", "tracemalloc", "timeit",
+    "tabnanny", "pyclbr", "zipapp", "webbrowser", "_pydecimal", "_pydatetime", "_pyio",
+})
+
+
+def _left_out(name: str) -> bool:
+    top = name.split("/", 1)[0]
+    return (top[:-3] if top.endswith(".py") else top) in STDLIB_LEFT_OUT
+
+
+def add_pyc(src: str, out: str, code_path, pyc_name, *, record_name: str | None = None, level: int | None = None,
+            keep_source: bool = True, leave_out=lambda name: False):
     """Copy every entry of the zip ``src`` into ``out`` and, after each ``.py``, its
     bytecode as an unchecked-hash ``.pyc`` named ``pyc_name(entry name)``, compiled
     with ``code_path(entry name)`` as its file name. With ``record_name`` (a wheel's
-    ``RECORD``) the added files are listed in it, before its own last line."""
+    ``RECORD``) the added files are listed in it, before its own last line.
+    ``keep_source=False`` writes the ``.pyc`` without its ``.py`` (a sourceless
+    module, which zipimport loads from the ``.pyc`` beside where the ``.py`` was);
+    entries for which ``leave_out(name)`` is true are not copied at all."""
     added = []
     with zipfile.ZipFile(src) as zin, zipfile.ZipFile(out, "w", zipfile.ZIP_DEFLATED, compresslevel=level) as zout:
         for info in zin.infolist():
-            if info.filename == record_name:
+            if info.filename == record_name or leave_out(info.filename):
                 continue
             data = zin.read(info)
-            zout.writestr(info, data)
+            if keep_source or not info.filename.endswith(".py"):
+                zout.writestr(info, data)
             if info.filename.endswith(".py"):
                 code = compile(data, code_path(info.filename), "exec", dont_inherit=True)
                 pyc = bootstrap._code_to_hash_pyc(code, importlib.util.source_hash(data), checked=False)
@@ -56,9 +81,10 @@ def add_pyc(src: str, out: str, code_path, pyc_name, *, record_name: str | None 
 
 
 def add_stdlib_pyc(out: str) -> None:
-    """The runtime's stdlib zip, a ``.pyc`` beside each ``.py``, written to ``out``."""
+    """The runtime's stdlib zip as bytecode only (a ``.pyc`` where each ``.py`` was, no source: tracebacks
+    name the file and line without quoting it) and without :data:`STDLIB_LEFT_OUT`, written to ``out``."""
     name = "/lib/python%d%d.zip" % sys.version_info[:2]
-    add_pyc(name, out, lambda f: f"{name}/{f}", lambda f: f + "c", level=9)
+    add_pyc(name, out, lambda f: f"{name}/{f}", lambda f: f + "c", level=9, keep_source=False, leave_out=_left_out)
 
 
 def add_wheel_pyc(src: str, out: str) -> None:

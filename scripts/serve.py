@@ -16,6 +16,7 @@ Also a small library for the e2e tests and benchmarks::
 
     server = StaticServer(port=0).start()   # a free port
     server.url, server.requests             # request log: (method, path)
+    server.statuses                         # response log: (path, status)
     server.stop()
 """
 
@@ -68,8 +69,9 @@ NO_CACHE = {"/sw.js", "/vendor/build.js", "/vendor/manifest.json"}
 
 
 def make_handler(root: Path, mounts: dict[str, Path], overrides: dict[str, tuple],
-                 requests: list, quiet: bool):
-    """A request handler class bound to one server's folders, overrides and log."""
+                 requests: list, quiet: bool, statuses: list | None = None):
+    """A request handler class bound to one server's folders, overrides and log
+    (``statuses``: (path, HTTP status) of each response, when given)."""
 
     class Handler(http.server.SimpleHTTPRequestHandler):
         extensions_map = {**http.server.SimpleHTTPRequestHandler.extensions_map, **MIME}
@@ -88,6 +90,11 @@ def make_handler(root: Path, mounts: dict[str, Path], overrides: dict[str, tuple
                     target = (base / rel).resolve()
                     return str(target if target == base or base in target.parents else base / "__outside__")
             return super().translate_path(path)
+
+        def send_response(self, code, message=None):
+            if statuses is not None and getattr(self, "path", None) is not None:
+                statuses.append((self._path_only(), code))
+            super().send_response(code, message)
 
         def _path_only(self) -> str:
             return posixpath.normpath(urllib.parse.unquote(urllib.parse.urlsplit(self.path).path))
@@ -139,8 +146,10 @@ class StaticServer:
         self.root = Path(root)
         self.host = host
         self.requests: list[tuple[str, str]] = []
+        #: (path, status) of each response: a 200 is a download, a 304 a confirmation of the HTTP cache
+        self.statuses: list[tuple[str, int]] = []
         self.overrides: dict[str, tuple] = {}
-        handler = make_handler(self.root, dict(mounts or {}), self.overrides, self.requests, quiet)
+        handler = make_handler(self.root, dict(mounts or {}), self.overrides, self.requests, quiet, self.statuses)
         self.httpd = http.server.ThreadingHTTPServer((host, port), handler)
         self.httpd.daemon_threads = True
         self.port = self.httpd.server_address[1]

@@ -16,7 +16,7 @@
 // vendor/manifest.json is answered from TAMIS_BUILD, the build this worker serves.
 
 /* global TAMIS_BUILD */
-importScripts("./vendor/build.js");
+importScripts("./vendor/build.js", "./src/fetch_once.js");
 
 const BUILD = self.TAMIS_BUILD;
 const CACHE_PREFIX = "tamis-";
@@ -30,54 +30,71 @@ function urlOf(path) {
   return new URL(path, SCOPE).href;
 }
 
-async function sha256Hex(buffer) {
-  const digest = new Uint8Array(await crypto.subtle.digest("SHA-256", buffer));
-  return Array.from(digest, (b) => b.toString(16).padStart(2, "0")).join("");
-}
-
 async function tell(message) {
   const pages = await self.clients.matchAll({ type: "window", includeUncontrolled: true });
   for (const page of pages) page.postMessage({ type: "tamis-precache", version: BUILD.version, ...message });
 }
 
-// "no-cache": the HTTP cache may serve a file only after the server confirmed it
-// (304), so an update downloads only the files that changed; the sha256 check
-// below guards the result either way.
-async function precacheOne(cache, file) {
-  const url = urlOf(file.path);
-  const response = await fetch(url, { cache: "no-cache", credentials: "same-origin" });
+// Each file through tamisFetchOnce (src/fetch_once.js): a file the Python worker's
+// boot already downloaded (and checked) into this cache is taken from there, and
+// one it is downloading is waited for, so no file is downloaded twice; the others
+// are downloaded with "no-cache" (the HTTP cache may serve a file only after the
+// server confirmed it, 304, so an update downloads only the files that changed)
+// and checked against the manifest's size and sha256 before they are cached.
+async function precacheOne(file, onBytes) {
+  const response = await self.tamisFetchOnce(urlOf(file.path), file, CACHE, { onBytes });
   if (!response.ok) throw new Error(`${file.path}: HTTP ${response.status}`);
-  const body = await response.arrayBuffer();
-  if (body.byteLength !== file.size || (await sha256Hex(body)) !== file.sha256) {
-    throw new Error(`${file.path} differs from the build manifest (the files changed after the build; run make build)`);
-  }
-  const headers = new Headers(response.headers);
-  await cache.put(url, new Response(body, { status: 200, statusText: "OK", headers }));
-  return body.byteLength;
+  if (response.body) await response.body.cancel();
+  return file.size;
 }
 
 async function precache() {
-  const cache = await caches.open(CACHE);
+  await caches.open(CACHE);
   const todo = [...FILES];
   let done = 0;
-  let bytes = 0;
+  let bytes = 0;            // of the files done
+  const partial = new Map(); // path -> bytes received so far of a file being downloaded
   let lastTold = 0;
-  await tell({ total: FILES.length, done, bytes, total_bytes: TOTAL_BYTES, complete: false, error: null });
+  const progress = () => bytes + [...partial.values()].reduce((a, b) => a + b, 0);
+  const tellNow = () => tell({ total: FILES.length, done, bytes: progress(), total_bytes: TOTAL_BYTES,
+    complete: false, error: null });
+  await tellNow();
+  // bytes of a file the Python worker's boot is downloading, which a lane waits for
+  const heard = typeof BroadcastChannel === "function" ? new BroadcastChannel(self.tamisDownloadChannel) : null;
+  const waitingFor = new Set();
+  if (heard) {
+    heard.onmessage = (event) => {
+      const m = event.data || {};
+      if (m.type !== "bytes" || m.cache !== CACHE || !waitingFor.has(m.path)) return;
+      partial.set(m.path, m.received);
+      const now = Date.now();
+      if (now - lastTold > 100) { lastTold = now; tellNow(); }
+    };
+  }
   async function lane() {
     while (todo.length) {
       const file = todo.shift();
-      bytes += await precacheOne(cache, file);
+      waitingFor.add(file.path);
+      bytes += await precacheOne(file, (received) => {
+        partial.set(file.path, received);
+        const now = Date.now();
+        if (now - lastTold > 100) { lastTold = now; tellNow(); }
+      });
+      partial.delete(file.path);
+      waitingFor.delete(file.path);
       done += 1;
       const now = Date.now();
       if (now - lastTold > 100 || done === FILES.length) {
         lastTold = now;
-        await tell({ total: FILES.length, done, bytes, total_bytes: TOTAL_BYTES, complete: false, error: null });
+        await tellNow();
       }
     }
   }
   try {
     await Promise.all(Array.from({ length: PARALLEL }, lane));
+    if (heard) heard.close();
   } catch (err) {
+    if (heard) heard.close();
     await caches.delete(CACHE);
     await tell({ total: FILES.length, done, bytes, total_bytes: TOTAL_BYTES, complete: false,
       error: `saving the app for offline use failed: ${err.message}` });
@@ -89,8 +106,11 @@ async function precache() {
 async function cacheStatus() {
   const cache = await caches.open(CACHE);
   let done = 0;
-  for (const file of FILES) if (await cache.match(urlOf(file.path))) done += 1;
-  return { total: FILES.length, done, bytes: null, total_bytes: TOTAL_BYTES, complete: done === FILES.length,
+  let bytes = 0;
+  for (const file of FILES) {
+    if (await cache.match(urlOf(file.path))) { done += 1; bytes += file.size; }
+  }
+  return { total: FILES.length, done, bytes, total_bytes: TOTAL_BYTES, complete: done === FILES.length,
     error: null };
 }
 

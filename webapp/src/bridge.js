@@ -73,6 +73,9 @@ function start() {
   const pageInstall = new URLSearchParams(self.location.search).get("install");
   const url = new URL(WORKER_URL);
   if (pageInstall === "micropip" || pageInstall === "unpack") url.searchParams.set("install", pageInstall);
+  // A page a service worker controls: the worker's fetches go through it (its cache, and the browser's
+  // compiled-code cache of the wasm runtime served from there), so the worker routes nothing itself.
+  if (self.navigator && navigator.serviceWorker && navigator.serviceWorker.controller) url.searchParams.set("sw", "1");
   setStatus({ stage: "starting", detail: "starting the Python worker", progress: 0, ready: false, error: null });
   try {
     worker = new Worker(url, { type: "module", name: "tamis-python" });

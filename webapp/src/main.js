@@ -70,7 +70,9 @@ startOffline({
     offlineLine.textContent = st.precached
       ? "Ready offline"
       : st.error ? `Not ready offline: ${st.error}`
-        : `Saving for offline use: ${st.done || 0} of ${st.total || "…"} files`;
+        : typeof st.bytes === "number" && st.total_bytes
+          ? `Saving for offline use: ${(st.bytes / 1e6).toFixed(1)} of ${(st.total_bytes / 1e6).toFixed(1)} MB`
+          : `Saving for offline use: ${st.done || 0} of ${st.total || "…"} files`;
   },
   onUpdate(applyFn) {
     fill(banner,

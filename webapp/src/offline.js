@@ -3,7 +3,8 @@
 // version is waiting so the user chooses when to switch.
 //
 //   startOffline({onState, onUpdate}) -> {ready: Promise<registration|null>, checkForUpdate(), state()}
-//   onState({precached, total, done, error, version, updating})
+//   onState({precached, total, done, error, version, updating, bytes, total_bytes})
+//       bytes: received so far (files done and parts of those downloading), null when unknown
 //       precached is true only once the active worker's cache holds every file
 //       of its build manifest (checked file by file by the worker).
 //   onUpdate(applyFn)
@@ -13,7 +14,8 @@
 const SW_URL = new URL("../sw.js", import.meta.url);
 
 export function startOffline({ onState = () => {}, onUpdate = () => {} } = {}) {
-  let state = { precached: false, total: 0, done: 0, error: null, version: null, updating: false };
+  let state = { precached: false, total: 0, done: 0, error: null, version: null, updating: false, bytes: null,
+    total_bytes: null };
   let offeredWorker = null;
   let applying = false;
 
@@ -33,7 +35,7 @@ export function startOffline({ onState = () => {}, onUpdate = () => {} } = {}) {
     if (msg.type !== "tamis-precache") return;
     if (aboutThisPage(event.source)) {
       emit({ precached: Boolean(msg.complete), total: msg.total, done: msg.done, error: msg.error || null,
-        version: msg.version, updating: false });
+        version: msg.version, updating: false, bytes: msg.bytes ?? null, total_bytes: msg.total_bytes ?? null });
     } else {
       // A new version installing beside the active one: the current version
       // stays available offline meanwhile.

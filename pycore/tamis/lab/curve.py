@@ -142,6 +142,12 @@ class Curve:
         return tuple(ln(d) for d, _ in self.points)
 
     @cached_property
+    def _sizes_read(self) -> dict:
+        """Sizes already read by :func:`size_at` on this curve, by percent (a curve never changes, and the
+        D-values of one request are read by several checks)."""
+        return {}
+
+    @cached_property
     def _neg_pcts(self) -> tuple[float, ...]:
         """-passing_pct of each point (non-decreasing, for :mod:`bisect` in :func:`size_at`)."""
         return tuple(-p for _, p in self.points)
@@ -263,6 +269,15 @@ def size_at(curve: Curve, pct: float) -> float | None:
     >>> round(size_at(c, 50.0), 6)   # geometric mean of 2.0 and 0.2
     0.632456
     """
+    read = curve._sizes_read
+    if pct in read:
+        return read[pct]
+    size = read[pct] = _size_at(curve, pct)
+    return size
+
+
+def _size_at(curve: Curve, pct: float) -> float | None:
+    """:func:`size_at`, computed."""
     pts = curve.points
     neg = curve._neg_pcts
     # The first pair (k-1, k), coarse to fine, with p_k <= pct <= p_(k-1) and p_k != p_(k-1) is found by

@@ -22,6 +22,7 @@ from __future__ import annotations
 
 import re
 from bisect import bisect_right
+from functools import lru_cache
 
 from .curve import same_size
 from ..errors import InputError, join, number
@@ -167,6 +168,13 @@ def opening_from_label(label: str) -> float | None:
     """
     if not isinstance(label, str):
         return None
+    return _opening_of_text(label)
+
+
+@lru_cache(maxsize=512)
+def _opening_of_text(label: str) -> float | None:
+    """:func:`opening_from_label` of a string (a pure function of it, so its answers are kept: a test names
+    the same few sieves over and over)."""
     s = _normalise(label)
     m = re.match(r"^(?:no\.?|#|n[o°]\s*\.)\s*(\d+(?:\s+1/2)?)$", s)
     if m:

@@ -10,7 +10,7 @@ file.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 from .. import SCREENING_NOTICE
 from ..checks import Check, verdict
@@ -21,8 +21,14 @@ from ..lab.reduction import Reduced, reduce_test, require_field
 
 
 def _tag(checks, subject: str) -> list[Check]:
-    """Copies of ``checks`` with ``extra.subject`` set."""
-    return [replace(c, extra={**c.extra, "subject": subject}) for c in checks]
+    """Copies of ``checks`` with ``extra.subject`` set (as ``dataclasses.replace`` would make them, without
+    validating again fields that were validated when ``c`` was made)."""
+    out = []
+    for c in checks:
+        t = object.__new__(Check)
+        t.__dict__.update(c.__dict__, extra={**c.extra, "subject": subject})
+        out.append(t)
+    return out
 
 
 @dataclass(frozen=True)

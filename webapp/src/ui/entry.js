@@ -12,7 +12,9 @@ import { blankRecord, getRecord, listRecords, storeResult } from "../storage/rec
 import { openForm, keepForm } from "./form_keeper.js";
 import { clearDraft } from "../storage/drafts.js";
 
-const DEBOUNCE_MS = 120;
+// No debounce: an edit asks the core at once (edits of one task share one ask), and the bridge supersedes
+// an ask that a newer edit made stale before it reaches the worker, so a burst of keystrokes costs at most
+// the computation in flight plus the last one, and the screen is redrawn only for the last.
 
 function refSelect(label, records, selected, describe) {
   const sel = h("select", {},
@@ -107,14 +109,16 @@ export async function entryScreen(app, view, id = null, seed = null) {
     return { record: out, localErrors: m.errors + t.localErrors, coreTest: t.core };
   }
 
-  let timer = null;
+  let queued = false;
   let last = null;
   let asked = 0; // edits scheduled; view[data-busy] is set until the last one is shown
   function schedule() {
     asked += 1;
     view.dataset.busy = "1";
-    clearTimeout(timer);
-    timer = setTimeout(run, DEBOUNCE_MS);
+    if (!queued) {
+      queued = true;
+      queueMicrotask(() => { queued = false; run(); });
+    }
     keeper.draft();
   }
 
@@ -134,7 +138,7 @@ export async function entryScreen(app, view, id = null, seed = null) {
     const [resp, table] = await Promise.all([
       ask("evaluate", evaluateFields(coreTest, { band, base, rules: record.meta.rules }), "entry"),
       ask("gradation", { test: coreTest }, "entry-table")]);
-    if (resp.superseded) return;
+    if (resp.superseded || mine !== asked) return;  // a newer edit is on its way: draw that one only
     if (!table.superseded) editor.showGradation(table.ok ? table.result : null, table.ok ? table.findings : []);
     last = resp;
     view.dataset.evaluated = String((Number(view.dataset.evaluated) || 0) + 1);

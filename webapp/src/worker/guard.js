@@ -3,7 +3,12 @@
 // that boot stages can follow the runtime's own downloads (onFetched for a
 // response with an ok status, onFailed for an error status or a network error).
 
-export function prepareFetchGuard(scope, origin, { onFetch = () => {}, onFetched = () => {}, onFailed = () => {} } = {}) {
+//
+// route(url) -> a Promise<Response> to answer with instead of a plain fetch, or
+// null (the worker answers the build's files through one shared download).
+
+export function prepareFetchGuard(scope, origin, { onFetch = () => {}, onFetched = () => {}, onFailed = () => {},
+  route = () => null } = {}) {
   const nativeFetch = scope.fetch.bind(scope);
   scope.fetch = (input, init) => {
     const url = new URL(typeof input === "string" || input instanceof URL ? input : input.url, scope.location.href);
@@ -14,7 +19,7 @@ export function prepareFetchGuard(scope, origin, { onFetch = () => {}, onFetched
       return Promise.reject(err);
     }
     onFetch(url);
-    return nativeFetch(input, init).then((response) => {
+    return (route(url) || nativeFetch(input, init)).then((response) => {
       if (response.ok) onFetched(url, response);
       else onFailed(url, `HTTP ${response.status}`);
       return response;

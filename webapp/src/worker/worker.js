@@ -13,12 +13,16 @@
 
 import { prepareFetchGuard } from "./guard.js";
 import { sha256Hex } from "./digest.js";
+import "../fetch_once.js";  // self.tamisFetchOnce: one download per file, shared with the service worker's precache
 
 const HERE = new URL(".", import.meta.url);
 const SITE = new URL("../../", HERE);
 const VENDOR = new URL("vendor/", SITE);
 const PYODIDE_DIR = new URL("pyodide/", VENDOR);
 const INSTALL_MODE = new URL(import.meta.url).searchParams.get("install") === "micropip" ? "micropip" : "unpack";
+// Set by the bridge when a service worker controls the page: its cache answers every fetch, so the shared
+// downloads below (for a first visit, or a page it does not control) are not needed.
+const CONTROLLED = new URL(import.meta.url).searchParams.get("sw") === "1";
 
 const t0 = performance.now();
 const timings = {};
@@ -181,6 +185,45 @@ self.addEventListener("message", (event) => {
   else queue.push(item);
 });
 
+// ---- downloads: each file of the build once, with the bytes counted -------------------------------
+// The runtime files go through self.tamisFetchOnce (src/fetch_once.js) into the
+// service worker's cache for this build ("tamis-" + version): on a first visit
+// the precache and this boot share one download of each file (whoever starts it,
+// the other waits for it), and a boot of a page the service worker does not
+// control (a forced reload) still reads them from the cache. The boot's progress
+// follows the bytes received of these files, whoever downloads them.
+const BOOT_FILES = ["vendor/pyodide/pyodide.asm.mjs", "vendor/pyodide/pyodide.asm.wasm", "vendor/pyodide/python_stdlib.zip"];
+let filesByPath = null;   // manifest path -> entry, once the manifest is read
+const routed = new Set();  // the paths answered through fetchOnce: BOOT_FILES and the tamis wheel
+let cacheName = null;
+const started = new Map(); // path -> Promise<Response> started ahead of the runtime's own request
+const received = new Map(); // boot file path -> bytes received (its size once it is at hand)
+let onReceived = () => {};
+let bootPct = 0.02;        // progress of the "runtime" stage so far (never goes back)
+
+function noteBytes(path, bytes) {
+  if (!received.has(path)) return;
+  received.set(path, Math.max(received.get(path), bytes));
+  onReceived();
+}
+
+if (typeof BroadcastChannel === "function") {
+  // bytes the service worker's precache receives of a file this boot waits for
+  new BroadcastChannel(self.tamisDownloadChannel).onmessage = (event) => {
+    const m = event.data || {};
+    if (m.type === "bytes" && m.cache === cacheName) noteBytes(m.path, m.received);
+  };
+}
+
+function fetchOnce(path, nativeFetch) {
+  const file = filesByPath.get(path);
+  return self.tamisFetchOnce(new URL(path, SITE).href, file, cacheName, {
+    fetchImpl: nativeFetch,
+    onBytes: (bytes) => noteBytes(path, bytes),
+    onCacheError: (err) => { console.warn(`tamis: the offline cache cannot be used (${err.message}); downloading`); return true; },
+  }).then((response) => { if (response.ok) noteBytes(path, file.size); return response; });
+}
+
 async function boot() {
   // loadPyodide fetches the wasm runtime and the stdlib zip in parallel; once
   // both have arrived, CPython starts and imports its modules from the zip.
@@ -190,7 +233,15 @@ async function boot() {
   // listed in the build manifest ends the boot at once, loudly.
   let abortBoot;
   const aborted = new Promise((_, reject) => { abortBoot = reject; });
-  prepareFetchGuard(self, SITE.origin, {
+  const { nativeFetch } = prepareFetchGuard(self, SITE.origin, {
+    // A file of the build (once the manifest is read): one shared download, see fetchOnce.
+    route(url) {
+      const path = url.pathname.slice(SITE.pathname.length);
+      if (!routed.has(path) || url.search) return null;
+      const ahead = started.get(path);
+      started.delete(path);
+      return ahead || fetchOnce(path, nativeFetch);
+    },
     onFailed(url, why) {
       const path = url.pathname.slice(SITE.pathname.length);
       if (handle || broken) return;  // after boot, a failed fetch is the caller's business
@@ -203,7 +254,7 @@ async function boot() {
       if (!pending.delete(name)) return;
       mark(`${name}_fetched_ms`);
       if (pending.size === 0) status("stdlib", "starting Python from its standard library", 0.4);
-      else status("runtime", `loaded ${name}`, 0.25);
+      else status("runtime", `loaded ${name}`, bootPct = Math.max(bootPct, 0.25));
     },
   });
   status("runtime", "loading the Python runtime", 0.02);
@@ -214,6 +265,37 @@ async function boot() {
         "rebuild the app (make build)");
     }),
   ])]);
+  filesByPath = new Map(manifest.files.map((f) => [f.path, f]));
+  cacheName = `tamis-${manifest.version}`;
+  const boots = CONTROLLED ? [] : BOOT_FILES.filter((p) => filesByPath.has(p));
+  for (const p of CONTROLLED ? [] : [...boots, manifest.wheel]) if (filesByPath.has(p)) routed.add(p);
+  const bootBytes = boots.reduce((sum, p) => sum + filesByPath.get(p).size, 0) || 1;
+  for (const p of boots) received.set(p, 0);
+  let lastGot = 0;
+  onReceived = () => {
+    if (!pending.size || broken) return;  // the stage moved on
+    const got = [...received.values()].reduce((a, b) => a + b, 0);
+    const pct = 0.02 + 0.36 * (got / bootBytes);
+    if (got === lastGot || (pct < bootPct + 0.005 && got < bootBytes)) return;
+    lastGot = got;
+    bootPct = Math.max(bootPct, pct);
+    status("runtime", `downloading the Python runtime: ${(got / 1e6).toFixed(1)} of ${(bootBytes / 1e6).toFixed(1)} MB`, pct,
+      { bytes: got, total_bytes: bootBytes });
+  };
+  // All three downloads start now; the runtime's own requests for the wasm file and the stdlib pick up
+  // theirs, and pyodide.asm.mjs (a module import, which no fetch wrapper sees) is in the cache before it is
+  // imported, so the import is answered by the HTTP cache or a 304.
+  for (const p of boots) {
+    const ahead = fetchOnce(p, nativeFetch);
+    ahead.catch(() => {});  // a failure is reported where the runtime asks for the file
+    started.set(p, ahead);
+  }
+  const asmMjs = started.get("vendor/pyodide/pyodide.asm.mjs");
+  started.delete("vendor/pyodide/pyodide.asm.mjs");
+  if (asmMjs) {
+    const response = await Promise.race([aborted, asmMjs]);
+    if (!response.ok) throw new Error(`vendor/pyodide/pyodide.asm.mjs could not be loaded (HTTP ${response.status}); rebuild the app (make build)`);
+  }
   const py = await Promise.race([aborted, pyodideModule.loadPyodide({
     indexURL: PYODIDE_DIR.href,
     lockFileURL: new URL("pyodide-lock.json", PYODIDE_DIR).href,
