@@ -9,6 +9,8 @@ from __future__ import annotations
 
 import json
 
+import helpers
+
 from tamis.api import handle
 
 #: An invented base soil given as percent passing (with two hydrometer points).
@@ -174,3 +176,37 @@ def open_filters(page) -> None:
     """Unfold the records list's search and filters (folded under one line, the records first)."""
     if not page.locator("#view details.filters[open]").count():
         page.get_by_text("Search and filters").click()
+
+
+PHONE = {"width": 360, "height": 780}
+
+
+def phone_session(browser, site, theme: str = "standard", tester: str = "", **context_options):
+    """A 360 x 780 phone on Settings in the given theme (and the tester's name, when given);
+    yields the page, then closes the phone and asserts no request left the site."""
+    context = browser.new_context(viewport=PHONE, **context_options)
+    guard = helpers.RequestGuard(context, site.origin)
+    page = context.new_page()
+    page.set_default_timeout(helpers.BOOT_TIMEOUT_MS)
+    page.console_errors = []
+    page.on("pageerror", lambda err: page.console_errors.append(f"pageerror: {err}"))
+    page.goto(site.url + "index.html#/settings")
+    page.wait_for_selector("body[data-core-ready]")
+    wait_screen(page)
+    if tester:
+        page.get_by_label("Your name or initials (recorded with each save)").fill(tester)
+    page.get_by_label("Theme").select_option(theme)
+    page.wait_for_function("(t) => document.documentElement.dataset.theme === t", arg=theme)
+    yield page
+    context.close()
+    guard.assert_clean()
+
+
+def scroll_width(page) -> int:
+    return page.evaluate("() => document.documentElement.scrollWidth")
+
+
+def shown_errors(page) -> list[str]:
+    """The error lines a person sees (empty ones are not displayed)."""
+    return page.eval_on_selector_all(".field-error, .core-error", "ns => ns.filter(n => n.textContent.trim()"
+                                     " && n.getClientRects().length).map(n => n.textContent)")

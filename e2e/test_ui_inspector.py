@@ -13,10 +13,8 @@ from __future__ import annotations
 
 import pytest
 
-import helpers
-from test_ui_common import cpython, go, settle, wait_screen
+from test_ui_common import PHONE, cpython, go, phone_session, scroll_width, settle, shown_errors, wait_screen
 
-PHONE = {"width": 360, "height": 780}
 
 #: The silty clay core: percent passing from its laboratory sheet, hydrometer points down to 0.002 mm.
 CORE_PASSING = [(4.75, 100), (2, 99), (0.425, 96), (0.075, 88), (0.02, 60), (0.005, 38), (0.002, 24)]
@@ -49,30 +47,7 @@ def sand_test(s: dict) -> dict:
 
 @pytest.fixture(params=["standard", "sunlight"])
 def phone(request, browser, site):
-    context = browser.new_context(viewport=PHONE)
-    guard = helpers.RequestGuard(context, site.origin)
-    page = context.new_page()
-    page.set_default_timeout(helpers.BOOT_TIMEOUT_MS)
-    page.console_errors = []
-    page.on("pageerror", lambda err: page.console_errors.append(f"pageerror: {err}"))
-    page.goto(site.url + "index.html#/settings")
-    page.wait_for_selector("body[data-core-ready]")
-    wait_screen(page)
-    page.get_by_label("Theme").select_option(request.param)
-    page.wait_for_function("(t) => document.documentElement.dataset.theme === t", arg=request.param)
-    yield page
-    context.close()
-    guard.assert_clean()
-
-
-def scroll_width(page) -> int:
-    return page.evaluate("() => document.documentElement.scrollWidth")
-
-
-def shown_errors(page) -> list[str]:
-    """The error lines a person sees (empty ones are not displayed)."""
-    return page.eval_on_selector_all(".field-error, .core-error", "ns => ns.filter(n => n.textContent.trim()"
-                                     " && n.getClientRects().length).map(n => n.textContent)")
+    yield from phone_session(browser, site, request.param)
 
 
 def add_clay_core(page) -> None:

@@ -26,10 +26,9 @@ import pytest
 
 import helpers
 from tamis.api import handle
-from test_ui_common import cpython, go, settle, wait_screen
+from test_ui_common import PHONE, cpython, go, phone_session, scroll_width, settle, shown_errors, wait_screen
 from test_ui_inspector import CLEAN, STACK, num
 
-PHONE = {"width": 360, "height": 780}
 
 #: Masses retained on the "Soil" stack [g], as typed (one with a comma); the sieves above 4.75 mm stay empty.
 MASSES = [("4.75", "0"), ("2", "9,6"), ("0.85", "14.2"), ("0.425", "17.5"), ("0.25", "21.3"), ("0.15", "24.8"),
@@ -69,30 +68,8 @@ def shown_3(v: float) -> str:
 def phone(request, browser, site):
     """A 360 x 780 phone with the tester's name set, in the theme given by parametrize (standard by default)."""
     theme = getattr(request, "param", "standard")
-    context = browser.new_context(viewport=PHONE, accept_downloads=True)
-    guard = helpers.RequestGuard(context, site.origin)
-    page = context.new_page()
-    page.set_default_timeout(helpers.BOOT_TIMEOUT_MS)
-    page.console_errors = []
-    page.on("pageerror", lambda err: page.console_errors.append(f"pageerror: {err}"))
-    page.goto(site.url + "index.html#/settings")
-    page.wait_for_selector("body[data-core-ready]")
-    wait_screen(page)
-    page.get_by_label("Your name or initials (recorded with each save)").fill("LT")
-    page.get_by_label("Theme").select_option(theme)
-    page.wait_for_function("(t) => document.documentElement.dataset.theme === t", arg=theme)
-    yield page
-    context.close()
-    guard.assert_clean()
+    yield from phone_session(browser, site, theme, tester="LT", accept_downloads=True)
 
-
-def scroll_width(page) -> int:
-    return page.evaluate("() => document.documentElement.scrollWidth")
-
-
-def shown_errors(page) -> list[str]:
-    return page.eval_on_selector_all(".field-error, .core-error", "ns => ns.filter(n => n.textContent.trim()"
-                                     " && n.getClientRects().length).map(n => n.textContent)")
 
 
 def reading_field(i: int, name: str) -> str:
