@@ -9,7 +9,7 @@ PORT   ?= 8765
 HOST   ?= 127.0.0.1
 export PIP_DISABLE_PIP_VERSION_CHECK := 1
 
-.PHONY: setup system build run test lint test-core test-pyodide test-e2e test-engines bench regenerate check-generated screenshots clean
+.PHONY: setup system build run test lint test-core test-fuzz test-pyodide test-e2e test-engines bench regenerate check-generated screenshots clean
 
 ## setup: Debian packages, the Python virtual environment and npm packages
 setup: system $(VENV)/.stamp node_modules/.stamp
@@ -46,6 +46,11 @@ lint: setup
 
 test-core: setup
 	$(PY) -m pytest -q tests
+
+## test-fuzz: the contract property test (tests/test_contract_fuzz.py) with 10,000 examples per op (about an
+## hour on two cores); `make test` runs it with 40 per op
+test-fuzz: setup
+	TAMIS_FUZZ_EXAMPLES=10000 $(PY) -m pytest -q -s -p no:cacheprovider tests/test_contract_fuzz.py -k every_reply
 
 test-pyodide: build
 	node tests/pyodide/replay_golden.mjs

@@ -233,7 +233,7 @@ def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = Fal
         if not cells.get(col):
             raise cell_error("missing_value", f"{where}.{col}", "is empty; every row needs it.")
     rev_cell = cells["rev"]
-    if not rev_cell.isdigit() or not rev_cell.isascii():
+    if not rev_cell.isdigit() or not rev_cell.isascii() or len(rev_cell) > 16:
         raise cell_error("bad_rev", f"{where}.rev", f"must be a whole number 1 or more, got {rev_cell!r}.")
     rec = {
         "record_id": unescape_text(cells["record_id"]),
@@ -308,6 +308,7 @@ def read_files(texts, paths=None) -> list[list[dict]]:
 def _read_rows(text: str, path: str, memo: dict | None):
     reader = csv.reader(io.StringIO(text, newline=""), strict=True)
     n = 0
+    has_nul = "\x00" in text
     records, rows, by_id = [], [], {}
     hdr = None
     try:
@@ -320,6 +321,11 @@ def _read_rows(text: str, path: str, memo: dict | None):
             if not any(row):
                 continue  # a blank line holds nothing
             where = f"{path}.row[{n}]"
+            if has_nul:
+                for col, cell in zip(cols, row):
+                    if "\x00" in cell:
+                        raise cell_error("nul_character", f"{where}.{col}", "the cell holds a NUL character (byte "
+                                         "0), which no text of a record may hold; the file may be damaged.")
             if len(row) != len(cols):
                 raise InputError("wrong_cell_count", f"Row {n} has {len(row)} cells but the header has "
                                                      f"{len(cols)}; the line may be truncated or hold an "

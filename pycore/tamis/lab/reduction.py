@@ -23,6 +23,10 @@ from .sieve_analysis import parse_test
 from .uscs import Plasticity, classify
 
 
+#: Largest Atterberg limit accepted [%] (bentonites reach several hundred; common practice, no source).
+LIMIT_MAX_PCT = 1000.0
+
+
 @dataclass(frozen=True)
 class Reduced:
     """A reduced test.
@@ -69,8 +73,8 @@ def parse_props(test: dict, path: str) -> dict:
     pp = join(path, "plasticity")
     require_mapping(pl, pp)
     np_ = boolean(pl, "nonplastic", pp)
-    ll = number(pl, "liquid_limit", pp, required=False, minimum=0.0)
-    pi = number(pl, "plasticity_index", pp, required=False, minimum=0.0)
+    ll = number(pl, "liquid_limit", pp, required=False, minimum=0.0, maximum=LIMIT_MAX_PCT)
+    pi = number(pl, "plasticity_index", pp, required=False, minimum=0.0, maximum=LIMIT_MAX_PCT)
     if (ll is None) != (pi is None):
         missing = "plasticity_index" if pi is None else "liquid_limit"
         raise InputError("missing_field", f"{join(pp, missing)} is required with the other Atterberg limit.",
