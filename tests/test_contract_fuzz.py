@@ -158,11 +158,32 @@ def masses_test(draw):
     return t
 
 
+_ANY = st.floats(allow_nan=False, allow_infinity=False)
+_POSITIVE = st.floats(min_value=5e-324, max_value=1.7976931348623157e308)
+
+
+@st.composite
+def wild_test(draw):
+    """A well-formed test whose numbers may be anything finite: openings from 5e-324 to 1.8e308 mm,
+    masses up to 1.8e308 g (each must be a result or an input error at its field)."""
+    sizes = sorted(set(draw(st.lists(_POSITIVE, min_size=2, max_size=8))), reverse=True)
+    if draw(st.booleans()):
+        p, pts = 100.0, []
+        for d in sizes:
+            pts.append({"opening_mm": d, "passing_pct": p})
+            p = max(0.0, p - draw(st.floats(0.0, 100.0)))
+        return {"passing": pts, "plasticity": {"nonplastic": True}}
+    return {"sieves": [{"opening_mm": d, "retained_g": draw(st.floats(0.0, 1.7976931348623157e308))} for d in sizes],
+            "dry_mass_g": draw(_POSITIVE), "pan_g": draw(st.floats(0.0, 1e300))}
+
+
 def realistic(op: str):
-    test = st.one_of(passing_test(), masses_test())
+    test = st.one_of(passing_test(), masses_test(), wild_test())
     rules = st.fixed_dictionaries({}, optional={"criteria": st.sampled_from(["nrcs-1994", "usbr-2011", "fema-2011",
                                                                               "terzaghi"]),
-                                                "void_ratio": st.floats(0.2, 1.5),
+                                                "void_ratio": st.one_of(st.floats(0.2, 1.5), _ANY),
+                                                "shape_factor": _ANY, "hazen_c": _ANY, "kc_pan_lower_mm": _ANY,
+                                                "regrade_on_mm": _ANY, "terzaghi_ratio": _ANY,
                                                 "dispersive": st.booleans()})
     if op == "gradation":
         return st.builds(lambda t: {"op": op, "test": t}, test)

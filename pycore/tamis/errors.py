@@ -15,8 +15,10 @@ import math
 # never a defect of the core: each bound is wide enough for every real test and narrow enough that no
 # computation overflows. Common practice, no source: the bounds are ours.
 
-#: Largest magnitude of any number of a request: 10^12 (``out_of_range`` above).
+#: Largest magnitude of any number of a request: 10^12 (``out_of_range`` above); smallest magnitude of a
+#: number that is not 0: 10^-12 (a 1e-309 % passing would make a regrading factor overflow).
 NUMBER_MAX_ABS = 1e12
+NUMBER_MIN_ABS = 1e-12
 #: Sieve openings and particle sizes [mm]: above 0.0001 mm (0.1 um) and at most 10,000 mm (10 m: riprap and
 #: rockfill gradations reach 2 m).
 OPENING_MIN_MM = 1e-4
@@ -120,6 +122,9 @@ def number(obj: dict, key: str, path: str, *, required: bool = True, minimum: fl
         raise InputError("not_finite", f"{p} must be a finite number.", p)
     if abs(v) > NUMBER_MAX_ABS:
         raise InputError("out_of_range", f"{p} is too large: at most {NUMBER_MAX_ABS:g} in magnitude, got {v:g}.", p)
+    if 0.0 < abs(v) < NUMBER_MIN_ABS:
+        raise InputError("out_of_range", f"{p} is too small: give 0 or a number of at least {NUMBER_MIN_ABS:g} in "
+                         f"magnitude, got {v:g}.", p)
     if minimum is not None and v < minimum:
         raise InputError("out_of_range", f"{p} must be at least {minimum:g}, got {v:g}.", p)
     if exclusive_minimum is not None and v <= exclusive_minimum:
