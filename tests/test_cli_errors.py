@@ -123,3 +123,8 @@ def test_an_atomic_write_gives_the_file_the_usual_permissions(files):
     mask = os.umask(0)
     os.umask(mask)
     assert (files / "new.csv").stat().st_mode & 0o777 == 0o666 & ~mask
+
+
+def test_check_names_a_csv_file_saved_as_utf16_without_a_byte_order_mark(files):
+    (files / "u16.csv").write_bytes((files / "dev0.csv").read_text(encoding="utf-8").encode("utf-16-le"))
+    one_line_error(run("check", "u16.csv", cwd=files), "u16.csv", "UTF-16")

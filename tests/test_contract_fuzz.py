@@ -389,3 +389,17 @@ def test_every_error_code_the_source_can_return_is_documented():
     assert len(codes) > 40 and {"bad_d_value_name", "base_incomplete", "too_many_items"} <= codes
     doc = (Path(__file__).parent.parent / "docs" / "json-contract.md").read_text(encoding="utf-8")
     assert sorted(c for c in codes if f"`{c}`" not in doc) == []
+
+
+def test_a_check_value_that_is_not_finite_is_explained_not_silently_null(monkeypatch):
+    import sys
+    import types
+    from tamis.checks import Check
+    mod = types.ModuleType("tests_fuzz_check")
+    mod.op = lambda req: ({"checks": [Check("qa.mass_balance", "fail", "m", float("inf"), 0.3, "<=", "%").to_dict()]},
+                          [])
+    monkeypatch.setitem(sys.modules, "tests_fuzz_check", mod)
+    monkeypatch.setitem(api.OPS, "version", "tests_fuzz_check:op")
+    r = json.loads(api.handle('{"op": "version"}'), parse_constant=_refuse)
+    assert r["result"]["checks"][0]["value"] is None
+    assert [f["field"] for f in r["findings"] if f["code"] == "not_computable"] == ["result.checks[0].value"]

@@ -46,7 +46,8 @@ def row_at(text: str, offset: int) -> int:
 def decode_csv_bytes(data: bytes, path: str = "csv") -> str:
     """Decode a file's bytes as UTF-8 (a leading BOM is allowed); a file in
     another encoding is refused with the row of its first bad byte."""
-    if data[:2] in (b"\xff\xfe", b"\xfe\xff"):
+    if data[:2] in (b"\xff\xfe", b"\xfe\xff") or (len(data) >= 2 and (data[0] == 0) != (data[1] == 0)):
+        # with its byte order mark, or without one: a NUL beside an ASCII letter at the start
         raise InputError("not_utf8", "The file is UTF-16 text; save it as CSV UTF-8.", path)
     try:
         return data.decode("utf-8")
