@@ -50,7 +50,8 @@ test-core: setup
 ## test-fuzz: the contract property test (tests/test_contract_fuzz.py) with 10,000 examples per op (about an
 ## hour on two cores); `make test` runs it with 40 per op
 test-fuzz: setup
-	TAMIS_FUZZ_EXAMPLES=10000 $(PY) -m pytest -q -s -p no:cacheprovider tests/test_contract_fuzz.py -k every_reply
+	TAMIS_FUZZ_EXAMPLES=10000 $(PY) -m pytest -q -s -p no:cacheprovider --timeout=0 \
+	  tests/test_contract_fuzz.py tests/test_design_band.py -k "every_reply or never_inverted"
 
 test-pyodide: build
 	node tests/pyodide/replay_golden.mjs

@@ -403,3 +403,12 @@ def test_a_check_value_that_is_not_finite_is_explained_not_silently_null(monkeyp
     r = json.loads(api.handle('{"op": "version"}'), parse_constant=_refuse)
     assert r["result"]["checks"][0]["value"] is None
     assert [f["field"] for f in r["findings"] if f["code"] == "not_computable"] == ["result.checks[0].value"]
+
+
+def test_a_400_digit_split_sieve_is_an_input_error_at_its_field():
+    req = json.loads((GOLDEN / "evaluate-filter-clay-core-hydrometer.request.json").read_text(encoding="utf-8"))
+    text = re.sub(r'"split_mm": [0-9.]+', '"split_mm": ' + "9" * 400, json.dumps(req), count=1)
+    assert "9" * 400 in text
+    r = json.loads(api.handle(text), parse_constant=_refuse)
+    assert r["ok"] is False and r["error"]["code"] == "out_of_range"
+    assert r["error"]["field"] == "base.sedimentation.split_mm"

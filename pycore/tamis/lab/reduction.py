@@ -149,10 +149,9 @@ def combine(sieve_curve: Curve, sed_obj, path: str) -> tuple[Curve, dict, list[F
     finest sieve stays in the reduced table but not in the curve (a note says
     so); a point that rises above the sieve curve is an error on its reading.
     """
-    split = sed_obj.get("split_mm") if isinstance(sed_obj, dict) else None
-    at_split = None
-    if isinstance(split, (int, float)) and not isinstance(split, bool):
-        at_split = next((p for d, p in sieve_curve.points if same_size(d, float(split))), None)
+    require_mapping(sed_obj, path)
+    split = number(sed_obj, "split_mm", path)  # a 400-digit split is refused here, at its field
+    at_split = next((p for d, p in sieve_curve.points if same_size(d, split)), None)
     sed = reduce_sedimentation(sed_obj, path, 0.0 if at_split is None else at_split)
     if at_split is None:
         sp = join(path, "split_mm")
