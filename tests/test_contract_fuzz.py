@@ -6,7 +6,8 @@ Every request, however malformed, must come back from ``tamis.api.handle`` as on
 - an ``ok: false`` reply has a non-empty ``code``, a ``message`` and a ``field`` (text), and is never
   ``internal_error``: extreme but well-formed numbers are input errors naming their field (docs/decisions.md);
 - an ``ok: true`` reply holds no value the core could not compute (no ``not_computable`` finding: NaN or
-  Infinity never reach a result), and each null D-value, Cu or Cc of a gradation is explained by a finding;
+  Infinity never reach a result), and each null D-value, Cu, Cc or fraction of a gradation is explained by a
+  finding (``d_below_range``, ``d_above_range``, ``cu_undefined``, ``fraction_undefined``);
 - percent passing lies in 0..100 and never rises as sizes fall, in every gradation of every reply;
 - a band that ``design_band`` calls feasible is never inverted (min above max) at any sieve.
 
@@ -252,6 +253,7 @@ def problems(op: str, text: str) -> list[str]:
         if f.get("code") == "not_computable":
             bad.append(f"unexplained null (NaN/Infinity scrubbed): {f.get('field')}")
     has_cu_note = any(f.get("code") == "cu_undefined" for f in findings)
+    fractions_said = " ".join(f.get("message", "") for f in findings if f.get("code") == "fraction_undefined")
     for g in _gradations(r.get("result")):
         pts = g["points"]
         for a, b in zip(pts, pts[1:]):
@@ -267,6 +269,9 @@ def problems(op: str, text: str) -> list[str]:
                 bad.append(f"unexplained null: d_mm.{k}")
         if (g.get("cu") is None or g.get("cc") is None) and not has_cu_note:
             bad.append("unexplained null: cu/cc without cu_undefined")
+        for name in ("cobbles", "gravel", "sand", "fines"):
+            if g.get(f"{name}_pct") is None and not re.search(rf"\b{name} \(needs", fractions_said):
+                bad.append(f"unexplained null: {name}_pct")
     res = r.get("result") or {}
     if op == "design_band" and res.get("feasible"):
         for lim in res["band"]["limits"]:

@@ -143,6 +143,6 @@ def base_info(b: BaseAnalysis | None, props: dict | None = None, findings: list 
         rg, notes = gradation_of(b.retention_curve, props or _NO_PROPS, "base")
         if findings is not None:
             findings.extend(replace(f, message="Regraded base: " + f.message) for f in notes
-                            if f.code in ("d_below_range", "d_above_range", "cu_undefined"))
+                            if f.code in ("d_below_range", "d_above_range", "cu_undefined", "fraction_undefined"))
         rg = {**rg, "regraded_on_mm": b.regrade_on_mm, "correction_factor": b.correction_factor}
     return {"base_category": b.category, "a_pct": b.a_pct, "base_regraded": rg}

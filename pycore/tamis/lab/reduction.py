@@ -110,6 +110,14 @@ def gradation_of(curve: Curve, props: dict, path: str = "test.sieves") -> tuple[
                                 f"passes the top sieve ({top_d:g} mm); add a coarser sieve.", path))
     if cu is None:
         findings.append(Finding("note", "cu_undefined", "Cu and Cc need D10, D30 and D60.", path))
+    unknown = [(name, size) for name, size, v in (("cobbles", "75 mm", fr.cobbles_pct), ("gravel", "75 and 4.75 mm",
+                                                                                         fr.gravel_pct),
+                                                  ("sand", "4.75 and 0.075 mm", fr.sand_pct),
+                                                  ("fines", "0.075 mm", fr.fines_pct)) if v is None]
+    if unknown:
+        findings.append(Finding("note", "fraction_undefined", "Not determined: " + "; ".join(
+            f"{name} (needs the percent passing {size}, which the curve does not reach)" for name, size in unknown)
+            + ". Never extrapolated.", path))
     uscs = classify(curve, Plasticity(props["nonplastic"], props["liquid_limit"], props["plasticity_index"]))
     for w in uscs.warnings:
         findings.append(Finding("warning", "u_line", w, path.rsplit(".", 1)[0] + ".plasticity",
