@@ -47,8 +47,8 @@ lint: setup
 test-core: setup
 	$(PY) -m pytest -q tests
 
-## test-fuzz: the contract property test (tests/test_contract_fuzz.py) with 10,000 examples per op (about an
-## hour on two cores); `make test` runs it with 40 per op
+## test-fuzz: the contract property test (tests/test_contract_fuzz.py) with 10,000 examples per op (5 to 30
+## minutes, as loaded as the machine is), and the design-band property; `make test` runs 40 per op
 test-fuzz: setup
 	TAMIS_FUZZ_EXAMPLES=10000 $(PY) -m pytest -q -s -p no:cacheprovider --timeout=0 \
 	  tests/test_contract_fuzz.py tests/test_design_band.py -k "every_reply or never_inverted"
