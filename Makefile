@@ -9,7 +9,7 @@ PORT   ?= 8765
 HOST   ?= 127.0.0.1
 export PIP_DISABLE_PIP_VERSION_CHECK := 1
 
-.PHONY: setup system build run test lint test-core test-pyodide test-e2e test-engines bench regenerate check-generated screenshots clean
+.PHONY: setup system build run test lint test-core test-fuzz test-pyodide test-e2e test-engines bench regenerate check-generated screenshots clean
 
 ## setup: Debian packages, the Python virtual environment and npm packages
 setup: system $(VENV)/.stamp node_modules/.stamp
@@ -46,6 +46,12 @@ lint: setup
 
 test-core: setup
 	$(PY) -m pytest -q tests
+
+## test-fuzz: the contract property test (tests/test_contract_fuzz.py) with 10,000 examples per op (5 to 30
+## minutes, as loaded as the machine is), and the design-band property; `make test` runs 40 per op
+test-fuzz: setup
+	TAMIS_FUZZ_EXAMPLES=10000 $(PY) -m pytest -q -s -p no:cacheprovider --timeout=0 \
+	  tests/test_contract_fuzz.py tests/test_design_band.py -k "every_reply or never_inverted"
 
 test-pyodide: build
 	node tests/pyodide/replay_golden.mjs

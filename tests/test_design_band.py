@@ -228,3 +228,56 @@ def test_terzaghi_band_on_a_very_fine_base_keeps_the_fine_limit_above_0075():
     res = r["result"]
     assert res["control_points"]["d15f_min_mm"] == 0.1
     assert any(f["code"] == "band_fines_floor" for f in r["findings"])
+
+
+# ------------------------------------------------------------ never inverted when feasible
+_ISSUE_BASES = [  # the two bases of the report that gave feasible: true with min above max (invented data)
+    {"passing": [{"opening_mm": 50, "passing_pct": 100}, {"opening_mm": 4.75, "passing_pct": 29.61780813},
+                 {"opening_mm": 2, "passing_pct": 1}, {"opening_mm": 0.005, "passing_pct": 0}],
+     "plasticity": {"liquid_limit": 21.78, "plasticity_index": 5.57}},
+    {"passing": [{"opening_mm": 100, "passing_pct": 100}, {"opening_mm": 0.25, "passing_pct": 0}],
+     "plasticity": {"nonplastic": True}},
+]
+
+
+def _never_inverted(res):
+    if not res["feasible"]:
+        return
+    for lim, raw in zip(res["band"]["limits"], res["band_unrounded"]):
+        assert lim["min_pct"] <= lim["max_pct"], lim
+        assert raw["min_unrounded_pct"] <= raw["max_unrounded_pct"], raw
+        # the published limits never lie outside the unrounded band (rounding only narrows it)
+        assert lim["min_pct"] >= raw["min_unrounded_pct"] and lim["max_pct"] <= raw["max_unrounded_pct"], (lim, raw)
+
+
+def test_a_band_narrower_than_the_rounding_step_is_not_inverted_and_says_so():
+    r = json.loads(api.handle(json.dumps({"schema": 1, "op": "design_band", "id": 1, "bases": _ISSUE_BASES})))
+    assert r["ok"], r
+    res = r["result"]
+    assert res["feasible"] is True
+    _never_inverted(res)
+    narrow = [f for f in r["findings"] if f["code"] == "band_narrow"]
+    assert len(narrow) == 1 and "50 mm" in narrow[0]["message"]
+    at50 = next(x for x in res["band"]["limits"] if x["opening_mm"] == 50.0)
+    assert 96.30 < at50["min_pct"] < at50["max_pct"] < 96.32     # unrounded there: 96.3093 to 96.3108 %
+
+
+@hst.composite
+def _plastic_bases(draw):
+    t = draw(_base_tests())
+    if draw(hst.booleans()):
+        ll = draw(hst.floats(15.0, 60.0))
+        t["plasticity"] = {"liquid_limit": ll, "plasticity_index": draw(hst.floats(0.0, ll * 0.6))}
+    else:
+        t["plasticity"] = {"nonplastic": True}
+    return t
+
+
+@settings(max_examples=int(__import__("os").environ.get("TAMIS_FUZZ_EXAMPLES", "60")), deadline=None)
+@given(hst.lists(_plastic_bases(), min_size=1, max_size=3),
+       hst.sampled_from(["nrcs-1994", "usbr-2011", "fema-2011", "terzaghi"]))
+def test_a_feasible_band_is_never_inverted_at_any_sieve(bases, crit):
+    r = json.loads(api.handle(json.dumps({"schema": 1, "op": "design_band", "id": 1, "bases": bases,
+                                          "rules": {"criteria": crit}})))
+    assume(r["ok"])
+    _never_inverted(r["result"])

@@ -280,7 +280,7 @@ from hypothesis import given, settings, strategies as st  # noqa: E402
 
 _finite = st.floats(allow_nan=False, allow_infinity=False)
 # Any text but U+FFFD, which records refuse where it enters (the mark of a mis-decoded file; tested below).
-_chars = st.characters(blacklist_characters="\ufffd", blacklist_categories=("Cs",))
+_chars = st.characters(blacklist_characters="\ufffd\x00", blacklist_categories=("Cs",))
 _text = st.text(alphabet=_chars)
 
 
@@ -308,3 +308,45 @@ def test_any_text_and_any_finite_number_round_trip(notes, by, station, offset, m
     assert back == r
     assert csv_write.write_csv([back]) == text
     assert math.copysign(1.0, back["test"]["sieves"][0]["retained_g"]) == math.copysign(1.0, mass)
+
+
+# ------------------------------------------------------------ NUL and look-alike formula characters
+
+LOOKALIKE_TRIGGERS = ("\uff1d", "\uff0b", "\uff0d", "\uff20", "\u2212", "\ufe62", "\ufe63", "\ufe66", "\ufe6b")
+
+
+@pytest.mark.parametrize("first", LOOKALIKE_TRIGGERS)
+def test_full_width_and_look_alike_formula_characters_are_neutralised_like_ascii(first):
+    # U+FF1D = U+FF0B + U+FF0D - U+FF20 @ and U+2212 minus, U+FE62 small plus (and the other small forms):
+    # some spreadsheets fold them to their ASCII forms before deciding that a cell is a formula
+    s = first + "SUM(1+1)"
+    assert csv_format.escape_text(s) == "'" + s
+    r = rec()
+    r["meta"]["notes"] = s
+    r["updated_by"] = first + "1+1"
+    out = call("records_export_csv", records=[r])
+    rows = parse_rfc4180(out["result"]["csv"])
+    cells = dict(zip(rows[0], rows[1]))
+    assert cells["notes"] == "'" + s and cells["updated_by"] == "'" + first + "1+1"
+    back = call("records_import_csv", csv=out["result"]["csv"])
+    assert back["ok"], back
+    kept = [x for x in back["result"]["records"] if x["record_id"] == UID][0]
+    assert kept["meta"]["notes"] == s and kept["updated_by"] == first + "1+1"
+
+
+def test_a_nul_byte_in_a_text_cell_is_refused_with_its_row_and_column():
+    text = call("records_export_csv", records=[rec(meta={"sample_id": "S-0001", "notes": "wet"})])["result"]["csv"]
+    bad = text.replace("wet", "w\x00et")
+    res = call("records_import_csv", csv=bad)
+    assert res["ok"] is False
+    assert res["error"]["code"] == "nul_character"
+    assert res["error"]["field"] == "csv.row[2].notes"
+    assert res["error"]["message"].startswith("Row 2, column notes:")
+
+
+def test_a_nul_character_in_a_record_is_refused_at_export_naming_the_field():
+    r = rec()
+    r["meta"]["station"] = "0+120\x00"
+    res = call("records_export_csv", records=[r])
+    assert res["ok"] is False and res["error"]["code"] == "nul_character"
+    assert res["error"]["field"].endswith("meta.station")

@@ -29,7 +29,7 @@ import json
 import math
 
 from . import __version__
-from .errors import InputError
+from .errors import InputError, join
 from .checks import Finding
 
 SCHEMA = 1
@@ -76,15 +76,45 @@ def _error(req_id, err: InputError) -> str:
     return _dumps({"schema": SCHEMA, "id": req_id, "ok": False, "error": err.to_dict()})
 
 
-def _scrub(obj):
-    """Replace any non-finite float by None (a last guard; ops should not make them)."""
+def _scrub(obj, path: str = "result", found: list | None = None):
+    """Replace any non-finite float by None (a last guard; ops should not make them),
+    appending the path of each replaced value to ``found``."""
     if isinstance(obj, float):
-        return obj if math.isfinite(obj) else None
+        if math.isfinite(obj):
+            return obj
+        if found is not None:
+            found.append(path)
+        return None
     if isinstance(obj, dict):
-        return {k: _scrub(v) for k, v in obj.items()}
+        return {k: _scrub(v, join(path, str(k)), found) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):
-        return [_scrub(v) for v in obj]
+        return [_scrub(v, join(path, i), found) for i, v in enumerate(obj)]
     return obj
+
+
+def _reply(req_id, result, findings) -> str:
+    """The ``ok: true`` reply. A NaN or Infinity an op let through becomes null with a
+    ``not_computable`` warning naming where it was (the contract: every null is explained)."""
+    out = {"schema": SCHEMA, "id": req_id, "ok": True, "core_version": __version__, "result": result,
+           "findings": [f.to_dict() if isinstance(f, Finding) else f for f in findings]}
+    try:
+        return _dumps(out)
+    except ValueError:
+        found: list[str] = []
+        out["result"] = _scrub(result, "result", found)
+        out["findings"] = _scrub(out["findings"], "findings", found)
+        out["findings"] += [{"level": "warning", "code": "not_computable",
+                             "message": f"{p} could not be computed from these numbers (it is not a finite "
+                                        "number); it is given as null. Check the input for extreme values.",
+                             "field": p, "source": ""} for p in found]
+        return _dumps(out)
+
+
+def _safe_id(req_id):
+    """The id as it may be echoed: strings, finite numbers, booleans and null."""
+    if isinstance(req_id, float) and not math.isfinite(req_id):
+        return None
+    return req_id
 
 
 def handle(request_json: str) -> str:
@@ -107,9 +137,9 @@ def handle(request_json: str) -> str:
         if not isinstance(req, dict):
             raise InputError("not_an_object", "The request must be a JSON object.", "")
         req_id = req.get("id")
-        if isinstance(req_id, (dict, list)):
+        if isinstance(req_id, (dict, list)) or _safe_id(req_id) is not req_id:
             req_id = None
-            raise InputError("bad_id", "id must be a string, a number or null.", "id")
+            raise InputError("bad_id", "id must be a string, a finite number or null.", "id")
         schema = req.get("schema", SCHEMA)
         if schema != SCHEMA or isinstance(schema, bool):
             raise InputError("unsupported_schema", f"schema must be {SCHEMA}; got {schema!r}.", "schema")
@@ -117,21 +147,33 @@ def handle(request_json: str) -> str:
         if not isinstance(op, str) or op not in OPS:
             raise InputError("unknown_op", f"op must be one of {', '.join(sorted(OPS))}; got {op!r}.", "op")
         result, findings = _resolve(op)(req)
-        out = {
-            "schema": SCHEMA,
-            "id": req_id,
-            "ok": True,
-            "core_version": __version__,
-            "result": result,
-            "findings": [f.to_dict() if isinstance(f, Finding) else f for f in findings],
-        }
-        try:
-            return _dumps(out)
-        except ValueError:  # a NaN or Infinity slipped through: replace it by null
-            return _dumps(_scrub(out))
+        return _reply(req_id, result, findings)
     except InputError as err:
-        return _error(req_id, err)
+        failure = err
     except Exception as exc:  # a defect in the core: say so, never a traceback
-        return _error(req_id, InputError("internal_error",
-                                         f"tamis could not compute this request ({type(exc).__name__}: {exc}). "
-                                         "Please report it with the input.", ""))
+        failure = _internal(exc)
+    return _last_resort(req_id, failure)
+
+
+def _internal(exc: BaseException) -> InputError:
+    try:
+        what = f"{type(exc).__name__}: {exc}"[:500]
+    except Exception:  # an exception whose text cannot be made
+        what = type(exc).__name__
+    return InputError("internal_error", f"tamis could not compute this request ({what}). "
+                      "Please report it with the input.", "")
+
+
+def _last_resort(req_id, err: InputError) -> str:
+    """The error reply, or an ``internal_error`` reply when even that fails (a reply that cannot be
+    encoded as strict JSON): ``handle`` never raises."""
+    try:
+        return _error(req_id, err)
+    except Exception as exc:
+        try:
+            return _error(_safe_id(req_id) if isinstance(req_id, (str, int, float, bool, type(None))) else None,
+                          _internal(exc))
+        except Exception:
+            return _dumps({"schema": SCHEMA, "id": None, "ok": False,
+                           "error": {"code": "internal_error", "message": "tamis could not encode its reply. "
+                                     "Please report it with the input.", "field": ""}})

@@ -9,7 +9,6 @@ note. Both serialise to the dicts of the JSON contract (see
 
 from __future__ import annotations
 
-import math
 from dataclasses import dataclass, field
 from typing import Iterable
 
@@ -26,10 +25,12 @@ REVIEW = "review"
 
 
 def _finite_or_none(x: float | None) -> float | None:
+    """``x`` as a float. A NaN or infinity is kept, not turned into a silent null: the JSON boundary
+    (``tamis.api``) replaces it by null with a ``not_computable`` warning naming the check, as the
+    contract requires (no test or fuzzed request produces one: the input limits prevent it)."""
     if x is None:
         return None
-    x = float(x)
-    return x if math.isfinite(x) else None
+    return float(x)
 
 
 @dataclass(frozen=True)

@@ -14,6 +14,7 @@ from __future__ import annotations
 import argparse
 import importlib
 import json
+import os
 import sys
 
 from . import SCREENING_NOTICE, __version__
@@ -36,11 +37,48 @@ OTHER_COMMANDS = {
 }
 
 
+class UserError(Exception):
+    """A mistake of the person at the command line (a file that cannot be read or written):
+    printed as one line ``error: FILE: problem``, exit status 2, never a traceback."""
+
+
+def decode_text(data: bytes, name: str) -> str:
+    """UTF-8 text of a file's bytes (a leading byte order mark is dropped); :class:`UserError` otherwise."""
+    if data[:2] in (b"\xff\xfe", b"\xfe\xff") or (len(data) >= 2 and (data[0] == 0) != (data[1] == 0)):
+        raise UserError(f"{name}: the file is UTF-16 text; save it as UTF-8.")
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = data[:exc.start].count(b"\n") + 1
+        raise UserError(f"{name}: byte {exc.start} (0x{data[exc.start]:02x}, line {line}) is not UTF-8; "
+                        "save the file as UTF-8.") from None
+    return text[1:] if text.startswith("\ufeff") else text
+
+
+def os_problem(err: OSError) -> str:
+    """A person's words for why a file could not be opened."""
+    if isinstance(err, FileNotFoundError):
+        return "no such file or folder"
+    if isinstance(err, IsADirectoryError):
+        return "is a folder, not a file"
+    if isinstance(err, NotADirectoryError):
+        return "a part of the path is not a folder"
+    if isinstance(err, PermissionError):
+        return "permission denied"
+    return err.strerror or type(err).__name__
+
+
 def _read(path: str) -> str:
     if path == "-":
-        return sys.stdin.read()
-    with open(path, encoding="utf-8") as fh:
-        return fh.read()
+        return decode_text(sys.stdin.buffer.read(), "standard input")
+    if os.path.isdir(path):
+        raise UserError(f"{path}: is a folder, not a file.")
+    try:
+        with open(path, "rb") as fh:
+            data = fh.read()
+    except OSError as err:
+        raise UserError(f"{path}: {os_problem(err)}.") from None
+    return decode_text(data, path)
 
 
 def build_request(command: str, text: str) -> str:
@@ -96,7 +134,11 @@ def make_parser() -> argparse.ArgumentParser:
 
 def main(argv=None) -> int:
     args = make_parser().parse_args(argv)
-    if args.command in JSON_COMMANDS:
-        return _run_json(args.command, args)
-    mod = importlib.import_module(OTHER_COMMANDS[args.command][0])
-    return mod.run(args.command, args)
+    try:
+        if args.command in JSON_COMMANDS:
+            return _run_json(args.command, args)
+        mod = importlib.import_module(OTHER_COMMANDS[args.command][0])
+        return mod.run(args.command, args)
+    except UserError as err:
+        print(f"error: {err}", file=sys.stderr)
+        return 2

@@ -10,6 +10,29 @@ from __future__ import annotations
 
 import math
 
+# --- Limits of the input (docs/json-contract.md "Limits"; docs/decisions.md) ----------------------
+# Well-formed numbers far outside anything a laboratory measures are input errors naming their field,
+# never a defect of the core: each bound is wide enough for every real test and narrow enough that no
+# computation overflows. Common practice, no source: the bounds are ours.
+
+#: Largest magnitude of any number of a request: 10^12 (``out_of_range`` above); smallest magnitude of a
+#: number that is not 0: 10^-12 (a 1e-309 % passing would make a regrading factor overflow).
+NUMBER_MAX_ABS = 1e12
+NUMBER_MIN_ABS = 1e-12
+#: Sieve openings and particle sizes [mm]: above 0.0001 mm (0.1 um) and at most 10,000 mm (10 m: riprap and
+#: rockfill gradations reach 2 m).
+OPENING_MIN_MM = 1e-4
+OPENING_MAX_MM = 10_000.0
+#: Masses [g]: at most 10^8 g (100 t).
+MASS_MAX_G = 1e8
+#: Points of one curve (sieves, passing points, D-values, hydrometer readings, band limits, calibration pairs).
+POINTS_MAX = 10_000
+#: Zones of a zone sequence and base soils of a designed band.
+ZONES_MAX = 20
+#: Characters of a sieve designation; of a name or other text field.
+LABEL_MAX_CHARS = 40
+TEXT_MAX_CHARS = 1_000
+
 
 class InputError(ValueError):
     """Input that is malformed or physically impossible.
@@ -49,11 +72,29 @@ def require_mapping(value, path: str) -> dict:
     return value
 
 
-def require_list(value, path: str, *, min_len: int = 0) -> list:
+def require_list(value, path: str, *, min_len: int = 0, max_len: int = POINTS_MAX) -> list:
     if not isinstance(value, list):
         raise InputError("not_a_list", f"{path} must be a list.", path)
     if len(value) < min_len:
         raise InputError("too_few_items", f"{path} needs at least {min_len} entries.", path)
+    if len(value) > max_len:
+        raise InputError("too_many_items", f"{path} has {len(value):,} entries; at most {max_len:,} are accepted.",
+                         path)
+    return value
+
+
+def opening(obj: dict, key: str, path: str, *, required: bool = True, default: float | None = None) -> float | None:
+    """A sieve opening or particle size [mm]: ``OPENING_MIN_MM`` < v <= ``OPENING_MAX_MM``."""
+    v = number(obj, key, path, required=required, default=default, exclusive_minimum=0.0, maximum=OPENING_MAX_MM)
+    if v is not None and v <= OPENING_MIN_MM:
+        p = join(path, key)
+        raise InputError("out_of_range", f"{p} must be larger than {OPENING_MIN_MM:g} mm (0.1 um), got {v:g} mm.", p)
+    return v
+
+
+def check_text_length(value: str, path: str, limit: int = TEXT_MAX_CHARS) -> str:
+    if len(value) > limit:
+        raise InputError("too_long", f"{path} has {len(value):,} characters; at most {limit:,} are accepted.", path)
     return value
 
 
@@ -72,10 +113,18 @@ def number(obj: dict, key: str, path: str, *, required: bool = True, minimum: fl
         return default
     v = obj[key]
     if isinstance(v, bool) or not isinstance(v, (int, float)):
-        raise InputError("not_a_number", f"{p} must be a number, got {type(v).__name__} {v!r}.", p)
+        shown = repr(v) if not isinstance(v, (str, list, dict)) or len(v) <= 40 else f"of length {len(v):,}"
+        raise InputError("not_a_number", f"{p} must be a number, got {type(v).__name__} {shown}.", p)
+    if isinstance(v, int) and not -NUMBER_MAX_ABS <= v <= NUMBER_MAX_ABS:
+        raise InputError("out_of_range", f"{p} is too large: at most {NUMBER_MAX_ABS:g} in magnitude.", p)
     v = float(v)
     if not math.isfinite(v):
         raise InputError("not_finite", f"{p} must be a finite number.", p)
+    if abs(v) > NUMBER_MAX_ABS:
+        raise InputError("out_of_range", f"{p} is too large: at most {NUMBER_MAX_ABS:g} in magnitude, got {v:g}.", p)
+    if 0.0 < abs(v) < NUMBER_MIN_ABS:
+        raise InputError("out_of_range", f"{p} is too small: give 0 or a number of at least {NUMBER_MIN_ABS:g} in "
+                         f"magnitude, got {v:g}.", p)
     if minimum is not None and v < minimum:
         raise InputError("out_of_range", f"{p} must be at least {minimum:g}, got {v:g}.", p)
     if exclusive_minimum is not None and v <= exclusive_minimum:
@@ -86,7 +135,7 @@ def number(obj: dict, key: str, path: str, *, required: bool = True, minimum: fl
 
 
 def text(obj: dict, key: str, path: str, *, required: bool = False, default: str | None = None,
-         choices: tuple[str, ...] | None = None) -> str | None:
+         choices: tuple[str, ...] | None = None, max_chars: int = TEXT_MAX_CHARS) -> str | None:
     p = join(path, key)
     if key not in obj or obj[key] is None:
         if required:
@@ -95,8 +144,9 @@ def text(obj: dict, key: str, path: str, *, required: bool = False, default: str
     v = obj[key]
     if not isinstance(v, str):
         raise InputError("not_a_string", f"{p} must be text.", p)
+    check_text_length(v, p, max_chars)
     if choices is not None and v not in choices:
-        raise InputError("unknown_choice", f"{p} must be one of {', '.join(choices)}; got {v!r}.", p)
+        raise InputError("unknown_choice", f"{p} must be one of {', '.join(choices)}; got {v[:40]!r}.", p)
     return v
 
 

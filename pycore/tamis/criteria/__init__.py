@@ -101,7 +101,7 @@ def run_filter_checks(sample, base=None, rules=None, path: str = "rules") -> Fil
         # the limits block carries exact limits only (a bound that decided a check stays in the check)
         limits.update({"d15_max_mm": ret_lim["limit_mm"], "d15_min_mm": permeability_limit(b, rs, r)[0],
                        "d85b_mm": b.d85b_mm, "d15b_mm": b.d15b_mm})
-        binfo = base_info(b, bprops)
+        binfo = base_info(b, bprops, findings)
     if r["stability"]:
         st, st_find = stability_checks(curve, r["kenney_lau_boundary"])
         if not r["stability_in_verdict"]:

@@ -8,7 +8,7 @@ the original curve d15B (the NRCS wording for the permeability limit is
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 from ..lab.uscs import decided_pct
 from ..lab.curve import Curve, passing_at, regrade, size_at
@@ -133,12 +133,16 @@ def analyse_base(curve: Curve, dispersive: bool | None, categorise: bool, regrad
                         findings=findings)
 
 
-def base_info(b: BaseAnalysis | None, props: dict | None = None) -> dict:
-    """The ``base_info`` block of a :class:`~tamis.criteria.FilterOutcome`."""
+def base_info(b: BaseAnalysis | None, props: dict | None = None, findings: list | None = None) -> dict:
+    """The ``base_info`` block of a :class:`~tamis.criteria.FilterOutcome`; the notes that explain the
+    nulls of the regraded gradation (D-values, Cu) are appended to ``findings``."""
     if b is None:
         return {"base_category": None, "a_pct": None, "base_regraded": None}
     rg = None
     if b.regraded:
-        rg, _ = gradation_of(b.retention_curve, props or _NO_PROPS, "base")
+        rg, notes = gradation_of(b.retention_curve, props or _NO_PROPS, "base")
+        if findings is not None:
+            findings.extend(replace(f, message="Regraded base: " + f.message) for f in notes
+                            if f.code in ("d_below_range", "d_above_range", "cu_undefined", "fraction_undefined"))
         rg = {**rg, "regraded_on_mm": b.regrade_on_mm, "correction_factor": b.correction_factor}
     return {"base_category": b.category, "a_pct": b.a_pct, "base_regraded": rg}

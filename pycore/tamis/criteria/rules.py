@@ -28,8 +28,16 @@ starting with ``_`` are ignored.
 
 from __future__ import annotations
 
-from ..errors import InputError, boolean, join, number, require_mapping, text
+from ..errors import InputError, boolean, join, number, opening, require_mapping, text
 from .tables import DEFAULT_RULE_SET, KENNEY_LAU_BOUNDARIES, NO_4_MM, RULE_SETS
+
+#: Accepted ranges of the numeric rules (docs/json-contract.md "Limits"; common practice, no source: wide
+#: around the published ranges, so that no estimate overflows). Hazen C_H [cm^-1 s^-1]: 0 < C <= 10,000.
+HAZEN_C_MAX = 1e4
+#: Void ratio e [-]: 0 < e <= 20 (peats reach about 15).
+VOID_RATIO_RANGE = (0.0, 20.0)
+#: Kozeny-Carman shape factor SF [-]: 1 to 100 (Fair & Hatch give 6.0 to 7.7).
+SHAPE_FACTOR_RANGE = (1.0, 100.0)
 
 KEYS = ("criteria", "terzaghi_ratio", "dispersive", "regrade", "regrade_on_mm", "kenney_lau_boundary",
         "stability", "stability_in_verdict", "hazen_c", "void_ratio", "shape_factor", "kc_pan_lower_mm")
@@ -61,14 +69,15 @@ def parse_rules(rules: dict | None, path: str = "rules") -> dict:
         "terzaghi_ratio": ratio,
         "dispersive": boolean(rules, "dispersive", path, default=None),
         "regrade": boolean(rules, "regrade", path, default=True),
-        "regrade_on_mm": number(rules, "regrade_on_mm", path, required=False, default=NO_4_MM,
-                                exclusive_minimum=0.0),
+        "regrade_on_mm": opening(rules, "regrade_on_mm", path, required=False, default=NO_4_MM),
         "kenney_lau_boundary": kl,
         "stability": stability,
         "stability_in_verdict": boolean(rules, "stability_in_verdict", path, default=False),
-        "hazen_c": number(rules, "hazen_c", path, required=False, default=100.0, exclusive_minimum=0.0),
-        "void_ratio": number(rules, "void_ratio", path, required=False, default=None, exclusive_minimum=0.0),
-        "shape_factor": number(rules, "shape_factor", path, required=False, default=7.0, exclusive_minimum=0.0),
-        "kc_pan_lower_mm": number(rules, "kc_pan_lower_mm", path, required=False, default=None,
-                                  exclusive_minimum=0.0),
+        "hazen_c": number(rules, "hazen_c", path, required=False, default=100.0, exclusive_minimum=0.0,
+                          maximum=HAZEN_C_MAX),
+        "void_ratio": number(rules, "void_ratio", path, required=False, default=None,
+                             exclusive_minimum=VOID_RATIO_RANGE[0], maximum=VOID_RATIO_RANGE[1]),
+        "shape_factor": number(rules, "shape_factor", path, required=False, default=7.0,
+                               minimum=SHAPE_FACTOR_RANGE[0], maximum=SHAPE_FACTOR_RANGE[1]),
+        "kc_pan_lower_mm": opening(rules, "kc_pan_lower_mm", path, required=False, default=None),
     }

@@ -70,8 +70,12 @@ def is_number_column(col: str) -> bool:
 DIALECTS = {"standard": (",", "."), "decimal_comma": (";", ",")}
 
 #: First characters that make a spreadsheet read a cell as a formula (OWASP),
-#: plus the escape character itself so that every text round-trips exactly.
-TRIGGERS = frozenset("=+-@\t\r\n'")
+#: plus the escape character itself so that every text round-trips exactly, plus the
+#: full-width and look-alike forms of = + - @ (some spreadsheets fold them to ASCII
+#: before deciding; common practice, no source): U+FF1D, U+FF0B, U+FF0D, U+FF20,
+#: U+2212 minus sign, U+FE62 small plus, U+FE63 small hyphen-minus, U+FE66 small
+#: equals, U+FE6B small commercial at.
+TRIGGERS = frozenset("=+-@\t\r\n'\uff1d\uff0b\uff0d\uff20\u2212\ufe62\ufe63\ufe66\ufe6b")
 
 NUM_RE = re.compile(r"[+-]?(\d+(\.\d*)?|\.\d+)([eE][+-]?\d+)?", re.ASCII)  # used with fullmatch
 

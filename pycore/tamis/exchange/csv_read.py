@@ -46,7 +46,8 @@ def row_at(text: str, offset: int) -> int:
 def decode_csv_bytes(data: bytes, path: str = "csv") -> str:
     """Decode a file's bytes as UTF-8 (a leading BOM is allowed); a file in
     another encoding is refused with the row of its first bad byte."""
-    if data[:2] in (b"\xff\xfe", b"\xfe\xff"):
+    if data[:2] in (b"\xff\xfe", b"\xfe\xff") or (len(data) >= 2 and (data[0] == 0) != (data[1] == 0)):
+        # with its byte order mark, or without one: a NUL beside an ASCII letter at the start
         raise InputError("not_utf8", "The file is UTF-16 text; save it as CSV UTF-8.", path)
     try:
         return data.decode("utf-8")
@@ -251,7 +252,7 @@ def row_record(cells: dict, colinfo: dict, where: str, *, check_json: bool = Fal
         if not cells.get(col):
             raise cell_error("missing_value", f"{where}.{col}", "is empty; every row needs it.")
     rev_cell = cells["rev"]
-    if not rev_cell.isdigit() or not rev_cell.isascii():
+    if not rev_cell.isdigit() or not rev_cell.isascii() or len(rev_cell) > 16:
         raise cell_error("bad_rev", f"{where}.rev", f"must be a whole number 1 or more, got {rev_cell!r}.")
     rec = {
         "record_id": unescape_text(cells["record_id"]),
@@ -328,6 +329,7 @@ def _read_rows(text: str, path: str, memo: dict | None):
     comma = text.startswith(MARKER + ";")
     reader = csv.reader(io.StringIO(text, newline=""), strict=True, delimiter=";" if comma else ",")
     n = 0
+    has_nul = "\x00" in text
     records, rows, by_id = [], [], {}
     hdr = None
     try:
@@ -340,6 +342,11 @@ def _read_rows(text: str, path: str, memo: dict | None):
             if not any(row):
                 continue  # a blank line holds nothing
             where = f"{path}.row[{n}]"
+            if has_nul:
+                for col, cell in zip(cols, row):
+                    if "\x00" in cell:
+                        raise cell_error("nul_character", f"{where}.{col}", "the cell holds a NUL character (byte "
+                                         "0), which no text of a record may hold; the file may be damaged.")
             if len(row) != len(cols):
                 raise InputError("wrong_cell_count", f"Row {n} has {len(row)} cells but the header has "
                                                      f"{len(cols)}; the line may be truncated or hold an "

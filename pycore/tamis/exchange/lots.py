@@ -384,7 +384,7 @@ def _one_lot(lot: _Lot, index, parts, superseded, as_of, settings, trends, findi
     out = {"lot_id": lot.record_id, "lot": lot.code, "has_record": lot.path is not None,
            "material": _opt_text(meta, "material", mp) or _first(points, lot, "material"),
            "zone": _opt_text(meta, "zone", mp) or _first(points, lot, "zone"),
-           "source": lot_source, "band_id": meta.get("band_id"), "base_id": meta.get("base_id"),
+           "source": lot_source, "band_id": _opt_text(meta, "band_id", mp), "base_id": _opt_text(meta, "base_id", mp),
            "status": status, "planned_quantity": planned, "quantity_unit": unit,
            "placed_quantity": freq.placed_quantity,
            "represented_quantity": _represented(points, unit),

@@ -24,11 +24,13 @@ CSV, the table or the JSON.
 
 from __future__ import annotations
 
+import contextlib
 import gc
 import json
 import multiprocessing
 import os
 import sys
+import tempfile
 import time
 
 from .. import SCREENING_NOTICE, __version__
@@ -213,8 +215,60 @@ def _load(path: str, memo: dict | None = None):
     except InputError as err:
         return _fail(path, err)
     except OSError as err:
-        print(f"error: {path}: {err.strerror}", file=sys.stderr)
+        why = "is a folder, not a file" if isinstance(err, IsADirectoryError) else (
+            "no such file or folder" if isinstance(err, FileNotFoundError) else err.strerror)
+        print(f"error: {path}: {why}", file=sys.stderr)
         return EXIT_BAD_INPUT
+
+
+def _target_problem(path: str) -> str | None:
+    """Why ``path`` cannot be written as a file, or None."""
+    if os.path.isdir(path):
+        return "is a folder, not a file"
+    folder = os.path.dirname(path) or "."
+    if not os.path.isdir(folder):
+        return f"the folder {folder} does not exist" if not os.path.exists(folder) else f"{folder} is not a folder"
+    return None
+
+
+def _new_file_mode(path: str) -> int:
+    """The mode an ordinary ``open(path, "w")`` would give: the target's own, or 0o666 less the umask."""
+    try:
+        return os.stat(path).st_mode & 0o777
+    except OSError:
+        mask = os.umask(0)
+        os.umask(mask)
+        return 0o666 & ~mask
+
+
+def write_all(outputs: list[tuple[str, bytes]]) -> int | None:
+    """Write every ``(path, bytes)`` atomically, or none of them when any cannot be written: each goes
+    to a temporary file in its own folder first, then replaces the target (``os.replace``), so a
+    failed run leaves no half-written file. Returns None, or the exit status after printing why."""
+    for path, _ in outputs:
+        why = _target_problem(path)
+        if why is not None:
+            print(f"error: {path}: {why}; nothing was written.", file=sys.stderr)
+            return EXIT_BAD_INPUT
+    temps: list[tuple[str, str]] = []
+    try:
+        for path, data in outputs:
+            fd, tmp = tempfile.mkstemp(dir=os.path.dirname(path) or ".", prefix=f".{os.path.basename(path)}.",
+                                       suffix=".tmp")
+            temps.append((tmp, path))
+            with os.fdopen(fd, "wb") as fh:
+                fh.write(data)
+            os.chmod(tmp, _new_file_mode(path))
+        for tmp, path in temps:
+            os.replace(tmp, path)
+    except OSError as err:
+        for tmp, _ in temps:
+            with contextlib.suppress(OSError):
+                os.unlink(tmp)
+        name = err.filename or (temps[-1][1] if temps else "output")
+        print(f"error: {name}: {err.strerror or type(err).__name__}; the output was not written.", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    return None
 
 
 def _check(args) -> int:
@@ -231,6 +285,11 @@ def _check(args) -> int:
 
 
 def _merge(args) -> int:
+    for path in ([] if args.output == "-" else [args.output]) + ([args.conflicts] if args.conflicts else []):
+        why = _target_problem(path)
+        if why is not None:  # said before the (possibly long) work, and again by write_all
+            print(f"error: {path}: {why}; nothing was written.", file=sys.stderr)
+            return EXIT_BAD_INPUT
     lists, memo = [], {}
     reading = Progress("read", "files", min_total=PROGRESS_MIN_FILES)
     with acyclic_work():  # one pause over all files and the merge: the collector would walk every record
@@ -245,16 +304,16 @@ def _merge(args) -> int:
     # ops.export_csv(merged), with the progress of the calc columns shown
     calc = None if args.no_calc else calc_cells(merged, args.jobs, Progress("calc columns", "records"))
     text = write_csv(merged, calc, bom=args.bom, dialect="decimal_comma" if args.decimal_comma else "standard")
+    outputs = [] if args.output == "-" else [(args.output, text.encode("utf-8"))]
+    if args.conflicts:
+        outputs.append((args.conflicts, (json.dumps({"conflicts": conflicts}, ensure_ascii=False, indent=1,
+                                                    allow_nan=False) + "\n").encode("utf-8")))
+    failed = write_all(outputs)
+    if failed is not None:
+        return failed
     if args.output == "-":
         sys.stdout.buffer.write(text.encode("utf-8"))
         sys.stdout.buffer.flush()
-    else:
-        with open(args.output, "wb") as fh:
-            fh.write(text.encode("utf-8"))
-    if args.conflicts:
-        with open(args.conflicts, "w", encoding="utf-8", newline="\n") as fh:
-            json.dump({"conflicts": conflicts}, fh, ensure_ascii=False, indent=1, allow_nan=False)
-            fh.write("\n")
     total = sum(len(x) for x in lists)
     print(f"merged {total} rows from {len(lists)} files into {len(merged)} records"
           + ("" if args.output == "-" else f" in {args.output}"), file=sys.stderr)
@@ -337,8 +396,9 @@ def _report_html(args, recs) -> int:
         sys.stdout.buffer.write(got["html"].encode("utf-8"))
         sys.stdout.buffer.flush()
     else:
-        with open(args.html, "wb") as fh:
-            fh.write(got["html"].encode("utf-8"))
+        failed = write_all([(args.html, got["html"].encode("utf-8"))])
+        if failed is not None:
+            return failed
     print(f"wrote {got['title']}" + ("" if kind == "test" else f" ({got['count']} test{'s' if got['count'] != 1 else ''})")
           + ("" if args.html == "-" else f" to {args.html}") + "; open it in a browser to print or save as PDF.",
           file=sys.stderr)

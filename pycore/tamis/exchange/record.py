@@ -44,6 +44,7 @@ PLASTICITY_NUM = ("liquid_limit", "plasticity_index")
 _UUID_RE = re.compile(r"[0-9a-f]{8}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{4}-[0-9a-f]{12}", re.ASCII)
 _ISO_RE = re.compile(r"(\d{4})-(\d{2})-(\d{2})T(\d{2}):(\d{2}):(\d{2})(\.\d{1,9})?Z", re.ASCII)
 _MAX_EXACT_INT = 2 ** 53
+_MAX_FLOAT_INT = 2 ** 1023
 
 
 def is_number(v) -> bool:
@@ -144,8 +145,9 @@ def check_record(rec, path: str = "record", *, check_json: bool = True) -> dict:
         raise InputError("bad_kind", f"{join(path, 'kind')} must be one of {', '.join(KINDS)}, got {kind!r}.",
                          join(path, "kind"))
     rev = rec.get("rev")
-    if isinstance(rev, bool) or not isinstance(rev, int) or rev < 1:
-        raise InputError("bad_rev", f"{join(path, 'rev')} must be a whole number 1 or more, got {rev!r}.",
+    if isinstance(rev, bool) or not isinstance(rev, int) or not 1 <= rev <= _MAX_EXACT_INT:
+        shown = f"{rev!r}"[:40]
+        raise InputError("bad_rev", f"{join(path, 'rev')} must be a whole number from 1 to 2^53, got {shown}.",
                          join(path, "rev"))
     updated_at = iso_field(rec, "updated_at", path)
     by = rec.get("updated_by")
@@ -177,7 +179,7 @@ def check_record(rec, path: str = "record", *, check_json: bool = True) -> dict:
         if not isinstance(h, dict):
             require_mapping(h, join(join(path, "history"), i))
         hrev = h.get("rev")
-        if isinstance(hrev, bool) or not isinstance(hrev, int) or hrev < 1:
+        if isinstance(hrev, bool) or not isinstance(hrev, int) or not 1 <= hrev <= _MAX_EXACT_INT:
             hp = join(join(path, "history"), i)
             raise InputError("bad_rev", f"{join(hp, 'rev')} must be a whole number 1 or more.", join(hp, "rev"))
         iso_field(h, "at", join(join(path, "history"), i))
@@ -200,6 +202,9 @@ def _no_replacement_char(value, path: str) -> None:
         if "\ufffd" in value:
             raise InputError("replacement_char", f"{path or 'record'} holds the character U+FFFD, the mark of "
                              "text read in the wrong encoding; retype it.", path)
+        if "\x00" in value:  # refused by the CSV reader too: such a record could never be read back
+            raise InputError("nul_character", f"{path or 'record'} holds a NUL character (code 0), which no "
+                             "text of a record may hold; retype it.", path)
     elif isinstance(value, dict):
         for k, v in value.items():
             _no_replacement_char(k, path)
@@ -235,7 +240,7 @@ def floats_only(obj):
     """``obj`` with every int (not bool) turned into a float, for comparisons only."""
     t = type(obj)
     if t is int:
-        return float(obj)
+        return float(obj) if -_MAX_FLOAT_INT < obj < _MAX_FLOAT_INT else obj  # beyond any float: kept as it is
     if t is dict:
         return {k: floats_only(v) for k, v in obj.items()}
     if t is list:

@@ -25,9 +25,10 @@ import re
 from html import escape
 
 from .. import SCREENING_NOTICE, __version__
-from ..errors import InputError
+from ..errors import NUMBER_MAX_ABS, InputError, text
 from ..registry import ENTRIES
 from .csv_format import fmt_num
+from ..lab.bands import parse_band
 from ..lab.reduction import op_gradation
 from ..project.evaluate import op_evaluate
 from .summaries import error_note, record_label
@@ -100,6 +101,13 @@ def test_data(rec: dict, index: dict) -> dict:
         out["note"] = error_note(exc)
         return out
     out["findings"] = [f.to_dict() for f in grad_findings]
+    if out["band"] is not None:
+        try:  # the band is drawn and tabled: only a band the core accepts
+            parse_band(out["band"])
+        except InputError as exc:
+            out["band"] = None
+            out["note"] = error_note(exc)
+            return out
     if missing:
         out["note"] = "No verdict: " + "; ".join(missing) + " (a verdict without that check could read as a pass)."
         return out
@@ -682,6 +690,21 @@ def style_hashes() -> list[str]:
             for t in texts]
 
 
+def _plain_meta(meta: dict) -> dict:
+    """A record's ``meta`` as the report reads it: text, finite numbers within the request limits and the
+    ``rules`` object; a list, an object, a boolean or an extreme number under any other key is not shown
+    (``meta`` keeps what a device wrote; the report prints only what it can print)."""
+    def shown(k, v):
+        if k == "rules":
+            return isinstance(v, dict)
+        if isinstance(v, str):
+            return True
+        if isinstance(v, bool) or not isinstance(v, (int, float)):
+            return False
+        return -NUMBER_MAX_ABS <= v <= NUMBER_MAX_ABS  # False for NaN; exact for a huge int
+    return {k: v for k, v in meta.items() if shown(k, v)}
+
+
 def build(records: list[dict], context=(), *, kind: str = "test", ids=(), lot=None, day=None,
           paper: str = "auto") -> dict:
     """The report document of checked records: ``kind`` ``test`` (one page per test named in
@@ -691,6 +714,8 @@ def build(records: list[dict], context=(), *, kind: str = "test", ids=(), lot=No
 
     Returns ``{"html", "title", "count"}`` (``count``: the tests reported).
     """
+    records = [{**r, "meta": _plain_meta(r.get("meta") or {})} for r in records]
+    context = [{**r, "meta": _plain_meta(r.get("meta") or {})} for r in context]
     index = {r["record_id"]: r for r in context}
     index.update({r["record_id"]: r for r in records})
     if kind == "test":
@@ -744,5 +769,7 @@ def op_report_html(req: dict):
     ids = req.get("ids") or []
     if not isinstance(ids, list) or not all(isinstance(i, str) for i in ids):
         raise InputError("not_a_list", "ids must be a list of record ids or sample ids.", "ids")
-    return build(recs, context, kind=req.get("report", "test"), ids=ids, lot=req.get("lot"), day=req.get("day"),
-                 paper=req.get("paper", "auto")), []
+    kind = text(req, "report", "", default="test", choices=("test", "lot", "day"))
+    paper = text(req, "paper", "", default="auto", choices=tuple(PAPERS))
+    return build(recs, context, kind=kind, ids=ids, lot=text(req, "lot", ""), day=text(req, "day", ""),
+                 paper=paper), []

@@ -63,6 +63,10 @@ PRESETS: tuple[dict, ...] = (
 )
 
 
+#: Largest fineness modulus a band may state [-]: ASTM C125 sums 11 sieves of at most 100 % each, / 100.
+FM_MAX = 11.0
+
+
 @dataclass(frozen=True)
 class Limit:
     opening_mm: float
@@ -106,8 +110,8 @@ def parse_band(obj, path: str = "band") -> Band:
         if same_size(a.opening_mm, b.opening_mm):
             raise InputError("duplicate_opening", f"{join(b.path, 'opening_mm')} repeats the opening "
                              f"{b.opening_mm:g} mm of {a.path}.", join(b.path, "opening_mm"))
-    fm_min = number(obj, "fm_min", path, required=False, minimum=0.0)
-    fm_max = number(obj, "fm_max", path, required=False, minimum=0.0)
+    fm_min = number(obj, "fm_min", path, required=False, minimum=0.0, maximum=FM_MAX)
+    fm_max = number(obj, "fm_max", path, required=False, minimum=0.0, maximum=FM_MAX)
     between = number(obj, "max_between_sieves_pct", path, required=False, minimum=0.0, maximum=100.0)
     source = text(obj, "source", path, default=SRC_USER_BAND)
     return Band(name, tuple(limits), fm_min, fm_max, between, source)

@@ -23,6 +23,10 @@ from .sieve_analysis import parse_test
 from .uscs import Plasticity, classify
 
 
+#: Largest Atterberg limit accepted [%] (bentonites reach several hundred; common practice, no source).
+LIMIT_MAX_PCT = 1000.0
+
+
 @dataclass(frozen=True)
 class Reduced:
     """A reduced test.
@@ -69,8 +73,8 @@ def parse_props(test: dict, path: str) -> dict:
     pp = join(path, "plasticity")
     require_mapping(pl, pp)
     np_ = boolean(pl, "nonplastic", pp)
-    ll = number(pl, "liquid_limit", pp, required=False, minimum=0.0)
-    pi = number(pl, "plasticity_index", pp, required=False, minimum=0.0)
+    ll = number(pl, "liquid_limit", pp, required=False, minimum=0.0, maximum=LIMIT_MAX_PCT)
+    pi = number(pl, "plasticity_index", pp, required=False, minimum=0.0, maximum=LIMIT_MAX_PCT)
     if (ll is None) != (pi is None):
         missing = "plasticity_index" if pi is None else "liquid_limit"
         raise InputError("missing_field", f"{join(pp, missing)} is required with the other Atterberg limit.",
@@ -106,6 +110,14 @@ def gradation_of(curve: Curve, props: dict, path: str = "test.sieves") -> tuple[
                                 f"passes the top sieve ({top_d:g} mm); add a coarser sieve.", path))
     if cu is None:
         findings.append(Finding("note", "cu_undefined", "Cu and Cc need D10, D30 and D60.", path))
+    unknown = [(name, size) for name, size, v in (("cobbles", "75 mm", fr.cobbles_pct), ("gravel", "75 and 4.75 mm",
+                                                                                         fr.gravel_pct),
+                                                  ("sand", "4.75 and 0.075 mm", fr.sand_pct),
+                                                  ("fines", "0.075 mm", fr.fines_pct)) if v is None]
+    if unknown:
+        findings.append(Finding("note", "fraction_undefined", "Not determined: " + "; ".join(
+            f"{name} (needs the percent passing {size}, which the curve does not reach)" for name, size in unknown)
+            + ". Never extrapolated.", path))
     uscs = classify(curve, Plasticity(props["nonplastic"], props["liquid_limit"], props["plasticity_index"]))
     for w in uscs.warnings:
         findings.append(Finding("warning", "u_line", w, path.rsplit(".", 1)[0] + ".plasticity",
@@ -145,10 +157,9 @@ def combine(sieve_curve: Curve, sed_obj, path: str) -> tuple[Curve, dict, list[F
     finest sieve stays in the reduced table but not in the curve (a note says
     so); a point that rises above the sieve curve is an error on its reading.
     """
-    split = sed_obj.get("split_mm") if isinstance(sed_obj, dict) else None
-    at_split = None
-    if isinstance(split, (int, float)) and not isinstance(split, bool):
-        at_split = next((p for d, p in sieve_curve.points if same_size(d, float(split))), None)
+    require_mapping(sed_obj, path)
+    split = number(sed_obj, "split_mm", path)  # a 400-digit split is refused here, at its field
+    at_split = next((p for d, p in sieve_curve.points if same_size(d, split)), None)
     sed = reduce_sedimentation(sed_obj, path, 0.0 if at_split is None else at_split)
     if at_split is None:
         sp = join(path, "split_mm")

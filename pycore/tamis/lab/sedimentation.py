@@ -36,7 +36,7 @@ import math
 from dataclasses import dataclass
 
 from ..checks import Finding
-from ..errors import InputError, join, number, require_list, require_mapping, text
+from ..errors import MASS_MAX_G, InputError, join, number, require_list, require_mapping, text
 
 #: International Critical Tables (1928/29) viscosity of water [cP] (read).
 VISCOSITY_CP = ((16.0, 1.1156), (18.0, 1.0603), (20.0, 1.0087), (22.0, 0.9608), (23.0, 0.9380),
@@ -50,6 +50,12 @@ DEPTH_152H = (16.3, 0.1641)
 EARLIEST_MIN = 1.0
 #: Stokes' range of the method [mm]: 75 um to about 0.2 um (D7928-17 scope, read).
 STOKES_RANGE_MM = (0.0002, 0.075)
+#: Accepted input ranges (common practice, no source: wide around any real test, so that nothing
+#: overflows): specific gravity 1 < Gs <= 10; water temperature 0 to 100 C; elapsed time at most
+#: 10^7 min (about 19 years).
+GS_MAX = 10.0
+WATER_C = (0.0, 100.0)
+TIME_MAX_MIN = 1e7
 #: Split sieves the method allows [mm].
 SPLIT_SIEVES_MM = (2.0, 0.075)
 SOURCE = "ASTM D7928-17 scope (read); reduction per D422 form, Das Eq. 3.29, ICT viscosity"
@@ -147,8 +153,8 @@ def reduce_sedimentation(sed, path: str, passing_split_pct: float) -> Sedimentat
     """
     require_mapping(sed, path)
     hyd = text(sed, "hydrometer", path, required=True, choices=("152H", "151H"))
-    gs = number(sed, "specific_gravity", path, exclusive_minimum=1.0)
-    w = number(sed, "dry_mass_g", path, exclusive_minimum=0.0)
+    gs = number(sed, "specific_gravity", path, exclusive_minimum=1.0, maximum=GS_MAX)
+    w = number(sed, "dry_mass_g", path, exclusive_minimum=0.0, maximum=MASS_MAX_G)
     split = number(sed, "split_mm", path)
     sp = join(path, "split_mm")
     if not any(abs(split - s) <= 1e-9 * s for s in SPLIT_SIEVES_MM):
@@ -176,9 +182,9 @@ def reduce_sedimentation(sed, path: str, passing_split_pct: float) -> Sedimentat
     for i, it in enumerate(require_list(sed.get("readings"), rp, min_len=1)):
         ip = join(rp, i)
         require_mapping(it, ip)
-        t = number(it, "time_min", ip, exclusive_minimum=0.0)
+        t = number(it, "time_min", ip, exclusive_minimum=0.0, maximum=TIME_MAX_MIN)
         r = number(it, "reading", ip)
-        temp = number(it, "temperature_c", ip)
+        temp = number(it, "temperature_c", ip, minimum=WATER_C[0], maximum=WATER_C[1])
         cc = number(it, "composite_correction", ip, required=False)
         if cc is None:
             cc = cc_fixed

@@ -32,12 +32,16 @@ from dataclasses import dataclass
 from decimal import Context, Decimal
 
 from .curve import GRAVEL_SAND_MM, SAND_FINES_MM, Curve, make_curve, same_size
-from ..errors import InputError, boolean, join, number, require_list, require_mapping, text
+from ..errors import LABEL_MAX_CHARS, MASS_MAX_G, POINTS_MAX, InputError, boolean, join, number, opening, \
+    require_list, require_mapping, text
 from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding, compare
 from ..registry import source_text
 from .sieves import label_for, resolve_opening
 from .tables import DEFAULT_FRAME, FRAMES, MASS_BALANCE_LIMIT_PCT, NMS_RETAINED_PCT, OVERLOAD_COARSE_FACTOR, \
     OVERLOAD_FINE_KG_PER_M2, SPECIMEN_MIN_G
+
+#: Largest moisture content accepted [%] (peats and some clays exceed 100 %; common practice, no source).
+MOISTURE_MAX_PCT = 1000.0
 
 #: Relative size of float rounding noise in summed masses [-]: a cumulative mass
 #: above the dry mass by less than this is the same mass, not an excess.
@@ -109,6 +113,9 @@ def _mass(obj: dict, key: str, path: str, *, required: bool = True, default: flo
     if v is not None and v < 0:
         p = join(path, key)
         raise InputError("negative_mass", f"{p} must not be negative, got {v:g} g.", p)
+    if v is not None and v > MASS_MAX_G:
+        p = join(path, key)
+        raise InputError("out_of_range", f"{p} must be at most {MASS_MAX_G:g} g (100 t), got {v:g} g.", p)
     return v
 
 
@@ -121,7 +128,7 @@ def _dry_mass(test: dict, path: str, findings: list) -> tuple[float, dict | None
             raise InputError("conflicting_fields", f"give either {p} or {join(path, 'moist_mass_g')} with "
                              f"{join(path, 'moisture_pct')}, not both.", p)
         moist = _mass(test, "moist_mass_g", path)
-        w = number(test, "moisture_pct", path, minimum=0.0)
+        w = number(test, "moisture_pct", path, minimum=0.0, maximum=MOISTURE_MAX_PCT)
         dry = moist / (1.0 + w / 100.0)
         if not dry > 0:
             p = join(path, "moist_mass_g")
@@ -267,8 +274,13 @@ def _d_value_points(test: dict, path: str) -> list[tuple[float, float, str]]:
     """
     dp = join(path, "d_mm")
     d = require_mapping(test.get("d_mm"), dp)
+    if len(d) > POINTS_MAX:
+        raise InputError("too_many_items", f"{dp} has {len(d):,} D-values; at most {POINTS_MAX:,} are accepted.", dp)
     pts = []
     for key in d:
+        if isinstance(key, str) and len(key) > LABEL_MAX_CHARS:
+            raise InputError("bad_d_value_name", f"{dp}: a D-value is named D followed by its percent passing "
+                             f"(D15, D85, D60...); a name of {len(key):,} characters is not one.", dp)
         kp = join(dp, key)
         pct_text = key[1:] if isinstance(key, str) and key[:1] in "Dd" else ""
         try:
@@ -278,7 +290,7 @@ def _d_value_points(test: dict, path: str) -> list[tuple[float, float, str]]:
         if not 0.0 <= pct <= 100.0:
             raise InputError("bad_d_value_name", f"{kp}: a D-value is named D followed by its percent passing "
                              "(D15, D85, D60...).", kp)
-        size = number(d, key, dp, exclusive_minimum=0.0)
+        size = opening(d, key, dp)
         pts.append((size, pct, kp))
     return pts
 

@@ -25,7 +25,8 @@ from bisect import bisect_right
 from functools import lru_cache
 
 from .curve import same_size
-from ..errors import InputError, join, number
+from ..errors import LABEL_MAX_CHARS, OPENING_MAX_MM, OPENING_MIN_MM, InputError, check_text_length, join, \
+    opening
 
 #: ASTM E11: (opening_mm, alternative designation). Coarsest first.
 ASTM_E11: tuple[tuple[float, str], ...] = (
@@ -206,16 +207,20 @@ def resolve_opening(obj: dict, path: str) -> float:
     if not has_mm and not has_label:
         raise InputError("missing_field", f"{join(path, 'opening_mm')} (or {join(path, 'sieve')}) is required.",
                          join(path, "opening_mm"))
-    mm = number(obj, "opening_mm", path, exclusive_minimum=0.0) if has_mm else None
+    mm = opening(obj, "opening_mm", path) if has_mm else None
     if has_label:
         label = obj["sieve"]
         p = join(path, "sieve")
         if not isinstance(label, str):
             raise InputError("not_a_string", f"{p} must be a sieve designation such as \"No. 40\".", p)
+        check_text_length(label, p, LABEL_MAX_CHARS)
         from_label = opening_from_label(label)
         if from_label is None:
             raise InputError("unknown_sieve", f"{p}: {label!r} is not a sieve designation tamis knows "
                              "(try \"No. 40\", \"3/8 in\" or \"4.75 mm\", or give opening_mm).", p)
+        if not OPENING_MIN_MM < from_label <= OPENING_MAX_MM:
+            raise InputError("out_of_range", f"{p}: {label!r} is {from_label:g} mm; an opening must be larger than "
+                             f"{OPENING_MIN_MM:g} mm and at most {OPENING_MAX_MM:g} mm.", p)
         if mm is not None and not same_size(mm, from_label):
             raise InputError("sieve_mismatch", f"{p} {label!r} is {from_label:g} mm but "
                              f"{join(path, 'opening_mm')} is {mm:g} mm.", p)

@@ -18,7 +18,7 @@ from ..criteria.base import analyse_base
 from ..criteria.against_base import permeability_limit, retention_limit
 from ..criteria.rules import parse_rules
 from ..criteria.tables import MATERIAL, NO_200_MM, RULE_SETS, segregation_d90_max_mm
-from ..errors import InputError, join, require_list, require_mapping, text
+from ..errors import ZONES_MAX, InputError, join, require_list, require_mapping, text
 from ..lab.curve import exp, ln, make_curve, passing_at, size_at
 from ..lab.reduction import reduce_test
 
@@ -27,7 +27,7 @@ BAND_SIEVES_MM = (75.0, 50.0, 37.5, 25.0, 19.0, 12.5, 9.5, 4.75, 2.36, 1.18, 0.6
 
 
 def _parse_bases(req: dict):
-    items = require_list(req.get("bases"), "bases", min_len=1)
+    items = require_list(req.get("bases"), "bases", min_len=1, max_len=ZONES_MAX)
     out = []
     for i, b in enumerate(items):
         p = join("bases", i)
@@ -158,11 +158,31 @@ def op_design_band(req: dict):
                           f"{rs['band_width_up_to_pct']:g} % and beyond; below 15 % it runs through (0.075 mm, 5 %), "
                           "where the fines limit governs and the width ratio is reported, not enforced (derived "
                           "construction)."})
-    limits = []
+    limits, narrow, crossed = [], [], []
     for s in BAND_SIEVES_MM:
         lo, hi = passing_at(coarse, s), passing_at(fine, s)
-        limits.append({"opening_mm": s, "min_pct": _round_in(lo, True), "max_pct": _round_in(hi, False),
+        rlo, rhi = _round_in(lo, True), _round_in(hi, False)
+        if lo > hi:
+            crossed.append(s)
+        elif rlo > rhi:
+            # narrower than the 0.1 % step: no rounded value lies inside, so the limits stay unrounded
+            # (rounding either way would widen the band or invert it)
+            narrow.append(s)
+            rlo, rhi = lo, hi
+        limits.append({"opening_mm": s, "min_pct": rlo, "max_pct": rhi,
                        "min_unrounded_pct": lo, "max_unrounded_pct": hi})
+    if crossed:
+        steps.append({"step": 10, "title": "No band possible",
+                      "values": {"sieves_mm": crossed},
+                      "note": "The two limits cross at these sieves (the coarse limit passes more than the fine "
+                              "limit): the control points do not make one band; a different design is needed."})
+        return result, findings
+    if narrow:
+        findings.append({"level": "warning", "code": "band_narrow",
+                         "message": "The band is narrower than 0.1 % at " + ", ".join(f"{s:g} mm" for s in narrow)
+                                    + ": its limits there are given unrounded (rounding would widen or invert "
+                                    "them), and a filter can hardly be produced to so narrow a band.",
+                         "field": "bases", "source": "display rounding of the designed band (derived)"})
     steps.append({"step": 10, "title": "Band at standard sieves",
                   "values": {"sieves_mm": list(BAND_SIEVES_MM)},
                   "note": "Percent passing read on both limits; rounded to 0.1 % toward the inside of the band "

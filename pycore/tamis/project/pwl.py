@@ -33,7 +33,7 @@ from __future__ import annotations
 import math
 
 from ..checks import Finding
-from ..errors import InputError, join, number, require_list
+from ..errors import InputError, number, require_list
 
 #: The estimator needs a = (n - 2)/2 > 0.
 MIN_N = 3
@@ -156,11 +156,8 @@ def pwl(values, lower=None, upper=None) -> dict:
 def op_pwl(req: dict):
     """API op ``pwl``: ``{"values": [...], "lower": x?, "upper": y?}`` -> :func:`pwl` (a statistical
     summary, not an acceptance rule)."""
-    vals = require_list(req.get("values"), "values")
-    for i, v in enumerate(vals):
-        if isinstance(v, bool) or not isinstance(v, (int, float)) or not math.isfinite(v):
-            p = join("values", i)
-            raise InputError("not_a_number", f"{p} must be a finite number, got {v!r}.", p)
+    row = dict(enumerate(require_list(req.get("values"), "values")))
+    vals = [number(row, i, "values") for i in range(len(row))]  # finite, within the request limits
     lower = number(req, "lower", "", required=False)
     upper = number(req, "upper", "", required=False)
     if lower is not None and upper is not None and lower > upper:

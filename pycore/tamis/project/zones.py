@@ -23,7 +23,7 @@ from ..criteria import run_filter_checks
 from ..criteria.rules import parse_rules
 from ..criteria.tables import RULE_SETS
 from ..lab.curve import passing_at, size_at
-from ..errors import InputError, join, require_list, require_mapping, text
+from ..errors import ZONES_MAX, InputError, join, require_list, require_mapping, text
 from ..lab.reduction import reduce_test
 from ..checks import FAIL, Finding, verdict
 
@@ -33,7 +33,7 @@ INTERFACE_IDS = ("filter.retention", "filter.permeability", "permeability.ratio"
 
 
 def _parse_zones(req: dict):
-    items = require_list(req.get("zones"), "zones", min_len=2)
+    items = require_list(req.get("zones"), "zones", min_len=2, max_len=ZONES_MAX)
     zones = []
     for i, z in enumerate(items):
         p = join("zones", i)
