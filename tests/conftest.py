@@ -22,6 +22,18 @@ def call_api(op: str, **fields) -> dict:
     return json.loads(out, parse_constant=_refuse_constant)
 
 
+def dicts_with(obj, keys: set):
+    """Every dict inside a JSON value (depth first) that holds all of ``keys``."""
+    if isinstance(obj, dict):
+        if keys <= obj.keys():
+            yield obj
+        for v in obj.values():
+            yield from dicts_with(v, keys)
+    elif isinstance(obj, list):
+        for v in obj:
+            yield from dicts_with(v, keys)
+
+
 def mass_test(retained: dict, dry_mass_g: float, pan_g: float = 0.0, washed_dry_mass_g=None, **more) -> dict:
     """A masses-form test from ``{opening_mm: retained_g}``."""
     t = {"sieves": [{"opening_mm": d, "retained_g": r} for d, r in retained.items()],

@@ -31,6 +31,7 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
+from conftest import dicts_with
 from tamis import api
 
 EXAMPLES = int(os.environ.get("TAMIS_FUZZ_EXAMPLES", "40"))
@@ -212,14 +213,7 @@ def _refuse(name):
 
 
 def _gradations(obj):
-    if isinstance(obj, dict):
-        if "points" in obj and "d_mm" in obj:
-            yield obj
-        for v in obj.values():
-            yield from _gradations(v)
-    elif isinstance(obj, list):
-        for v in obj:
-            yield from _gradations(v)
+    return dicts_with(obj, {"points", "d_mm"})
 
 
 _EXPLAINS_D = ("d_below_range", "d_above_range", "curve_from_d_values")

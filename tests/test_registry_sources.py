@@ -14,6 +14,7 @@ from pathlib import Path
 
 import pytest
 
+from conftest import dicts_with
 from tamis import api, demo, registry
 from tamis.lab.bands import PRESETS, SRC_USER_BAND
 
@@ -22,14 +23,7 @@ GOLDEN = Path(__file__).resolve().parent / "golden"
 
 def _checks(obj):
     """Every check dict in a response (any dict with an id, a status and a source)."""
-    if isinstance(obj, dict):
-        if {"id", "status", "source", "advisory"} <= obj.keys():
-            yield obj
-        for v in obj.values():
-            yield from _checks(v)
-    elif isinstance(obj, list):
-        for v in obj:
-            yield from _checks(v)
+    return dicts_with(obj, {"id", "status", "source", "advisory"})
 
 
 def _requests() -> list[dict]:
