@@ -13,6 +13,7 @@ from __future__ import annotations
 import copy
 import json
 import math
+from pathlib import Path
 
 import numpy as np
 import pytest
@@ -308,3 +309,17 @@ def test_property_continuous_at_split(gs, w, passing_split, off):
     r = reduce_sedimentation(sheet, "s", passing_split).readings[0]
     resolution = 100 * a * 0.5 / w * passing_split / 100
     assert abs(r.finer_pct - passing_split) <= resolution * (1 + 1e-9)
+
+
+def test_an_undetermined_fine_d_value_asks_for_a_later_reading_once_readings_are_given():
+    """The finest point of a combined curve is a hydrometer reading: the note asks for a later reading,
+    not for the analysis that was given; without the readings it asks for the analysis (ASTM D7928)."""
+    req = json.loads((Path(__file__).parent / "golden" / "gradation-sedimentation-clay-core.request.json")
+                     .read_text(encoding="utf-8"))
+    with_sed = json.loads(api.handle(json.dumps(req)))
+    (note,) = [f for f in with_sed["findings"] if f["code"] == "d_below_range"]
+    assert "last hydrometer reading" in note["message"] and "D7928" not in note["message"]
+    req["test"].pop("sedimentation")
+    sieves_only = json.loads(api.handle(json.dumps(req)))
+    (note,) = [f for f in sieves_only["findings"] if f["code"] == "d_below_range"]
+    assert "finest sieve" in note["message"] and "D7928" in note["message"]

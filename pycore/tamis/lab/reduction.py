@@ -89,9 +89,11 @@ def parse_props(test: dict, path: str) -> dict:
     return props
 
 
-def gradation_of(curve: Curve, props: dict, path: str = "test.sieves") -> tuple[dict, list[Finding]]:
+def gradation_of(curve: Curve, props: dict, path: str = "test.sieves", *,
+                 finest_is_reading: bool = False) -> tuple[dict, list[Finding]]:
     """The gradation dict of a curve and the findings that explain its nulls
-    (``path`` names the list of points in the input)."""
+    (``path`` names the list of points in the input; ``finest_is_reading``: the
+    finest point is a hydrometer reading, not a sieve)."""
     findings: list[Finding] = []
     d = d_values(curve, STANDARD_D_PCTS)
     cu = coefficient_of_uniformity(d["D60"], d["D10"])
@@ -101,7 +103,11 @@ def gradation_of(curve: Curve, props: dict, path: str = "test.sieves") -> tuple[
     top_d, top_p = curve.points[0]
     below = [k for k, v in d.items() if v is None and float(k[1:]) < finest_p]
     above = [k for k, v in d.items() if v is None and float(k[1:]) > top_p]
-    if below:
+    if below and finest_is_reading:
+        findings.append(Finding("note", "d_below_range", f"{', '.join(below)} not determined: {finest_p:.1f} % "
+                                f"is still finer than the last hydrometer reading ({finest_d:g} mm); a later "
+                                "reading would be needed. Never extrapolated.", path))
+    elif below:
         findings.append(Finding("note", "d_below_range", f"{', '.join(below)} not determined: {finest_p:.1f} % "
                                 f"still passes the finest sieve ({finest_d:g} mm); a hydrometer analysis "
                                 "(ASTM D7928) would be needed. Never extrapolated.", path))
@@ -138,9 +144,10 @@ def reduce_test(test_obj: dict, path: str) -> Reduced:
     curve, sed, more_sed = st.curve, None, []
     if test_obj.get("sedimentation") is not None:
         curve, sed, more_sed = combine(st.curve, test_obj["sedimentation"], join(path, "sedimentation"))
-    g, more = gradation_of(curve, props, join(path, "passing" if st.form == "passing" else "sieves"))
+    sieve_sizes = {d for d, _ in st.curve.points}
+    g, more = gradation_of(curve, props, join(path, "passing" if st.form == "passing" else "sieves"),
+                           finest_is_reading=sed is not None and curve.points[-1][0] not in sieve_sizes)
     if sed is not None:
-        sieve_sizes = {d for d, _ in st.curve.points}
         for pt in g["points"]:
             pt["source"] = "sieve" if pt["opening_mm"] in sieve_sizes else "sedimentation"
     return Reduced(curve, g, props, list(st.checks), list(st.findings) + more_sed + more,
