@@ -291,8 +291,8 @@ def test_no_nan_or_infinity_reaches_a_summary(monkeypatch):
     recs = demo_records()
     real = reduction.gradation_of
 
-    def with_nan(curve, props, path="test.sieves"):
-        g, f = real(curve, props, path)
+    def with_nan(curve, props, path="test.sieves", **kw):
+        g, f = real(curve, props, path, **kw)
         return {**g, "cu": float("nan"), "d_mm": {**g["d_mm"], "D10": float("inf")}}, f
 
     monkeypatch.setattr(reduction, "gradation_of", with_nan)
