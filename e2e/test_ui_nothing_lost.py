@@ -117,13 +117,19 @@ def saved_test(page, site, project: str) -> str:
     return save_new(page)
 
 
-def test_one_record_in_two_tabs_a_stale_save_is_refused_and_merged_field_by_field(context, site):
+def one_record_in_two_tabs(context, site, label: str):
+    """A saved test (the inspector's name known) opened for editing in tab A, then in tab B."""
     known_tester(context, site)
     a = new_tab(context)
-    rid = saved_test(a, site, "two-tabs")
+    rid = saved_test(a, site, label)
     go(a, f"#/entry/{rid}")
     b = new_tab(context)
     open_app(b, site, f"#/entry/{rid}")
+    return a, b, rid
+
+
+def test_one_record_in_two_tabs_a_stale_save_is_refused_and_merged_field_by_field(context, site):
+    a, b, rid = one_record_in_two_tabs(context, site, "two-tabs")
     typed(a, "Station", "1+100")
     typed(b, "Material", "river sand")
     a.get_by_role("button", name="Save changes").click()
@@ -153,12 +159,7 @@ def test_one_record_in_two_tabs_a_stale_save_is_refused_and_merged_field_by_fiel
 
 
 def test_one_record_in_two_tabs_each_tab_keeps_its_own_unsaved_edit(context, site):
-    known_tester(context, site)
-    a = new_tab(context)
-    rid = saved_test(a, site, "own-drafts")
-    go(a, f"#/entry/{rid}")
-    b = new_tab(context)
-    open_app(b, site, f"#/entry/{rid}")
+    a, b, rid = one_record_in_two_tabs(context, site, "own-drafts")
     typed(a, "Station", "2+000")
     typed(b, "Material", "crushed gravel")
     # B's typing came last; A reloads and must find its own edit, not B's.
