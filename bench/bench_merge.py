@@ -37,6 +37,7 @@ import contextlib
 import copy
 import gc
 import importlib
+import json
 import os
 import pathlib
 import random
@@ -64,7 +65,11 @@ def older(rec: dict) -> dict:
     return old
 
 
-def build_files(n: int, n_files: int, seed: int = 5) -> list[str]:
+def build_files(n: int, n_files: int, seed: int = 5, writer=None) -> list[str]:
+    """``n`` invented records over ``n_files`` CSV texts, written by ``writer`` (a :class:`Codec`; default
+    the working tree's). With a baseline the files are written by the baseline's writer: a newer reader
+    reads older files unchanged, an older reader refuses columns added since, so both read the same bytes."""
+    writer = writer or NOW
     rng = random.Random(seed)
     recs = [NOW.check_record(r) for r in make_records(n, seed=seed)]
     files: list[list[dict]] = [[] for _ in range(n_files)]
@@ -75,7 +80,7 @@ def build_files(n: int, n_files: int, seed: int = 5) -> list[str]:
             if i > 0 and r["rev"] > 1 and len(r["history"]) == r["rev"] and rng.random() < 0.6:
                 v = older(r)
             files[f].append(v)
-    return [NOW.write_csv(f) for f in files]
+    return [writer.write_csv(f) for f in files]
 
 
 def realistic_tests(n: int, seed: int = 9) -> list[dict]:
@@ -201,19 +206,20 @@ def main(argv=None) -> int:
     ap.add_argument("--cli", action="store_true", help="also time python -m tamis merge --no-calc on the files")
     args = ap.parse_args(argv)
 
-    t0 = time.perf_counter()
-    texts = build_files(args.n, args.files)
-    rows = sum(t.count("\r\n") - 1 for t in texts)  # an upper bound: quoted line breaks count too
-    mb = sum(len(t.encode("utf-8")) for t in texts) / 1e6
-    sample = realistic_tests(args.calc_n) if args.calc_n > 0 else None
-    print(f"setup: {args.files} files, {mb:.1f} MB, built in {time.perf_counter() - t0:.1f} s", flush=True)
-
     with tempfile.TemporaryDirectory() as tmp:
         versions = {"now": NOW}
         if args.baseline:
             versions["baseline"] = Codec(load_baseline(args.baseline, pathlib.Path(tmp)).__name__)
+        writer = versions.get("baseline", NOW)
+        t0 = time.perf_counter()
+        texts = build_files(args.n, args.files, writer=writer)
+        rows = sum(t.count("\r\n") - 1 for t in texts)  # an upper bound: quoted line breaks count too
+        mb = sum(len(t.encode("utf-8")) for t in texts) / 1e6
+        sample = realistic_tests(args.calc_n) if args.calc_n > 0 else None
+        print(f"setup: {args.files} files, {mb:.1f} MB, written by the {'baseline' if args.baseline else 'working tree'}"
+              f"'s writer, built in {time.perf_counter() - t0:.1f} s", flush=True)
         for mod in versions.values():     # first use imports modules and compiles patterns: not timed
-            run_phases(mod, build_files(30, 3, seed=1), sample[:3] if sample else None)
+            run_phases(mod, build_files(30, 3, seed=1, writer=writer), sample[:3] if sample else None)
         runs = {k: [] for k in versions}
         for _ in range(max(1, args.rounds)):
             for k, mod in versions.items():
@@ -235,7 +241,22 @@ def main(argv=None) -> int:
     same["read"] = same["read"] and all(NOW.dump_json(a) == NOW.dump_json(b)
                                         for x, y in zip(now["read"][0], base["read"][0]) for a, b in zip(x, y))
     same["merge"] = same["merge"] and NOW.dump_json(now["merge"][0]) == NOW.dump_json(base["merge"][0])
-    print("outputs " + ", ".join(f"{ph} {'identical' if ok else 'DIFFER'}" for ph, ok in same.items()))
+    notes = []
+    if not same["write"]:   # columns added since the baseline: the same records, read back by this reader?
+        back = [json.dumps(NOW.read_csv(x[0], "written")[0], sort_keys=True) for x in (now["write"], base["write"])]
+        same["write"] = back[0] == back[1]
+        notes.append("write: other columns than the baseline's (added since); read back, the same records "
+                     "(keys sorted: the column order differs)")
+    if "calc" in now and not same["calc"]:  # calc cells added since the baseline: compare the ones both write
+        a, b = now["calc"][0], base["calc"][0]
+        same["calc"] = a.keys() == b.keys() and all(
+            all(a[k][c] == b[k][c] for c in a[k].keys() & b[k].keys()) for k in a)
+        added = sorted(set().union(*(a[k].keys() - b[k].keys() for k in a)))
+        passing = [c for c in added if c.startswith("calc_passing_pct@")]
+        added = [c for c in added if c not in passing] + ([f"{len(passing)} calc_passing_pct@ columns"] if passing else [])
+        notes.append(f"calc: the cells both versions write compared; added since: {', '.join(added) or 'none'}")
+    print("outputs " + ", ".join(f"{ph} {'identical' if ok else 'DIFFER'}" for ph, ok in same.items())
+          + "".join(f"\n  ({n})" for n in notes))
     return 0 if all(same.values()) else 1
 
 
