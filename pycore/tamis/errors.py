@@ -106,6 +106,16 @@ def number(obj: dict, key: str, path: str, *, required: bool = True, minimum: fl
     Booleans and numeric strings are refused: a field that should hold a
     number must hold a JSON number.
     """
+    v = obj.get(key) if type(obj) is dict else None
+    if type(v) is int and -NUMBER_MAX_ABS <= v <= NUMBER_MAX_ABS:
+        v = float(v)
+    if type(v) is float and (NUMBER_MIN_ABS <= v <= NUMBER_MAX_ABS or -NUMBER_MAX_ABS <= v <= -NUMBER_MIN_ABS
+                             or v == 0.0) \
+            and (minimum is None or v >= minimum) and (exclusive_minimum is None or v > exclusive_minimum) \
+            and (maximum is None or v <= maximum):
+        # the usual case, a finite float within every bound, decided without building the field path; any other
+        # value takes the checks below, which give every error with its path
+        return v
     p = join(path, key)
     if key not in obj or obj[key] is None:
         if required:

@@ -300,6 +300,29 @@ def _size_at(curve: Curve, pct: float) -> float | None:
     return exp(logs[k] + t * (logs[k - 1] - logs[k]))
 
 
+def ln_size_at(curve: Curve, pct: float) -> float | None:
+    """ln of the size at ``pct`` for comparing D-values, or ``None`` where :func:`size_at` is ``None``.
+
+    The same bisection as :func:`size_at` without the exponential: ``ln(point)`` (:attr:`Curve.log_sizes`)
+    where the size is a measured point, else the argument :func:`size_at` gives :func:`exp`. So it is
+    within a few units in the last place of ln(size_at(curve, pct)), never the same bits: for ordering and
+    comparing only, never for a reported figure."""
+    neg = curve._neg_pcts
+    k = bisect_left(neg, -pct)
+    pts = curve.points
+    logs = curve.log_sizes
+    if k == 0:
+        if pts and pts[0][1] == pct:
+            return logs[bisect_right(neg, -pct) - 1]
+        return None
+    if k == len(pts):
+        return None
+    p_l, p_s = pts[k - 1][1], pts[k][1]
+    if pct == p_s:
+        return logs[k]
+    return logs[k] + (pct - p_s) / (p_l - p_s) * (logs[k - 1] - logs[k])
+
+
 def passing_at(curve: Curve, size_mm: float, ln_size: float | None = None) -> float | None:
     """Percent passing [%] at ``size_mm`` [mm], log-linear between points.
 
