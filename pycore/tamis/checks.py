@@ -75,6 +75,16 @@ class Check:
         return d
 
 
+def copy_check(c: Check, **changes) -> Check:
+    """``dataclasses.replace(c, **changes)`` for changes that need no validation (``advisory``, ``extra``):
+    the copy is made without calling ``__init__`` again, since ``c``'s fields were validated when it was made."""
+    if "status" in changes:
+        raise ValueError("copy_check does not change a status (it would not be validated)")
+    t = object.__new__(Check)
+    t.__dict__.update(c.__dict__, **changes)
+    return t
+
+
 @dataclass(frozen=True)
 class Finding:
     """A warning or a note attached to a result (never a rule outcome)."""

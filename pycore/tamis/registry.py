@@ -269,6 +269,9 @@ def source_text(check_id: str, variant: str = "", given: str = "") -> str:
     """The ``source`` string a check carries: document, edition, locator, provenance
     (or the entry's own :attr:`Entry.carries`); for an entry that carries the source
     its input gives (:data:`GIVEN`), ``given``, which must then be named."""
+    text = _SOURCE_TEXT.get((check_id, variant))
+    if text is not None and not given:
+        return text
     e = entry(check_id, variant)
     if e.carries == GIVEN:
         if not given:
@@ -277,6 +280,12 @@ def source_text(check_id: str, variant: str = "", given: str = "") -> str:
     if given:
         raise ValueError(f"{check_id} carries the registry's source, not one given with its input")
     return e.carries or f"{e.source}, {e.edition}, {e.locator} [{e.provenance}]"
+
+
+#: (id, variant) -> the source text of each entry that carries the registry's own, composed once at import
+#: (:func:`source_text` looks any other pair up as before).
+_SOURCE_TEXT = {(e.id, e.variant): e.carries or f"{e.source}, {e.edition}, {e.locator} [{e.provenance}]"
+                for e in ENTRIES if e.carries != GIVEN}
 
 
 def make_check(check_id: str, status: str, message: str, *, variant: str = "", value=None, limit=None,

@@ -350,7 +350,17 @@ def passing_at(curve: Curve, size_mm: float, ln_size: float | None = None) -> fl
 
 def d_values(curve: Curve, pcts=STANDARD_D_PCTS) -> dict[str, float | None]:
     """``{"D10": size_mm or None, ...}`` for each percentage in ``pcts``."""
-    return {f"D{p:g}": size_at(curve, float(p)) for p in pcts}
+    names = STANDARD_D_NAMES if pcts is STANDARD_D_PCTS else d_names(pcts)
+    return {name: size_at(curve, p) for name, p in names}
+
+
+def d_names(pcts) -> tuple[tuple[str, float], ...]:
+    """``(("D5", 5.0), ...)``: the key :func:`d_values` gives each percentage of ``pcts``, and the percentage."""
+    return tuple((f"D{p:g}", float(p)) for p in pcts)
+
+
+#: :func:`d_names` of :data:`STANDARD_D_PCTS`.
+STANDARD_D_NAMES = d_names(STANDARD_D_PCTS)
 
 
 def coefficient_of_uniformity(d60_mm: float | None, d10_mm: float | None) -> float | None:
