@@ -4,13 +4,14 @@ Each short cut is checked against the long way it replaces: ``errors.number`` on
 accepts and on every value that must fall through to the checks with their messages; Kezdi's ranking of the
 split candidates by the log of the ratio against reading every candidate exactly (the scan as it was);
 ``copy_check`` against ``dataclasses.replace``; the registry's source texts composed at import against the
-entries they come from. The curves are invented, for the test only.
+entries they come from; USCS's decided percentages in fixed decimal contexts against a local context. The curves are invented, for the test only.
 """
 
 from __future__ import annotations
 
 import dataclasses
 import math
+from decimal import Decimal, localcontext
 
 import pytest
 from hypothesis import given, settings
@@ -22,6 +23,7 @@ from tamis.criteria import stability as st
 from tamis.criteria.tables import RULE_SETS
 from tamis.errors import NUMBER_MAX_ABS, NUMBER_MIN_ABS, InputError, number
 from tamis.lab.curve import d_values, ln, ln_size_at, make_curve, size_at
+from tamis.lab.uscs import DECIDE_DIGITS, decided_pct
 
 from test_stability_scans_exact import curves
 
@@ -150,3 +152,27 @@ def test_d_values_names_each_percentage_as_before():
     got = d_values(c, (12.5, 50, 99.0))
     assert list(got) == ["D12.5", "D50", "D99"]
     assert got["D50"] == size_at(c, 50.0) and got["D99"] == size_at(c, 99.0)
+
+
+def _decided_pct_in_a_local_context(num_pct, minus_pct=0.0, of_pct=100.0):
+    """uscs.decided_pct as it was: the arithmetic in a local decimal context of 40 digits, then 12."""
+    with localcontext() as ctx:
+        ctx.prec = 40
+        v = (Decimal(repr(num_pct)) - Decimal(repr(minus_pct))) * 100 / Decimal(repr(of_pct))
+        ctx.prec = DECIDE_DIGITS
+        return float(+v)
+
+
+@settings(max_examples=500, deadline=None)
+@given(s.floats(0.0, 100.0), s.floats(0.0, 1.0), s.floats(1e-3, 100.0), s.integers(0, 4))
+def test_decided_pct_with_fixed_contexts_is_the_local_context_form(a, share, of, digits):
+    a = round(a, digits) if digits < 4 else a
+    b = round(a * share, digits) if digits < 4 else a * share
+    assert decided_pct(a, b, of) == _decided_pct_in_a_local_context(a, b, of)
+    assert decided_pct(a) == _decided_pct_in_a_local_context(a)
+
+
+def test_decided_pct_keeps_an_edge_an_edge():
+    # the cases its docstring names: float noise either side of an edge must not decide a class
+    assert decided_pct(55.3, 10.6) == 44.7
+    assert decided_pct(4.545, 0.0, 90.9) == 5.0
