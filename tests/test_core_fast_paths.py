@@ -4,7 +4,8 @@ Each short cut is checked against the long way it replaces: ``errors.number`` on
 accepts and on every value that must fall through to the checks with their messages; Kezdi's ranking of the
 split candidates by the log of the ratio against reading every candidate exactly (the scan as it was);
 ``copy_check`` against ``dataclasses.replace``; the registry's source texts composed at import against the
-entries they come from; USCS's decided percentages in fixed decimal contexts against a local context. The curves are invented, for the test only.
+entries they come from; USCS's decided percentages in fixed decimal contexts against a local context. The
+curves are invented, for the test only.
 """
 
 from __future__ import annotations
