@@ -23,7 +23,7 @@ from tamis.checks import WARN, copy_check
 from tamis.criteria import stability as st
 from tamis.criteria.tables import RULE_SETS
 from tamis.errors import NUMBER_MAX_ABS, NUMBER_MIN_ABS, InputError, number
-from tamis.lab.curve import d_values, ln, ln_size_at, make_curve, size_at
+from tamis.lab.curve import d_values, ln, ln_size_at, ln_sizes_at, make_curve, size_at
 from tamis.lab.uscs import DECIDE_DIGITS, decided_pct
 
 from test_stability_scans_exact import curves
@@ -117,6 +117,16 @@ def test_ln_size_at_is_the_log_of_size_at_and_none_where_it_is(points, pct):
     assert (d is None) == (lg is None)
     if d is not None:
         assert lg == pytest.approx(ln(d), abs=1e-12)
+
+
+@settings(max_examples=200, deadline=None)
+@given(curves(), s.lists(s.one_of(s.floats(-1.0, 101.0), s.sampled_from([0.0, 100.0, 15.0, 50.0])), max_size=40),
+       s.booleans())
+def test_ln_sizes_at_in_one_sweep_is_ln_size_at_of_each(points, pcts, ordered):
+    c = make_curve(points)
+    pcts = sorted(pcts) if ordered else pcts
+    pcts += [p for _, p in points]              # on the measured percentages too, flat steps included
+    assert ln_sizes_at(c, pcts) == [ln_size_at(c, p) for p in pcts]
 
 
 def test_copy_check_is_dataclasses_replace_without_validating_again():

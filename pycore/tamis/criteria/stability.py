@@ -24,7 +24,7 @@ Istomina (1957).
 from __future__ import annotations
 
 from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding
-from ..lab.curve import Curve, coefficient_of_uniformity, exp, ln, ln_and_ln4, ln_size_at, passing_at, same_size, \
+from ..lab.curve import Curve, coefficient_of_uniformity, exp, ln, ln_and_ln4, ln_sizes_at, passing_at, same_size, \
     size_at
 from ..registry import make_check
 from .tables import BURENKOVA, ISTOMINA, KEZDI_FINE_PART_FINES_MAX, KEZDI_LIMIT, KL_CU_NARROW_MAX, \
@@ -89,12 +89,10 @@ def _kezdi_worst(curve: Curve, lo: float, hi: float):
     # ln(D'15c / d'85f) lies more than _KEZDI_LN_MARGIN below the largest cannot hold the largest ratio, since
     # both are within a few units in the last place of the exact values. The few left are read as before
     # (size_at, the first largest in split order), so the answer has the same bits as reading every candidate.
-    logs = []
-    for ps in sorted(cands):
-        lc = ln_size_at(curve, ps + 0.15 * (100.0 - ps))
-        lf = ln_size_at(curve, 0.85 * ps)
-        if lc is not None and lf is not None:
-            logs.append((lc - lf, ps))
+    order = sorted(cands)
+    lcs = ln_sizes_at(curve, [ps + 0.15 * (100.0 - ps) for ps in order])
+    lfs = ln_sizes_at(curve, [0.85 * ps for ps in order])
+    logs = [(lc - lf, ps) for lc, lf, ps in zip(lcs, lfs, order) if lc is not None and lf is not None]
     if not logs:
         return None
     top = max(lr for lr, _ in logs) - _KEZDI_LN_MARGIN
