@@ -7,8 +7,9 @@
 // gets; run `make build` first, and again after a change of the core) as tests/pyodide/replay_golden.mjs
 // does, and runs one Python timing script in Pyodide and in CPython on the same wheel: per golden
 // evaluate request, tamis.api.handle and its parts (json.loads of the request, the op, json.dumps of the
-// answer) and a few operations the core is made of (the core's exp, float formatting, small dicts, calls),
-// the fastest of --rounds passes each. It also times handle called from JavaScript (the string crossing
+// answer) and a few operations the core is made of (the core's exp, float formatting, small dicts, calls,
+// decimals), the fastest of --rounds passes each, and then the time of handle by part (wrappers put on the
+// core's functions, in both engines alike). It also times handle called from JavaScript (the string crossing
 // into Python and back, as the worker calls it). Prints ms per request, requests/s, and the ratio
 // Pyodide/CPython of each part.
 
@@ -42,6 +43,8 @@ import json, time
 import tamis.api as a
 from tamis.project.evaluate import op_evaluate
 from tamis.lab.curve import exp
+from decimal import Decimal
+seven = Decimal(7)
 
 def best(f):
     b = float("inf")
@@ -73,7 +76,50 @@ out = {"handle": best(lambda: [a.handle(r) for r in REQS]) / n,
        "1000 x curve.exp": best(lambda: [exp(-x) for x in xs]),
        "1000 x f'{x:.4g}'": best(lambda: [f"{x:.4g}" for x in xs]),
        "1000 x two-key dict": best(lambda: [{"a": x, "b": x} for x in xs]),
-       "1000 x Python call": best(lambda: [f(x) for x in xs])}
+       "1000 x Python call": best(lambda: [f(x) for x in xs]),
+       "1000 x Decimal(repr(x)) * 100 / 7": best(lambda: [Decimal(repr(x)) * 100 / seven for x in xs]),
+       "1000 x repr(x)": best(lambda: [repr(x) for x in xs])}
+
+# Where the time of handle goes, by part: each part's own time (its callees that are parts excluded), from
+# wrappers put on the functions after the figures above were taken (the wrappers' own cost included).
+import tamis.lab.reduction as R, tamis.project.evaluate as E, tamis.criteria as C
+acc, stack = {}, []
+def wrap(mod, name, label):
+    fn = getattr(mod, name)
+    def timed(*a, **k):
+        t = time.perf_counter()
+        stack.append(0.0)
+        try:
+            return fn(*a, **k)
+        finally:
+            dt = time.perf_counter() - t
+            acc[label] = acc.get(label, 0.0) + dt - stack.pop()
+            if stack:
+                stack[-1] += dt
+    setattr(mod, name, timed)
+for mod, name, label in [
+        (R, "parse_test", "parse the sieves or passing points"), (R, "parse_props", "parse the plasticity"),
+        (R, "gradation_of", "gradation: D-values, Cu, Cc, fractions, USCS, FM"), (R, "combine", "sedimentation"),
+        (E, "parse_band", "band: parse and checks"), (E, "band_checks", "band: parse and checks"),
+        (C, "material_checks", "criteria: filter material, retention, permeability"),
+        (C, "analyse_base", "criteria: filter material, retention, permeability"),
+        (C, "retention_check", "criteria: filter material, retention, permeability"),
+        (C, "permeability_check", "criteria: filter material, retention, permeability"),
+        (C, "stability_checks", "criteria: internal stability"),
+        (C, "hazen_estimate", "criteria: k estimates"), (C, "kozeny_carman_estimate", "criteria: k estimates"),
+        (E, "run_filter_checks", "criteria: the rest (rules, limits, flags)"),
+        (E, "reduce_test", "the rest of reduce_test, evaluate_reduced and op_evaluate (rows, tags, to_dict)"),
+        (E, "evaluate_reduced", "the rest of reduce_test, evaluate_reduced and op_evaluate (rows, tags, to_dict)"),
+        (E, "op_evaluate", "the rest of reduce_test, evaluate_reduced and op_evaluate (rows, tags, to_dict)"),
+        (a, "_dumps", "json.dumps of the answer"), (a, "handle", "the rest of handle (json.loads, findings)")]:
+    wrap(mod, name, label)
+for r in REQS:
+    a.handle(r)
+acc.clear()
+for _ in range(ROUNDS * 5):
+    for r in REQS:
+        a.handle(r)
+out["parts"] = {k: v / (ROUNDS * 5 * n) for k, v in acc.items()}
 print(json.dumps(out))
 `;
 
@@ -114,6 +160,8 @@ const cp = cpython();
 console.log(`bench_pyodide_core: ${requests.length} golden evaluate requests, fastest of ${ROUNDS} passes; ` +
   `Pyodide ${py.version} (Python ${pyVersion}) under Node ${process.version} vs CPython ${cp.version}; ` +
   `load average ${(await import("node:os")).loadavg()[0].toFixed(1)}`);
+const parts = pyo.parts;
+delete pyo.parts;
 for (const [name, p] of Object.entries(pyo)) {
   const c = name === "handle called from JavaScript" ? cp.figures.handle : cp.figures[name];
   const perReq = !name.startsWith("1000 x");
@@ -122,3 +170,14 @@ for (const [name, p] of Object.entries(pyo)) {
   console.log(`  ${name}: Pyodide ${show(p)}, CPython ${show(c)}` +
     `${name === "handle called from JavaScript" ? " (CPython: handle)" : ""}; ratio ${(p / c).toFixed(2)}`);
 }
+const total = { p: 0, c: 0 };
+for (const [name, p] of Object.entries(parts)) { total.p += p; total.c += cp.figures.parts[name] || 0; }
+console.log("  by part (own time, per request; wrappers included): Pyodide ms, CPython ms, ratio, share of the " +
+  "Pyodide - CPython difference");
+for (const [name, p] of Object.entries(parts).sort((x, y) => y[1] - x[1])) {
+  const c = cp.figures.parts[name];
+  console.log(`    ${(p * 1e3).toFixed(3)}  ${(c * 1e3).toFixed(3)}  x${(p / c).toFixed(2)}  ` +
+    `${(100 * (p - c) / (total.p - total.c)).toFixed(0)} %  ${name}`);
+}
+console.log(`    ${(total.p * 1e3).toFixed(3)}  ${(total.c * 1e3).toFixed(3)}  x${(total.p / total.c).toFixed(2)}  ` +
+  "100 %  all");
