@@ -3,9 +3,9 @@
 Each short cut is checked against the long way it replaces: ``errors.number`` on the values its fast path
 accepts and on every value that must fall through to the checks with their messages; Kezdi's ranking of the
 split candidates by the log of the ratio against reading every candidate exactly (the scan as it was);
-``copy_check`` against ``dataclasses.replace``; the registry's source texts composed at import against the
-entries they come from; USCS's decided percentages in fixed decimal contexts against a local context. The
-curves are invented, for the test only.
+``copy_check`` against ``dataclasses.replace`` and ``new_check`` against ``Check``; the registry's source
+texts composed at import against the entries they come from; USCS's decided percentages in fixed decimal
+contexts against a local context. The curves are invented, for the test only.
 """
 
 from __future__ import annotations
@@ -19,7 +19,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as s
 
 from tamis import registry
-from tamis.checks import WARN, copy_check
+from tamis.checks import WARN, Check, copy_check, new_check
 from tamis.criteria import stability as st
 from tamis.criteria.tables import RULE_SETS
 from tamis.errors import NUMBER_MAX_ABS, NUMBER_MIN_ABS, InputError, number
@@ -127,6 +127,18 @@ def test_ln_sizes_at_in_one_sweep_is_ln_size_at_of_each(points, pcts, ordered):
     pcts = sorted(pcts) if ordered else pcts
     pcts += [p for _, p in points]              # on the measured percentages too, flat steps included
     assert ln_sizes_at(c, pcts) == [ln_size_at(c, p) for p in pcts]
+
+
+def test_new_check_is_the_check_the_dataclass_makes():
+    args = ("qa.mass_balance", "pass", "m", 0.1, 0.3, "<=", "%", "src", {"k": 1}, True)
+    made = new_check(*args)
+    assert made == Check(*args) and type(made) is Check
+    assert new_check("a", "fail", "m") == Check("a", "fail", "m")          # the defaults, extra a new {}
+    assert new_check("a", "fail", "m").extra is not new_check("a", "fail", "m").extra
+    with pytest.raises(dataclasses.FrozenInstanceError):
+        made.status = "fail"
+    with pytest.raises(ValueError):
+        new_check("a", "maybe", "m")
 
 
 def test_copy_check_is_dataclasses_replace_without_validating_again():

@@ -21,7 +21,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .checks import FAIL, NEEDS_DATA, PASS, Check, compare
+from .checks import FAIL, NEEDS_DATA, PASS, Check, compare, new_check
 
 PROVENANCE_TAGS = ("read", "read in a secondary source", "from memory", "derived",
                    "common practice, no source")
@@ -293,9 +293,8 @@ def make_check(check_id: str, status: str, message: str, *, variant: str = "", v
                given: str = "") -> Check:
     """A :class:`~tamis.checks.Check` whose ``source`` comes from the registry
     (:func:`source_text` of ``check_id``, ``variant`` and ``given``)."""
-    return Check(id=check_id, status=status, message=message, value=value, limit=limit, relation=relation,
-                 unit=unit, source=source_text(check_id, variant, given), extra=dict(extra or {}),
-                 advisory=advisory)
+    return new_check(check_id, status, message, value, limit, relation, unit, source_text(check_id, variant, given),
+                     dict(extra or {}), advisory)
 
 
 def limit_check(check_id: str, value, relation: str, limit, unit: str, what: str, *, variant: str = "",
