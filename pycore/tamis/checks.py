@@ -24,15 +24,6 @@ REJECT = "reject"
 REVIEW = "review"
 
 
-def _finite_or_none(x: float | None) -> float | None:
-    """``x`` as a float. A NaN or infinity is kept, not turned into a silent null: the JSON boundary
-    (``tamis.api``) replaces it by null with a ``not_computable`` warning naming the check, as the
-    contract requires (no test or fuzzed request produces one: the input limits prevent it)."""
-    if x is None:
-        return None
-    return float(x)
-
-
 @dataclass(frozen=True)
 class Check:
     """The outcome of one rule.
@@ -59,11 +50,16 @@ class Check:
             raise ValueError(f"unknown check status {self.status!r}")
 
     def to_dict(self) -> dict:
+        """The check as a dict of the JSON contract. ``value`` and ``limit`` are given as floats; a NaN or
+        infinity is kept, not turned into a silent null: the JSON boundary (``tamis.api``) replaces it by null
+        with a ``not_computable`` warning naming the check, as the contract requires (no test or fuzzed
+        request produces one: the input limits prevent it)."""
+        value, limit = self.value, self.limit
         d = {
             "id": self.id,
             "status": self.status,
-            "value": _finite_or_none(self.value),
-            "limit": _finite_or_none(self.limit),
+            "value": None if value is None else float(value),
+            "limit": None if limit is None else float(limit),
             "relation": self.relation,
             "unit": self.unit,
             "source": self.source,
