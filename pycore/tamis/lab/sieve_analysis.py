@@ -187,11 +187,12 @@ def _dec(x: float) -> Decimal:
 #: typed with up to 17 significant digits, so the sums are exact and each ratio
 #: is rounded once, when it becomes a float. Never modified.
 _CTX = Context(prec=40)
+_HUNDRED = Decimal(100)
 
 
 def _pct(part: Decimal, whole: Decimal) -> float:
     """100 * part / whole as the float nearest the exact decimal ratio [%]."""
-    return float(_CTX.divide(_CTX.multiply(part, Decimal(100)), whole))
+    return float(_CTX.divide(_CTX.multiply(part, _HUNDRED), whole))
 
 
 def _retained_masses(entries: list, cumulative: bool) -> tuple[list[float], list[Decimal]]:
