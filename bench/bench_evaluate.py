@@ -18,7 +18,8 @@ another name, so both versions answer the same requests in one process. Rounds
 alternate between the two, and the fastest round of each is kept, so a
 machine loaded by other work slows both alike. It prints milliseconds per
 request, requests per second and the ratio baseline / now, and compares every
-answer byte for byte: the exit status is 1 only if an answer differs.
+answer byte for byte, and the golden answers of the working tree with the
+golden response files: the exit status is 1 only if an answer differs.
 """
 
 from __future__ import annotations
@@ -43,22 +44,30 @@ from tamis import api  # noqa: E402
 BASELINE_PACKAGE = "tamis_baseline"
 
 
-def load_baseline(rev: str, into: pathlib.Path):
+def load_baseline(rev: str, into: pathlib.Path, name: str = BASELINE_PACKAGE):
     """The package ``pycore/tamis`` at git revision ``rev``, imported as
-    :data:`BASELINE_PACKAGE` from a copy in ``into`` (its api.OPS pointed at it)."""
+    ``name`` from a copy in ``into`` (its api.OPS pointed at it)."""
+    into = into / name
+    into.mkdir()
     tar = subprocess.run(["git", "-C", str(ROOT), "archive", rev, "pycore/tamis"], check=True,
                          capture_output=True).stdout
     with tarfile.open(fileobj=io.BytesIO(tar)) as tf:
         tf.extractall(into, filter="data") if hasattr(tarfile, "data_filter") else tf.extractall(into)
-    (into / "pycore" / "tamis").rename(into / BASELINE_PACKAGE)
+    (into / "pycore" / "tamis").rename(into / name)
     sys.path.insert(0, str(into))
-    base_api = importlib.import_module(f"{BASELINE_PACKAGE}.api")
-    base_api.OPS = {op: target.replace("tamis.", f"{BASELINE_PACKAGE}.", 1) for op, target in base_api.OPS.items()}
-    return importlib.import_module(BASELINE_PACKAGE)
+    base_api = importlib.import_module(f"{name}.api")
+    base_api.OPS = {op: target.replace("tamis.", f"{name}.", 1) for op, target in base_api.OPS.items()}
+    return importlib.import_module(name)
 
 
 def golden_requests(op: str) -> list[str]:
     return [p.read_text(encoding="utf-8") for p in sorted((ROOT / "tests" / "golden").glob(f"{op}*.request.json"))]
+
+
+def golden_responses(op: str) -> list[str]:
+    """The stored responses (the contract), in the order of :func:`golden_requests`."""
+    return [p.with_name(p.name[: -len(".request.json")] + ".response.json").read_text(encoding="utf-8")
+            for p in sorted((ROOT / "tests" / "golden").glob(f"{op}*.request.json"))]
 
 
 def request_sets(n: int) -> dict[str, list[str]]:
@@ -98,8 +107,9 @@ def best_round(handle, reqs: list[str]) -> tuple[float, list[str]]:
 TARGETS = {"evaluate (golden)": ("requests/s per core", 5000.0)}
 
 
-def compare(name: str, reqs: list[str], handles: dict, rounds: int) -> bool:
-    """Time each handle on ``reqs`` (alternating rounds, fastest kept); print; True when answers agree."""
+def compare(name: str, reqs: list[str], handles: dict, rounds: int, expected: list[str] | None = None) -> bool:
+    """Time each handle on ``reqs`` (alternating rounds, fastest kept); print; True when answers agree
+    (with each other and, when ``expected`` is given, with those bytes: the golden responses)."""
     best = {k: float("inf") for k in handles}
     answers = {}
     for _ in range(rounds):
@@ -118,6 +128,12 @@ def compare(name: str, reqs: list[str], handles: dict, rounds: int) -> bool:
         same = answers["now"] == answers["baseline"]
         diff = sum(a != b for a, b in zip(answers["now"], answers["baseline"]))
         line.append("answers byte-identical" if same else f"ANSWERS DIFFER in {diff} requests")
+    if expected is not None:
+        # the contract is the golden files: an older baseline may differ from them by design (answers changed
+        # on purpose since), so here the baseline comparison is printed and the golden one decides
+        diff = sum(a != b for a, b in zip(answers["now"], expected, strict=True))
+        line.append("now = golden files byte for byte" if not diff else f"NOW DIFFERS FROM {diff} GOLDEN FILES")
+        same = not diff
     print("; ".join(line), flush=True)
     return same
 
@@ -126,6 +142,9 @@ def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--n", type=int, default=300, help="invented tests per set (default 300)")
     ap.add_argument("--baseline", metavar="REV", help="git revision to compare with (e.g. HEAD~3)")
+    ap.add_argument("--same-as", metavar="REV",
+                    help="git revision whose answers to every request must be the same bytes (not timed; e.g. "
+                         "the branch point on main, when the baseline's answers differ by design)")
     ap.add_argument("--rounds", type=int, default=5, help="rounds per version; the fastest is kept (default 5)")
     ap.add_argument("--points", default="1000,10000",
                     help="sizes of the long curves evaluated once each, comma-separated ('' for none)")
@@ -142,11 +161,23 @@ def main(argv=None) -> int:
         for h in handles.values():      # first use imports the op modules: not timed
             for reqs in sets.values():
                 h(reqs[0])
-        ok = all([compare(name, reqs, handles, max(1, args.rounds)) for name, reqs in sets.items()])
+        gold = {"evaluate (golden)": golden_responses("evaluate")}
+        agree = {name: compare(name, reqs, handles, max(1, args.rounds), gold.get(name)) for name, reqs in sets.items()}
+        # with --same-as, that revision's answers decide (an older baseline may differ from it by design)
+        ok = all(v for name, v in agree.items() if name in gold or not args.same_as)
         for n in points:
             hs = {k: h for k, h in handles.items() if k == "now" or n <= LONG_BASELINE_MAX}
             # the long curves' answers changed on purpose with the exact scans: timed, not compared
             compare(f"evaluate ({n:,}-point curve)", [long_curve_request(n)], hs, 1)
+        if args.same_as:
+            ref = importlib.import_module(f"{load_baseline(args.same_as, pathlib.Path(tmp), 'tamis_same_as').__name__}"
+                                          ".api").handle
+            for name, reqs in list(sets.items()) + [(f"evaluate ({n:,}-point curve)", [long_curve_request(n)])
+                                                    for n in points if n <= LONG_BASELINE_MAX]:
+                diff = sum(api.handle(r) != ref(r) for r in reqs)
+                print(f"{name}: " + (f"answers byte-identical to {args.same_as}" if not diff else
+                                     f"ANSWERS DIFFER FROM {args.same_as} in {diff} of {len(reqs)} requests"))
+                ok = ok and not diff
     return 0 if ok else 1
 
 

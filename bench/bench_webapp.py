@@ -10,8 +10,11 @@
 2. Bytes precached: total and gzip -9 compressed, from the build manifest.
 3. The same batch of requests (every ``ok`` golden request of the evaluate,
    zones, design_band and gradation ops, ``--batch`` times) in the worker
-   (through the bridge) and in CPython (the same wheel), as a ratio, measured
-   side by side in one run.
+   (through the bridge, one round trip per request, once the precache is done
+   and each op has been used once) and in CPython (the same wheel, warm), as
+   a ratio, measured side by side in one run; beside it the first pass of
+   each, the batch in one bridge call, and the core alone in Node Pyodide
+   (``bench/bench_pyodide_core.mjs``).
 4. A first visit on a throttled link (5 Mbit/s, 100 ms latency, Playwright's
    CDP ``Network.emulateNetworkConditions`` on the page, which its Python worker
    shares): the time to a ready calculator and to "ready offline", how many
@@ -137,34 +140,111 @@ def batch_requests(repeat: int) -> list[str]:
     return reqs * repeat
 
 
-def cpython_batch_ms(requests: list[str], webapp: Path = helpers.WEBAPP) -> float:
+#: Warm passes of the batch after the first, in the worker and in CPython alike; the fastest is kept (a machine
+#: loaded by other work slows some passes).
+WARM_PASSES = 3
+
+
+def cpython_batch_ms(requests: list[str], webapp: Path = helpers.WEBAPP) -> dict:
+    """``{"first_ms", "ms"}``: the batch in CPython on the built wheel, in a fresh process: its first pass
+    (each op's module imported at its first request, as in a fresh worker) and the fastest of
+    :data:`WARM_PASSES` passes after it (warm)."""
     wheel = webapp / helpers.read_manifest(webapp)["wheel"]
     code = (f"import sys, json, time; sys.path.insert(0, {str(wheel)!r}); import tamis.api as a; "
-            "reqs = json.load(sys.stdin); a.handle(reqs[0]); t = time.perf_counter(); "
-            "[a.handle(r) for r in reqs]; print((time.perf_counter() - t) * 1000)")
+            "reqs = json.load(sys.stdin); a.handle(reqs[0]); out = []\n"
+            f"for _ in range(1 + {WARM_PASSES}):\n"
+            "    t = time.perf_counter(); [a.handle(r) for r in reqs]; out.append((time.perf_counter() - t) * 1000)\n"
+            "print(json.dumps(out))")
     out = subprocess.run([sys.executable, "-I", "-S", "-c", code], input=json.dumps(requests),
                          capture_output=True, text=True, check=True)
-    return float(out.stdout)
+    first, *warm = json.loads(out.stdout)
+    return {"first_ms": first, "ms": min(warm)}
 
 
-def worker_batch_ms(browser, requests: list[str], webapp: Path = helpers.WEBAPP) -> float:
+def worker_batch_ms(browser, requests: list[str], webapp: Path = helpers.WEBAPP) -> dict:
+    """The batch in the worker of a fresh context, once its service worker has precached the whole site (so
+    the background download and the cache writes of a first visit do not share the measurement):
+
+    - ``first_ms``: the first pass, one bridge call awaited after the other, each op's module imported at
+      its first request (what a user's first asks of a session wait);
+    - ``ms`` (the headline): the fastest of :data:`WARM_PASSES` passes after it, the same way, each request a
+      bridge round trip awaited before the next, as the entry screen asks (what a user waits per ask once the
+      session is warm);
+    - ``one_call_ms``: the same requests sent in one bridge batch call, answered one after the other in the
+      worker: the time spent in the worker plus a single round trip (not a figure any user waits for;
+      beside the headline it shows what the per-request round trips cost);
+    - ``version_ms``: one round trip of the ``version`` op (next to nothing to compute), the mean of 100: what
+      the seam alone costs per request (bridge, postMessage both ways, the worker's call of handle).
+    """
     site = helpers.Site(webapp=webapp)
     try:
         context = browser.new_context()
         page = context.new_page()
         page.goto(site.page_url())
         helpers.wait_worker_ready(page)
-        ms = page.evaluate("""async (reqs) => {
+        helpers.wait_precached(page)
+        figures = page.evaluate("""async ([reqs, WARM_PASSES]) => {
             const b = window.tamisTest.bridge;
             await b.callJSON(reqs[0]);
-            const t = performance.now();
-            for (const r of reqs) await b.callJSON(r);
-            return performance.now() - t;
-        }""", requests)
+            const pass = async () => {
+                const t = performance.now();
+                for (const r of reqs) await b.callJSON(r);
+                return performance.now() - t;
+            };
+            const first_ms = await pass();
+            let ms = Infinity;
+            for (let i = 0; i < WARM_PASSES; i += 1) ms = Math.min(ms, await pass());
+            let t = performance.now();
+            await b.callBatch(reqs);
+            const one_call_ms = performance.now() - t;
+            const version = '{"schema":1,"op":"version","id":0}';
+            t = performance.now();
+            for (let i = 0; i < 100; i += 1) await b.callJSON(version);
+            const version_ms = (performance.now() - t) / 100;
+            return { first_ms, ms, one_call_ms, version_ms };
+        }""", [requests, WARM_PASSES])
         context.close()
-        return ms
+        return figures
     finally:
         site.stop()
+
+
+def node_pyodide_core() -> str:
+    """The closing lines of ``bench/bench_pyodide_core.mjs`` (the core alone in Node Pyodide beside CPython,
+    on the golden evaluate requests), or why they are missing."""
+    r = subprocess.run(["node", str(ROOT / "bench" / "bench_pyodide_core.mjs")], capture_output=True, text=True)
+    if r.returncode != 0:
+        return f"bench_pyodide_core.mjs failed: {r.stderr.strip()[-300:]}"
+    return "\n".join("  " + line for line in r.stdout.strip().splitlines())
+
+
+def batch_figures(browser, webapps: dict[str, Path], repeat: int) -> None:
+    """Part 3: the batch in the worker and in CPython, alternating rounds with the fastest of each kept (a
+    loaded machine slows both alike), printed with the core-only Node Pyodide figures beside them."""
+    requests = batch_requests(repeat)
+    if not requests:
+        print("batch: no ok golden requests of " + ", ".join(BATCH_OPS) + " found; skipped")
+        return
+    best: dict[str, dict] = {}
+    for _ in range(3):
+        for name, webapp in webapps.items():
+            w, c = worker_batch_ms(browser, requests, webapp), cpython_batch_ms(requests, webapp)
+            old = best.setdefault(name, {})
+            for k, v in [(f"worker {k}", v) for k, v in w.items()] + [(f"cpython {k}", v) for k, v in c.items()]:
+                old[k] = min(old.get(k, float("inf")), v)
+    n = len(requests)
+    for name, f in best.items():
+        worker, cpython = f["worker ms"], f["cpython ms"]
+        print(f"{name}: batch of {n} requests ({', '.join(BATCH_OPS)}), precache done, warm: worker {worker:.0f} ms "
+              f"({worker / n:.2f} ms each, bridge round trip included), CPython {cpython:.0f} ms "
+              f"({cpython / n:.2f} ms each); ratio worker/CPython {worker / cpython:.2f} (target <= 3)")
+        print(f"  first pass (each op imported at its first request): worker {f['worker first_ms']:.0f} ms, "
+              f"CPython {f['cpython first_ms']:.0f} ms, ratio {f['worker first_ms'] / f['cpython first_ms']:.2f}; "
+              f"the same requests in one bridge call (time in the worker plus one round trip): "
+              f"{f['worker one_call_ms']:.0f} ms ({f['worker one_call_ms'] / n:.2f} ms each), ratio to CPython "
+              f"{f['worker one_call_ms'] / cpython:.2f}; one round trip of the version op (the seam alone): "
+              f"{f['worker version_ms']:.2f} ms")
+    print("the core alone in Node Pyodide (no browser, worker or bridge):\n" + node_pyodide_core())
 
 
 def fmt(values: list[float]) -> str:
@@ -206,21 +286,7 @@ def main(argv: list[str] | None = None) -> int:
                     print(f"  worker stage timings, first visit: {fig['cold_timings']}")
                     print(f"  worker stage timings, last offline reload: {fig['warm_timings']}")
             print(f"  [{time.perf_counter() - t0:.0f} s; load average after: {os.getloadavg()[0]:.1f}]")
-            requests = batch_requests(args.batch)
-            if not requests:
-                print("batch: no ok golden requests of " + ", ".join(BATCH_OPS) + " found; skipped")
-            else:
-                best = {}
-                for _ in range(3):      # alternating rounds, the fastest of each kept (a loaded machine)
-                    for name, webapp in webapps.items():
-                        w, c = worker_batch_ms(browser, requests, webapp), cpython_batch_ms(requests, webapp)
-                        bw, bc = best.get(name, (float("inf"), float("inf")))
-                        best[name] = (min(bw, w), min(bc, c))
-                for name, (worker, cpython) in best.items():
-                    print(f"{name}: batch of {len(requests)} requests: worker {worker:.0f} ms "
-                          f"({worker / len(requests):.1f} ms each, bridge round trip included), "
-                          f"CPython {cpython:.0f} ms ({cpython / len(requests):.1f} ms each); "
-                          f"ratio worker/CPython {worker / cpython:.2f} (target <= 3)")
+            batch_figures(browser, webapps, args.batch)
             if not args.no_throttled:
                 print(f"first visit on a throttled link ({LINK['mbit_s']:g} Mbit/s, {LINK['latency_ms']:g} ms, "
                       "CDP emulation of the page and its worker):")

@@ -106,6 +106,18 @@ def number(obj: dict, key: str, path: str, *, required: bool = True, minimum: fl
     Booleans and numeric strings are refused: a field that should hold a
     number must hold a JSON number.
     """
+    v = obj.get(key) if type(obj) is dict else None
+    if type(v) is int and -NUMBER_MAX_ABS <= v <= NUMBER_MAX_ABS:
+        v = float(v)
+    if type(v) is float and (NUMBER_MIN_ABS <= v <= NUMBER_MAX_ABS or -NUMBER_MAX_ABS <= v <= -NUMBER_MIN_ABS
+                             or v == 0.0) \
+            and (minimum is None or v >= minimum) and (exclusive_minimum is None or v > exclusive_minimum) \
+            and (maximum is None or v <= maximum):
+        # the usual case, a finite float within every bound, decided without building the field path; any other
+        # value takes the checks below, which give every error with its path
+        return v
+    if v is None and not required and type(obj) is dict:
+        return default                      # absent or null, and optional
     p = join(path, key)
     if key not in obj or obj[key] is None:
         if required:
@@ -136,25 +148,27 @@ def number(obj: dict, key: str, path: str, *, required: bool = True, minimum: fl
 
 def text(obj: dict, key: str, path: str, *, required: bool = False, default: str | None = None,
          choices: tuple[str, ...] | None = None, max_chars: int = TEXT_MAX_CHARS) -> str | None:
-    p = join(path, key)
     if key not in obj or obj[key] is None:
         if required:
+            p = join(path, key)
             raise InputError("missing_field", f"{p} is required.", p)
         return default
     v = obj[key]
     if not isinstance(v, str):
+        p = join(path, key)
         raise InputError("not_a_string", f"{p} must be text.", p)
-    check_text_length(v, p, max_chars)
-    if choices is not None and v not in choices:
+    if len(v) > max_chars or (choices is not None and v not in choices):     # the path is built for errors only
+        p = join(path, key)
+        check_text_length(v, p, max_chars)
         raise InputError("unknown_choice", f"{p} must be one of {', '.join(choices)}; got {v[:40]!r}.", p)
     return v
 
 
 def boolean(obj: dict, key: str, path: str, *, default: bool | None = None) -> bool | None:
-    p = join(path, key)
     if key not in obj or obj[key] is None:
         return default
     v = obj[key]
     if not isinstance(v, bool):
+        p = join(path, key)
         raise InputError("not_a_boolean", f"{p} must be true or false.", p)
     return v

@@ -21,7 +21,7 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-from .checks import FAIL, NEEDS_DATA, PASS, Check, compare
+from .checks import FAIL, NEEDS_DATA, PASS, Check, compare, new_check
 
 PROVENANCE_TAGS = ("read", "read in a secondary source", "from memory", "derived",
                    "common practice, no source")
@@ -269,6 +269,9 @@ def source_text(check_id: str, variant: str = "", given: str = "") -> str:
     """The ``source`` string a check carries: document, edition, locator, provenance
     (or the entry's own :attr:`Entry.carries`); for an entry that carries the source
     its input gives (:data:`GIVEN`), ``given``, which must then be named."""
+    text = _SOURCE_TEXT.get((check_id, variant))
+    if text is not None and not given:
+        return text
     e = entry(check_id, variant)
     if e.carries == GIVEN:
         if not given:
@@ -279,14 +282,19 @@ def source_text(check_id: str, variant: str = "", given: str = "") -> str:
     return e.carries or f"{e.source}, {e.edition}, {e.locator} [{e.provenance}]"
 
 
+#: (id, variant) -> the source text of each entry that carries the registry's own, composed once at import
+#: (:func:`source_text` looks any other pair up as before).
+_SOURCE_TEXT = {(e.id, e.variant): e.carries or f"{e.source}, {e.edition}, {e.locator} [{e.provenance}]"
+                for e in ENTRIES if e.carries != GIVEN}
+
+
 def make_check(check_id: str, status: str, message: str, *, variant: str = "", value=None, limit=None,
                relation=None, unit: str = "", extra: dict | None = None, advisory: bool = False,
                given: str = "") -> Check:
     """A :class:`~tamis.checks.Check` whose ``source`` comes from the registry
     (:func:`source_text` of ``check_id``, ``variant`` and ``given``)."""
-    return Check(id=check_id, status=status, message=message, value=value, limit=limit, relation=relation,
-                 unit=unit, source=source_text(check_id, variant, given), extra=dict(extra or {}),
-                 advisory=advisory)
+    return new_check(check_id, status, message, value, limit, relation, unit, source_text(check_id, variant, given),
+                     dict(extra or {}), advisory)
 
 
 def limit_check(check_id: str, value, relation: str, limit, unit: str, what: str, *, variant: str = "",

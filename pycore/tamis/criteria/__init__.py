@@ -18,10 +18,10 @@ the engineer of record govern.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 
 from ..lab.curve import size_at
-from ..checks import FAIL, Finding
+from ..checks import FAIL, Finding, copy_check
 from .base import analyse_base, base_info
 from .bounds import d_range
 from .material import material_checks, material_limits
@@ -105,14 +105,14 @@ def run_filter_checks(sample, base=None, rules=None, path: str = "rules") -> Fil
     if r["stability"]:
         st, st_find = stability_checks(curve, r["kenney_lau_boundary"])
         if not r["stability_in_verdict"]:
-            st = [replace(c, advisory=True) for c in st]
+            st = [copy_check(c, advisory=True) for c in st]
             findings.extend(_advisory_flags(st))
         checks.extend(st)
         findings.extend(st_find)
     hz, hz_find = hazen_estimate(curve, r["hazen_c"])
     kc, kc_find = kozeny_carman_estimate(curve, props, r)
     estimates = [hz, kc] + ([ratio_estimate(d15f, limits["d15b_mm"])] if base is not None else [])
-    checks.extend(replace(c, advisory=True) for c in estimates)
+    checks.extend(copy_check(c, advisory=True) for c in estimates)
     findings.extend(hz_find + kc_find)
     return FilterOutcome(checks=checks, limits=limits, base_info=binfo, findings=findings, rules_used=r)
 

@@ -24,7 +24,8 @@ Istomina (1957).
 from __future__ import annotations
 
 from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding
-from ..lab.curve import Curve, coefficient_of_uniformity, exp, ln, ln_and_ln4, passing_at, same_size, size_at
+from ..lab.curve import Curve, coefficient_of_uniformity, exp, ln, ln_and_ln4, ln_sizes_at, passing_at, same_size, \
+    size_at
 from ..registry import make_check
 from .tables import BURENKOVA, ISTOMINA, KEZDI_FINE_PART_FINES_MAX, KEZDI_LIMIT, KL_CU_NARROW_MAX, \
     KL_F_MAX_NARROW_PCT, KL_F_MAX_WIDE_PCT, LI_FANNIN_F_SPLIT_PCT, MATERIAL, NO_200_MM, WAN_FELL, WAN_FELL_CUTOFF
@@ -66,6 +67,11 @@ def _three_way(check_id: str, failed: bool, complete: bool, fail_msg: str, incom
 
 
 # ----------------------------------------------------------------- Kezdi 1979
+#: Margin [in ln of the ratio] beyond which a Kezdi candidate cannot be the largest: 1e-9, some 10^5 times the
+#: rounding of the logarithms and exponentials it covers.
+_KEZDI_LN_MARGIN = 1e-9
+
+
 def _kezdi_worst(curve: Curve, lo: float, hi: float):
     """(largest D'15c / d'85f, split Ps) over splits Ps in [lo, hi], or None.
 
@@ -79,8 +85,21 @@ def _kezdi_worst(curve: Curve, lo: float, hi: float):
             for s in (ps - 1e-7, ps, ps + 1e-7):
                 if lo <= s <= hi:
                     cands.add(s)
+    # The ratio is compared first through its logarithm (no exponential per candidate): a candidate whose
+    # ln(D'15c / d'85f) lies more than _KEZDI_LN_MARGIN below the largest cannot hold the largest ratio, since
+    # both are within a few units in the last place of the exact values. The few left are read as before
+    # (size_at, the first largest in split order), so the answer has the same bits as reading every candidate.
+    order = sorted(cands)
+    lcs = ln_sizes_at(curve, [ps + 0.15 * (100.0 - ps) for ps in order])
+    lfs = ln_sizes_at(curve, [0.85 * ps for ps in order])
+    logs = [(lc - lf, ps) for lc, lf, ps in zip(lcs, lfs, order) if lc is not None and lf is not None]
+    if not logs:
+        return None
+    top = max(lr for lr, _ in logs) - _KEZDI_LN_MARGIN
     worst = None
-    for ps in sorted(cands):
+    for lr, ps in logs:
+        if lr < top:
+            continue
         dc = size_at(curve, ps + 0.15 * (100.0 - ps))
         df = size_at(curve, 0.85 * ps)
         if dc is None or df is None or df <= 0:

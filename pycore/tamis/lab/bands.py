@@ -20,7 +20,7 @@ from dataclasses import dataclass
 
 from .curve import Curve, fineness_modulus, passing_at, same_size
 from ..errors import InputError, join, number, require_list, require_mapping, text
-from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, compare
+from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, compare, new_check
 from ..registry import source_text
 from .sieves import label_for, resolve_opening
 
@@ -166,8 +166,8 @@ def compliance_check(band: Band, curve: Curve) -> Check:
             " was not in the sample's stack (read by interpolation)."
     else:
         status, msg = PASS, f"Within the band at all {len(rows)} sieves."
-    return Check("band.compliance", status, msg, worst, 0.0, ">=", "%",
-                 source_text("band.compliance", given=band.source), extra)
+    return new_check("band.compliance", status, msg, worst, 0.0, ">=", "%",
+                     source_text("band.compliance", given=band.source), extra)
 
 
 def _lim(r: dict) -> str:
@@ -184,14 +184,14 @@ def fineness_check(band: Band, curve: Curve) -> Check | None:
     lo, hi = band.fm_min, band.fm_max
     rng = f"{'-' if lo is None else f'{lo:g}'} to {'-' if hi is None else f'{hi:g}'}"
     if fm is None:
-        return Check("band.fineness_modulus", NEEDS_DATA, "The fineness modulus needs every ASTM C125 sieve "
-                     "from 150 um up to the top of the sample.", None, lo if lo is not None else hi, None, "-",
-                     source_text("band.fineness_modulus", given=band.source))
+        return new_check("band.fineness_modulus", NEEDS_DATA, "The fineness modulus needs every ASTM C125 sieve "
+                         "from 150 um up to the top of the sample.", None, lo if lo is not None else hi, None, "-",
+                         source_text("band.fineness_modulus", given=band.source))
     ok = (lo is None or compare(fm, ">=", lo)) and (hi is None or compare(fm, "<=", hi))
     limit, rel = (lo, ">=") if (lo is not None and fm < lo) else ((hi, "<=") if hi is not None else (lo, ">="))
-    return Check("band.fineness_modulus", PASS if ok else FAIL,
-                 f"Fineness modulus {fm:.2f} {'within' if ok else 'outside'} {rng}.", fm, limit, rel, "-",
-                 source_text("band.fineness_modulus", given=band.source), {"fm_min": lo, "fm_max": hi})
+    return new_check("band.fineness_modulus", PASS if ok else FAIL,
+                     f"Fineness modulus {fm:.2f} {'within' if ok else 'outside'} {rng}.", fm, limit, rel, "-",
+                     source_text("band.fineness_modulus", given=band.source), {"fm_min": lo, "fm_max": hi})
 
 
 def between_sieves_check(band: Band, curve: Curve) -> Check | None:
@@ -207,19 +207,19 @@ def between_sieves_check(band: Band, curve: Curve) -> Check | None:
         pa = next((p for d, p in meas.items() if same_size(d, a)), None)
         pb = next((p for d, p in meas.items() if same_size(d, b)), None)
         if pa is None or pb is None:
-            return Check("band.between_sieves", NEEDS_DATA, f"{label_for(a)} and {label_for(b)} must both be "
-                         "sieved to check the fraction between them.", None, lim, "<=", "%",
-                         source_text("band.between_sieves", given=band.source))
+            return new_check("band.between_sieves", NEEDS_DATA, f"{label_for(a)} and {label_for(b)} must both be "
+                             "sieved to check the fraction between them.", None, lim, "<=", "%",
+                             source_text("band.between_sieves", given=band.source))
         vals.append((pa - pb, a, b))
     if not vals:
-        return Check("band.between_sieves", NOT_APPLICABLE, "The band has a single sieve.", None, lim, "<=", "%",
-                     source_text("band.between_sieves", given=band.source))
+        return new_check("band.between_sieves", NOT_APPLICABLE, "The band has a single sieve.", None, lim, "<=", "%",
+                         source_text("band.between_sieves", given=band.source))
     worst = max(vals)
     ok = compare(worst[0], "<=", lim)
-    return Check("band.between_sieves", PASS if ok else FAIL,
-                 f"Largest fraction between consecutive sieves: {worst[0]:.1f} % ({label_for(worst[1])} to "
-                 f"{label_for(worst[2])}), limit {lim:g} %.", worst[0], lim, "<=", "%",
-                 source_text("band.between_sieves", given=band.source))
+    return new_check("band.between_sieves", PASS if ok else FAIL,
+                     f"Largest fraction between consecutive sieves: {worst[0]:.1f} % ({label_for(worst[1])} to "
+                     f"{label_for(worst[2])}), limit {lim:g} %.", worst[0], lim, "<=", "%",
+                     source_text("band.between_sieves", given=band.source))
 
 
 def band_checks(band: Band, curve: Curve) -> list[Check]:

@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 from .. import SCREENING_NOTICE
 from ..checks import Finding, verdict
 from ..errors import InputError, boolean, join, number, require_mapping
-from .curve import STANDARD_D_PCTS, Curve, coefficient_of_curvature, coefficient_of_uniformity, d_values, \
+from .curve import STANDARD_D_NAMES, STANDARD_D_PCTS, Curve, coefficient_of_curvature, coefficient_of_uniformity, d_values, \
     fineness_modulus, fractions, make_curve, same_size
 from .sedimentation import reduce_sedimentation
 from .sieve_analysis import parse_test
@@ -101,8 +101,8 @@ def gradation_of(curve: Curve, props: dict, path: str = "test.sieves", *,
     fr = fractions(curve)
     finest_d, finest_p = curve.points[-1]
     top_d, top_p = curve.points[0]
-    below = [k for k, v in d.items() if v is None and float(k[1:]) < finest_p]
-    above = [k for k, v in d.items() if v is None and float(k[1:]) > top_p]
+    below = [k for k, p in STANDARD_D_NAMES if d[k] is None and p < finest_p]
+    above = [k for k, p in STANDARD_D_NAMES if d[k] is None and p > top_p]
     if below and finest_is_reading:
         findings.append(Finding("note", "d_below_range", f"{', '.join(below)} not determined: {finest_p:.1f} % "
                                 f"is still finer than the last hydrometer reading ({finest_d:g} mm); a later "

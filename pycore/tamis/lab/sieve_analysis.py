@@ -34,7 +34,7 @@ from decimal import Context, Decimal
 from .curve import GRAVEL_SAND_MM, SAND_FINES_MM, Curve, make_curve, same_size
 from ..errors import LABEL_MAX_CHARS, MASS_MAX_G, POINTS_MAX, InputError, boolean, join, number, opening, \
     require_list, require_mapping, text
-from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding, compare
+from ..checks import FAIL, NEEDS_DATA, NOT_APPLICABLE, PASS, WARN, Check, Finding, compare, new_check
 from ..registry import source_text
 from .sieves import label_for, resolve_opening
 from .tables import DEFAULT_FRAME, FRAMES, MASS_BALANCE_LIMIT_PCT, NMS_RETAINED_PCT, OVERLOAD_COARSE_FACTOR, \
@@ -187,11 +187,12 @@ def _dec(x: float) -> Decimal:
 #: typed with up to 17 significant digits, so the sums are exact and each ratio
 #: is rounded once, when it becomes a float. Never modified.
 _CTX = Context(prec=40)
+_HUNDRED = Decimal(100)
 
 
 def _pct(part: Decimal, whole: Decimal) -> float:
     """100 * part / whole as the float nearest the exact decimal ratio [%]."""
-    return float(_CTX.divide(_CTX.multiply(part, Decimal(100)), whole))
+    return float(_CTX.divide(_CTX.multiply(part, _HUNDRED), whole))
 
 
 def _retained_masses(entries: list, cumulative: bool) -> tuple[list[float], list[Decimal]]:
@@ -322,7 +323,7 @@ def parse_passing(test: dict, path: str) -> SieveTest:
     rows = tuple(Row(d, label_for(d), None, None, None, p, i)
                  for i, (d, p) in zip(order, curve.points))
     why = "The test was entered as percent passing: no masses to check."
-    checks = tuple(Check(cid, NOT_APPLICABLE, why, source=src) for cid, src in
+    checks = tuple(new_check(cid, NOT_APPLICABLE, why, source=src) for cid, src in
                    (("qa.mass_balance", SRC_MASS_BALANCE), ("qa.sieve_overload", SRC_OVERLOAD),
                     ("qa.specimen_mass", SRC_SPECIMEN)))
     findings: tuple[Finding, ...] = ()
@@ -367,8 +368,8 @@ def mass_balance_check(m: Masses, diff_pct: float | None = None, within: bool | 
     msg = (f"Sieves and pan hold {m.retained_sum_g + m.pan_g:.1f} g against {m.on_sieves_g:.1f} g {what}: "
            f"a difference of {diff_pct:.2f} % of the original dry mass "
            + ("(within 0.3 %)." if ok else "(over 0.3 %: do not use this result for acceptance)."))
-    return Check("qa.mass_balance", PASS if ok else FAIL, msg, diff_pct, MASS_BALANCE_LIMIT_PCT, "<=", "%",
-                 SRC_MASS_BALANCE)
+    return new_check("qa.mass_balance", PASS if ok else FAIL, msg, diff_pct, MASS_BALANCE_LIMIT_PCT, "<=", "%",
+                     SRC_MASS_BALANCE)
 
 
 def overload_limit_g(opening_mm: float, frame: str = DEFAULT_FRAME) -> float:
@@ -392,17 +393,17 @@ def sieve_overload_check(rows, frame: str = DEFAULT_FRAME, portions: bool = Fals
     over = [p for p in per if p["retained_g"] > p["limit_g"]]
     extra = {"frame": frame, "sieves": per, "overloaded": over}
     if portions:
-        return Check("qa.sieve_overload", NOT_APPLICABLE, "Sieved in portions: the masses are sums over the "
-                     "portions, so each portion's load is checked at the bench.", unit="-",
-                     source=SRC_OVERLOAD, extra=extra)
+        return new_check("qa.sieve_overload", NOT_APPLICABLE, "Sieved in portions: the masses are sums over the "
+                         "portions, so each portion's load is checked at the bench.", unit="-",
+                         source=SRC_OVERLOAD, extra=extra)
     worst = max(p["retained_g"] / p["limit_g"] for p in per)
     if over:
         names = ", ".join(f"{p['label']} ({p['retained_g']:g} g > {p['limit_g']:.1f} g)" for p in over)
         msg = (f"Overloaded on the {FRAMES[frame][0]} frame: {names}. Insert an intermediate sieve, sieve in "
                "portions, or use larger frames.")
-        return Check("qa.sieve_overload", FAIL, msg, worst, 1.0, "<=", "-", SRC_OVERLOAD, extra)
-    return Check("qa.sieve_overload", PASS, f"No sieve over its load limit on the {FRAMES[frame][0]} frame.",
-                 worst, 1.0, "<=", "-", SRC_OVERLOAD, extra)
+        return new_check("qa.sieve_overload", FAIL, msg, worst, 1.0, "<=", "-", SRC_OVERLOAD, extra)
+    return new_check("qa.sieve_overload", PASS, f"No sieve over its load limit on the {FRAMES[frame][0]} frame.",
+                     worst, 1.0, "<=", "-", SRC_OVERLOAD, extra)
 
 
 def specimen_min_g(largest_mm: float) -> float | None:
@@ -434,15 +435,15 @@ def specimen_mass_check(rows, dry_mass_g: float) -> Check:
     minimum for the test's nominal maximum size (:func:`nominal_max_size_mm`)."""
     nms, why = nominal_max_size_mm(rows)
     if nms is None:
-        return Check("qa.specimen_mass", NEEDS_DATA, f"The nominal maximum size is not known: {why}; add a "
-                     "coarser sieve.", dry_mass_g, None, ">=", "g", SRC_SPECIMEN)
+        return new_check("qa.specimen_mass", NEEDS_DATA, f"The nominal maximum size is not known: {why}; add a "
+                         "coarser sieve.", dry_mass_g, None, ">=", "g", SRC_SPECIMEN)
     need = specimen_min_g(nms)
     if need is None:
-        return Check("qa.specimen_mass", NEEDS_DATA, f"Nominal maximum size {nms:g} mm is beyond the table "
-                     "(125 mm).", dry_mass_g, None, ">=", "g", SRC_SPECIMEN)
+        return new_check("qa.specimen_mass", NEEDS_DATA, f"Nominal maximum size {nms:g} mm is beyond the table "
+                         "(125 mm).", dry_mass_g, None, ">=", "g", SRC_SPECIMEN)
     ok = compare(dry_mass_g, ">=", need)
     msg = (f"Dry mass {dry_mass_g:.1f} g for a nominal maximum size of {nms:g} mm ({why}) "
            + (f"meets the minimum {need:g} g." if ok else f"is below the minimum {need:g} g: the sample may not "
               "represent the material."))
-    return Check("qa.specimen_mass", PASS if ok else WARN, msg, dry_mass_g, need, ">=", "g", SRC_SPECIMEN,
-                 {"nominal_max_size_mm": nms})
+    return new_check("qa.specimen_mass", PASS if ok else WARN, msg, dry_mass_g, need, ">=", "g", SRC_SPECIMEN,
+                     {"nominal_max_size_mm": nms})

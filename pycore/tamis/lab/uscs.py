@@ -30,7 +30,7 @@ says what would decide it; nothing is guessed.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from decimal import Decimal, localcontext
+from decimal import ROUND_HALF_EVEN, Context, Decimal
 
 from .curve import COBBLE_MM, GRAVEL_SAND_MM, SAND_FINES_MM, Curve, Fractions, coefficient_of_curvature, \
     coefficient_of_uniformity, fractions, passing_at, regrade, size_at
@@ -50,11 +50,17 @@ def decided_pct(num_pct: float, minus_pct: float = 0.0, of_pct: float = 100.0) -
     is 4.999999999999999), and that noise must not decide a class. Twelve digits are far below any
     measured precision and far above the noise (about 1e-16).
     """
-    with localcontext() as ctx:
-        ctx.prec = 40
-        v = (Decimal(repr(num_pct)) - Decimal(repr(minus_pct))) * 100 / Decimal(repr(of_pct))
-        ctx.prec = DECIDE_DIGITS
-        return float(+v)
+    c = _CTX_EXACT
+    v = c.divide(c.multiply(c.subtract(Decimal(repr(num_pct)), Decimal(repr(minus_pct))), _HUNDRED),
+                 Decimal(repr(of_pct)))
+    return float(_CTX_DECIDE.plus(v))
+
+
+#: The decimal contexts of :func:`decided_pct` (40 digits for the arithmetic, :data:`DECIDE_DIGITS` for the
+#: comparison; rounding half even, as the default context). Never modified.
+_CTX_EXACT = Context(prec=40, rounding=ROUND_HALF_EVEN)
+_CTX_DECIDE = Context(prec=DECIDE_DIGITS, rounding=ROUND_HALF_EVEN)
+_HUNDRED = Decimal(100)
 
 
 def decision_fractions(curve: Curve, cobbles: bool) -> Fractions:

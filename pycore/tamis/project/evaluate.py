@@ -13,7 +13,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 
 from .. import SCREENING_NOTICE
-from ..checks import Check, verdict
+from ..checks import Check, copy_check, verdict
 from ..criteria import run_filter_checks
 from ..errors import require_mapping
 from ..lab.bands import band_checks, parse_band
@@ -21,14 +21,8 @@ from ..lab.reduction import Reduced, reduce_test, require_field
 
 
 def _tag(checks, subject: str) -> list[Check]:
-    """Copies of ``checks`` with ``extra.subject`` set (as ``dataclasses.replace`` would make them, without
-    validating again fields that were validated when ``c`` was made)."""
-    out = []
-    for c in checks:
-        t = object.__new__(Check)
-        t.__dict__.update(c.__dict__, extra={**c.extra, "subject": subject})
-        out.append(t)
-    return out
+    """Copies of ``checks`` with ``extra.subject`` set (:func:`~tamis.checks.copy_check`)."""
+    return [copy_check(c, extra={**c.extra, "subject": subject}) for c in checks]
 
 
 @dataclass(frozen=True)
