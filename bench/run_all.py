@@ -34,6 +34,10 @@ def main(argv: list[str]) -> int:
         print(f"== {script.name}", flush=True)
         t0 = time.perf_counter()
         extra = ["--baseline", baseline] if baseline and script.name in WITH_BASELINE else []
+        if extra and script.name == "bench_evaluate.py":
+            # the baseline's answers differ from today's by design (issues 10-16); the working tree's answers
+            # are held to the golden files and to the last commit's, byte for byte
+            extra += ["--same-as", "HEAD"]
         rc = subprocess.call([sys.executable, str(script), *extra])
         print(f"== {script.name}: exit {rc}, {time.perf_counter() - t0:.1f} s wall\n", flush=True)
         if rc:
