@@ -5,6 +5,8 @@
 //   callBatch(texts)         -> Promise<response strings>  (many requests in one message, answered in order)
 //   onStatus(cb)             -> unsubscribe function; cb({stage, detail, progress, ready, error, ...})
 //   whenReady()              -> Promise<ready status>; rejects if the worker cannot boot
+//   onSnapshot(cb)           -> unsubscribe function; cb({state, reason, ...}) as the worker makes its memory
+//                               snapshot in the background (docs/webapp.md "Boot paths"); shown to nobody
 //
 // A newer call with the same key supersedes an older one: the older promise
 // resolves with {superseded: true}, and if it has not reached the worker yet it
@@ -24,6 +26,8 @@ const listeners = new Set();
 const waiting = [];        // jobs not yet sent to the worker
 let inFlight = null;       // the job the worker is computing
 const latestByKey = new Map();
+const snapshotListeners = new Set();
+let snapshotState = null;
 
 function setStatus(next) {
   status = { ...next };
@@ -65,6 +69,11 @@ function onMessage(event) {
     pump();
   } else if (msg.type === "fatal") {
     fail(msg.error);
+  } else if (msg.type === "snapshot") {
+    snapshotState = { ...msg };
+    for (const cb of snapshotListeners) {
+      try { cb({ ...snapshotState }); } catch (err) { console.error(err); }
+    }
   }
 }
 
@@ -73,6 +82,7 @@ function start() {
   const pageInstall = new URLSearchParams(self.location.search).get("install");
   const url = new URL(WORKER_URL);
   if (pageInstall === "micropip" || pageInstall === "unpack") url.searchParams.set("install", pageInstall);
+  if (new URLSearchParams(self.location.search).get("snapshot") === "off") url.searchParams.set("snapshot", "off");
   // A page a service worker controls: the worker's fetches go through it (its cache, and the browser's
   // compiled-code cache of the wasm runtime served from there), so the worker routes nothing itself.
   if (self.navigator && navigator.serviceWorker && navigator.serviceWorker.controller) url.searchParams.set("sw", "1");
@@ -150,6 +160,16 @@ export function whenReady() {
     };
     const off = onStatus((s) => queueMicrotask(() => check(s)));
   });
+}
+
+/** Subscribe to the background memory snapshot's progress; cb is called at once if there is news. */
+export function onSnapshot(cb) {
+  snapshotListeners.add(cb);
+  start();
+  if (snapshotState) {
+    try { cb({ ...snapshotState }); } catch (err) { console.error(err); }
+  }
+  return () => snapshotListeners.delete(cb);
 }
 
 /** The current status (a copy). */

@@ -13,6 +13,7 @@
 
 import { prepareFetchGuard } from "./guard.js";
 import { sha256Hex } from "./digest.js";
+import * as snapshots from "./snapshot_store.js";
 import "../fetch_once.js";  // self.tamisFetchOnce: one download per file, shared with the service worker's precache
 
 const HERE = new URL(".", import.meta.url);
@@ -23,12 +24,18 @@ const INSTALL_MODE = new URL(import.meta.url).searchParams.get("install") === "m
 // Set by the bridge when a service worker controls the page: its cache answers every fetch, so the shared
 // downloads below (for a first visit, or a page it does not control) are not needed.
 const CONTROLLED = new URL(import.meta.url).searchParams.get("sw") === "1";
+// role=snapshot: the short-lived second worker that makes the memory snapshot (started by the main worker
+// after its plain boot, see makeSnapshotLater); the main worker answers the page.
+const ROLE = new URL(import.meta.url).searchParams.get("role") === "snapshot" ? "snapshot" : "main";
+// snapshot=off on the page URL (passed on by the bridge): always boot plainly (for comparisons).
+const SNAPSHOT_OFF = new URL(import.meta.url).searchParams.get("snapshot") === "off";
 
 const t0 = performance.now();
 const timings = {};
 let handle = null;      // tamis.api.handle as a callable proxy; its results are JS strings
 let broken = null;      // set once the runtime has failed: every later request gets the fatal error
 const queue = [];       // requests received before the runtime was ready
+let lastRequestAt = performance.now();  // the snapshot is made once requests pause (makeSnapshotLater)
 
 function post(msg) {
   self.postMessage(msg);
@@ -181,6 +188,7 @@ self.addEventListener("message", (event) => {
   const msg = event.data;
   if (!msg || (msg.type !== "request" && msg.type !== "batch")) return;
   const item = { n: msg.n, json: msg.type === "batch" ? msg.jsons : msg.json, batch: msg.type === "batch" };
+  lastRequestAt = performance.now();
   if (handle || broken) answer(item.n, item.json, item.batch);
   else queue.push(item);
 });
@@ -224,6 +232,30 @@ function fetchOnce(path, nativeFetch) {
   }).then((response) => { if (response.ok) noteBytes(path, file.size); return response; });
 }
 
+// The Python code run before a memory snapshot is taken (role=snapshot): every tamis module that imports
+// here is imported (the office-only ones, e.g. those needing multiprocessing, do not, and are not needed:
+// they fail the same way in a plain boot), so a restored boot imports nothing; then the garbage is collected.
+// Only strings pass between JavaScript and Python here, so the snapshot holds no JavaScript object.
+const BEFORE_SNAPSHOT = `
+import gc, importlib, pkgutil, tamis
+_skipped = []
+for _info in sorted(pkgutil.walk_packages(tamis.__path__, "tamis.", onerror=_skipped.append), key=lambda m: m.name):
+    if _info.name != "tamis.__main__":
+        try:
+            importlib.import_module(_info.name)
+        except Exception:
+            _skipped.append(_info.name)
+del _info, _skipped
+gc.collect()
+`;
+
+// After a restore: randomness (and hash seeds of new objects aside, which a snapshot freezes) is reseeded,
+// so two devices restored from snapshots do not share a random sequence.
+const AFTER_RESTORE = `
+import random
+random.seed()
+`;
+
 async function boot() {
   // loadPyodide fetches the wasm runtime and the stdlib zip in parallel; once
   // both have arrived, CPython starts and imports its modules from the zip.
@@ -265,8 +297,13 @@ async function boot() {
         "rebuild the app (make build)");
     }),
   ])]);
+  mark("manifest_ms");
   filesByPath = new Map(manifest.files.map((f) => [f.path, f]));
   cacheName = `tamis-${manifest.version}`;
+  const key = snapshots.snapshotKey(manifest);
+  // The stored snapshot's headers are looked up now; its body is read while the runtime loads.
+  const lookedUp = ROLE === "main" && !SNAPSHOT_OFF && manifest.pyodide_build_id
+    ? snapshots.lookUp(SITE, key) : Promise.resolve({ found: false, reason: SNAPSHOT_OFF ? "disabled" : "unsupported" });
   const boots = CONTROLLED ? [] : BOOT_FILES.filter((p) => filesByPath.has(p));
   for (const p of CONTROLLED ? [] : [...boots, manifest.wheel]) if (filesByPath.has(p)) routed.add(p);
   const bootBytes = boots.reduce((sum, p) => sum + filesByPath.get(p).size, 0) || 1;
@@ -296,28 +333,94 @@ async function boot() {
     const response = await Promise.race([aborted, asmMjs]);
     if (!response.ok) throw new Error(`vendor/pyodide/pyodide.asm.mjs could not be loaded (HTTP ${response.status}); rebuild the app (make build)`);
   }
-  const py = await Promise.race([aborted, pyodideModule.loadPyodide({
+  const startPython = (extra = {}) => Promise.race([aborted, pyodideModule.loadPyodide({
     indexURL: PYODIDE_DIR.href,
     lockFileURL: new URL("pyodide-lock.json", PYODIDE_DIR).href,
     packageBaseUrl: PYODIDE_DIR.href,
-    stdout: () => {},
-    stderr: (line) => console.warn("python:", line),
+    ...(ROLE === "snapshot" ? {} : {  // the snapshot must hold no JavaScript function of this worker
+      stdout: () => {},
+      stderr: (line) => console.warn("python:", line),
+    }),
+    ...extra,
   })]);
-  mark("python_started_ms");
-  status("core", `installing the tamis core (${INSTALL_MODE})`, 0.7);
-  await Promise.race([aborted, installCore(py, manifest)]);
-  const candidate = py.pyimport("tamis.api").handle;
-  mark("core_installed_ms");
-  status("selftest", "checking the core", 0.9);
-  const coreVersion = selfTestVersion(candidate, manifest);
-  const goldenName = await selfTestGolden(candidate, manifest);
+
+  if (ROLE === "snapshot") return makeSnapshot(manifest, key, startPython);
+
+  // ---- the snapshot boot, when this device holds a usable snapshot of this build ----
+  const found = await lookedUp;
+  mark("snapshot_looked_up_ms");
+  let fallback = found.found ? null : found.reason;
+  let fallbackDetail = found.found ? null : found.detail || null;
+  let py = null;
+  let candidate = null;
+  let coreVersion = null;
+  let goldenName = null;
+  let bootPath = "plain";
+  if (found.found && found.buildId !== manifest.pyodide_build_id) {
+    // made by another runtime build: Pyodide would only find out after instantiating the wasm
+    await snapshots.discard(SITE);
+    fallback = "stale";
+    fallbackDetail = `snapshot of runtime ${found.buildId}, this runtime is ${manifest.pyodide_build_id}`;
+  } else if (found.found) {
+    status("core", "restoring the saved Python state", 0.5);
+    try {
+      const bytes = found.body().then((snapshot) => {
+        mark("snapshot_read_ms");
+        if (snapshots.headerBuildId(snapshot) !== manifest.pyodide_build_id) {
+          throw new Error("the snapshot's header names another runtime build");
+        }
+        return snapshot;
+      });
+      bytes.catch(() => {});
+      py = await startPython({ _loadSnapshot: bytes });
+      py._api.config._loadSnapshot = null;  // else the whole snapshot stays referenced
+      mark("python_started_ms");
+      py.runPython(AFTER_RESTORE);
+      // The emulated file system is new: the wheel's files (package data such as the demo records) are
+      // unpacked again; its modules are already imported, from the snapshot.
+      const { bytes: wheel } = await fetchWheel(manifest);
+      py.unpackArchive(wheel, "wheel");
+      candidate = py.pyimport("tamis.api").handle;
+      mark("core_installed_ms");
+      status("selftest", "checking the core", 0.9);
+      coreVersion = selfTestVersion(candidate, manifest);
+      goldenName = await selfTestGolden(candidate, manifest);
+      bootPath = "snapshot";
+    } catch (err) {
+      if (broken) throw err;  // a runtime file is missing: a plain boot would fail the same way
+      fallback = "refused";
+      fallbackDetail = String(err && err.message ? err.message : err).slice(0, 300);
+      console.info(`tamis: the saved Python state was refused (${fallbackDetail}); starting plainly`);
+      py = null;
+      candidate = null;
+      await snapshots.discard(SITE);
+      const state = await snapshots.readState(SITE);
+      await snapshots.writeState(SITE, { key, refused: (state.key === key ? state.refused || 0 : 0) + 1 });
+      for (const k of Object.keys(timings)) if (k !== "manifest_ms" && !k.endsWith("_fetched_ms")) delete timings[k];
+    }
+  }
+
+  // ---- the plain boot: start CPython, install the wheel ----
+  if (!py) {
+    py = await startPython();
+    mark("python_started_ms");
+    status("core", `installing the tamis core (${INSTALL_MODE})`, 0.7);
+    await Promise.race([aborted, installCore(py, manifest)]);
+    candidate = py.pyimport("tamis.api").handle;
+    mark("core_installed_ms");
+    status("selftest", "checking the core", 0.9);
+    coreVersion = selfTestVersion(candidate, manifest);
+    goldenName = await selfTestGolden(candidate, manifest);
+  }
   handle = candidate;  // requests are answered only once the self-test passed
   mark("selftest_ms");
   timings.total_ms = timings.selftest_ms;
   post({
     type: "status", stage: "ready", progress: 1, ready: true, error: null,
-    detail: `Pyodide ${py.version} ready, tamis core ${coreVersion}` + (goldenName ? `, self-test ${goldenName} passed` : ""),
-    timings, install: INSTALL_MODE, core_version: coreVersion, build_version: manifest.version,
+    detail: `Pyodide ${py.version} ready${bootPath === "snapshot" ? " (from its saved state)" : ""}, ` +
+      `tamis core ${coreVersion}` + (goldenName ? `, self-test ${goldenName} passed` : ""),
+    timings, install: bootPath === "snapshot" ? "snapshot" : INSTALL_MODE, core_version: coreVersion,
+    build_version: manifest.version, boot: bootPath, snapshot_fallback: fallback, snapshot_fallback_detail: fallbackDetail,
   });
   while (queue.length) {
     const msg = queue.shift();
@@ -329,11 +432,105 @@ async function boot() {
     } catch (err) {
       console.warn(`tamis: warming up the core failed: ${err && err.message ? err.message : err}`);
     }
+    if (bootPath === "plain" && !SNAPSHOT_OFF && manifest.pyodide_build_id) makeSnapshotLater(key);
   }, 0);
+}
+
+// ---- making the snapshot (after a plain boot), in a second, short-lived worker ----------------------
+// Messages to the page: {type: "snapshot", state: "waiting"|"making"|"saved"|"failed"|"skipped", reason?,
+// detail?, stored_bytes?, raw_bytes?, ms?}. Nothing of it is shown to the user: a snapshot that cannot be
+// made or kept only means the next boot is plain again.
+const IDLE_BEFORE_MAKING_MS = 1000;  // no request for this long before the second worker starts
+
+function tellSnapshot(state, extra = {}) {
+  post({ type: "snapshot", state, ...extra });
+}
+
+async function makeSnapshotLater(key) {
+  if (typeof Worker !== "function") { tellSnapshot("skipped", { reason: "no nested workers here" }); return; }
+  const state = await snapshots.readState(SITE);
+  if (state.key === key && state.refused >= 2) {
+    tellSnapshot("skipped", { reason: "refused twice on this device for this build" });
+    return;
+  }
+  tellSnapshot("waiting");
+  while (performance.now() - lastRequestAt < IDLE_BEFORE_MAKING_MS) {
+    await new Promise((resolve) => setTimeout(resolve, IDLE_BEFORE_MAKING_MS - (performance.now() - lastRequestAt) + 10));
+  }
+  const run = async () => {
+    const again = await snapshots.lookUp(SITE, key);  // another tab may have made it meanwhile
+    if (again.found) { tellSnapshot("saved", { reason: "made by another page", stored_bytes: again.storedBytes }); return; }
+    tellSnapshot("making");
+    const url = new URL(import.meta.url);
+    url.searchParams.set("role", "snapshot");
+    url.searchParams.delete("sw");  // whether a service worker controls it or not, it reads this build's cache
+    const maker = new Worker(url, { type: "module", name: "tamis-snapshot" });
+    const outcome = await new Promise((resolve) => {
+      maker.addEventListener("message", (event) => {
+        const m = event.data || {};
+        if (m.type === "snapshot") resolve(m);
+      });
+      maker.addEventListener("error", (event) => {
+        event.preventDefault();
+        resolve({ type: "snapshot", state: "failed", reason: "worker", detail: event.message || "the snapshot worker failed" });
+      });
+    });
+    maker.terminate();
+    post(outcome);
+  };
+  try {
+    const locks = self.navigator && navigator.locks;
+    if (locks) {
+      await locks.request("tamis-snapshot-make", { ifAvailable: true }, (lock) =>
+        lock ? run() : tellSnapshot("skipped", { reason: "another page is making it" }));
+    } else {
+      await run();
+    }
+  } catch (err) {
+    tellSnapshot("failed", { reason: "worker", detail: String(err && err.message ? err.message : err) });
+  }
+}
+
+// role=snapshot: boots with _makeSnapshot, installs the wheel, imports every module, runs the same
+// self-test (strings only), then stores makeMemorySnapshot() under `key`.
+async function makeSnapshot(manifest, key, startPython) {
+  const t = performance.now();
+  let reason = "boot";
+  try {
+    const py = await startPython({ _makeSnapshot: true });
+    const { bytes: wheel } = await fetchWheel(manifest);
+    py.unpackArchive(wheel, "wheel");
+    reason = "import";
+    py.runPython(BEFORE_SNAPSHOT);
+    reason = "selftest";
+    const candidate = py.pyimport("tamis.api").handle;
+    try {
+      selfTestVersion(candidate, manifest);
+      await selfTestGolden(candidate, manifest);
+    } finally {
+      candidate.destroy();
+    }
+    py.runPython("import gc; gc.collect()");
+    reason = "snapshot";
+    const snapshot = py.makeMemorySnapshot();
+    if (snapshots.headerBuildId(snapshot) !== manifest.pyodide_build_id) {
+      throw new Error("the snapshot's header names another runtime build than the manifest");
+    }
+    reason = "storage";
+    const stored = await snapshots.store(SITE, key, snapshot).catch((err) => {
+      if (err && err.name === "QuotaExceededError") reason = "quota";
+      throw err;
+    });
+    tellSnapshot("saved", { stored_bytes: stored, raw_bytes: snapshot.byteLength, ms: Math.round(performance.now() - t) });
+  } catch (err) {
+    tellSnapshot("failed", { reason, detail: String(err && err.message ? err.message : err).trim().split("\n").pop().slice(0, 300),
+      ms: Math.round(performance.now() - t) });
+  }
 }
 
 boot().catch((err) => {
   broken = String(err && err.message ? err.message : err);
+  if (ROLE === "snapshot") { tellSnapshot("failed", { reason: "boot", detail: broken }); return; }
   post({ type: "status", stage: "failed", detail: broken, progress: 0, ready: false, error: broken });
   post({ type: "fatal", error: broken });
   while (queue.length) answer(queue.shift().n, null);
