@@ -249,11 +249,31 @@ del _info, _skipped
 gc.collect()
 `;
 
-// After a restore: randomness (and hash seeds of new objects aside, which a snapshot freezes) is reseeded,
-// so two devices restored from snapshots do not share a random sequence.
+// After a restore: randomness is reseeded (a snapshot freezes the random module's state, so every boot
+// would repeat one sequence), and the emulated file system, which is new, gets the wheel's files back,
+// except the bytecode and sources of the modules the snapshot already holds imported: package data (the
+// demo records) and any module not imported before the snapshot are found on disk as after a plain boot.
 const AFTER_RESTORE = `
-import random
+import io, random, sys, zipfile
 random.seed()
+def _tamis_restore_files(wheel, target):
+    kept = 0
+    with zipfile.ZipFile(io.BytesIO(wheel.to_bytes())) as archive:
+        for info in archive.infolist():
+            name = info.filename
+            if name.endswith((".py", ".pyc")) and name.startswith("tamis/"):
+                parts = name.split("/")
+                if parts[-2] == "__pycache__":
+                    parts = parts[:-2] + [parts[-1].split(".")[0]]
+                else:
+                    parts[-1] = parts[-1].rsplit(".", 1)[0]
+                if parts[-1] == "__init__":
+                    parts = parts[:-1]
+                if ".".join(parts) in sys.modules:
+                    continue
+            archive.extract(info, target)
+            kept += 1
+    return kept
 `;
 
 async function boot() {
@@ -363,6 +383,8 @@ async function boot() {
     fallbackDetail = `snapshot of runtime ${found.buildId}, this runtime is ${manifest.pyodide_build_id}`;
   } else if (found.found) {
     status("core", "restoring the saved Python state", 0.5);
+    const wheelAhead = fetchWheel(manifest);  // read (and checked) while the runtime starts
+    wheelAhead.catch(() => {});
     try {
       const bytes = found.body().then((snapshot) => {
         mark("snapshot_read_ms");
@@ -375,11 +397,17 @@ async function boot() {
       py = await startPython({ _loadSnapshot: bytes });
       py._api.config._loadSnapshot = null;  // else the whole snapshot stays referenced
       mark("python_started_ms");
-      py.runPython(AFTER_RESTORE);
-      // The emulated file system is new: the wheel's files (package data such as the demo records) are
-      // unpacked again; its modules are already imported, from the snapshot.
-      const { bytes: wheel } = await fetchWheel(manifest);
-      py.unpackArchive(wheel, "wheel");
+      const namespace = py.globals.get("dict")();
+      try {
+        py.runPython(AFTER_RESTORE, { globals: namespace });
+        const { bytes: wheel } = await wheelAhead;
+        mark("wheel_read_ms");
+        const target = py.runPython("import os, tamis; os.path.dirname(os.path.dirname(tamis.__file__))");
+        const restoreFiles = namespace.get("_tamis_restore_files");
+        try { restoreFiles(wheel, target); } finally { restoreFiles.destroy(); }
+      } finally {
+        namespace.destroy();
+      }
       candidate = py.pyimport("tamis.api").handle;
       mark("core_installed_ms");
       status("selftest", "checking the core", 0.9);
