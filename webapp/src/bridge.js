@@ -5,6 +5,7 @@
 //   callBatch(texts)         -> Promise<response strings>  (many requests in one message, answered in order)
 //   onStatus(cb)             -> unsubscribe function; cb({stage, detail, progress, ready, error, ...})
 //   whenReady()              -> Promise<ready status>; rejects if the worker cannot boot
+//   startWorker()            -> starts the worker now (src/boot.js, before the screens' modules load)
 //   onSnapshot(cb)           -> unsubscribe function; cb({state, reason, ...}) as the worker makes its memory
 //                               snapshot in the background (docs/webapp.md "Boot paths"); shown to nobody
 //
@@ -100,6 +101,11 @@ function start() {
       "the app's files may be missing (rebuild with make build)");
   });
   worker.addEventListener("messageerror", () => fail("the Python worker sent a message that could not be read"));
+}
+
+/** Start the Python worker now (every other export starts it on first use too). */
+export function startWorker() {
+  start();
 }
 
 /** Send one request string; resolves with the response string (or {superseded: true}). */

@@ -98,30 +98,37 @@ async function openCache() {
 }
 
 /**
- * Looks up the stored snapshot for `key`. Answers {found: false, reason} (missing, stale, unreadable;
- * a stale entry is deleted) or {found: true, buildId, rawBytes, storedBytes, body: () => Promise<Uint8Array>}.
+ * Starts reading the stored entry at once (before the build manifest, and so the key, is known); resolves
+ * with {hit, body} (body: a promise of the stored bytes, already being read) or {error}.
  */
-export async function lookUp(site, key) {
-  let cache;
-  let hit;
-  try {
-    cache = await openCache();
-    hit = await cache.match(entryUrl(site));
-  } catch (err) {
-    return { found: false, reason: "unreadable", detail: String(err && err.message ? err.message : err) };
-  }
+export function readAhead(site) {
+  return openCache().then((cache) => cache.match(entryUrl(site))).then((hit) => {
+    if (!hit) return { hit: null };
+    const body = hit.arrayBuffer();
+    body.catch(() => {});
+    return { hit, body };
+  }, (err) => ({ error: err }));
+}
+
+/**
+ * Looks up the stored snapshot for `key` (from readAhead's answer). Answers {found: false, reason} (missing,
+ * stale, unreadable; a stale entry is deleted) or {found: true, buildId, rawBytes, storedBytes,
+ * body: () => Promise<Uint8Array>}.
+ */
+export async function lookUp(site, key, ahead = readAhead(site)) {
+  const { hit, body, error } = await ahead;
+  if (error) return { found: false, reason: "unreadable", detail: String(error && error.message ? error.message : error) };
   if (!hit) return { found: false, reason: "missing" };
   if (hit.headers.get(KEY_HEADER) !== key) {
-    await cache.delete(entryUrl(site)).catch(() => {});
+    await discard(site);
     return { found: false, reason: "stale", detail: `stored for ${hit.headers.get(KEY_HEADER)}` };
   }
-  const storedBytes = Number(hit.headers.get("content-length")) || null;
   return {
     found: true,
     buildId: hit.headers.get(BUILD_ID_HEADER),
     rawBytes: Number(hit.headers.get(RAW_HEADER)) || null,
-    storedBytes,
-    body: async () => decodeSparse(new Uint8Array(await hit.arrayBuffer())),
+    storedBytes: Number(hit.headers.get("content-length")) || null,
+    body: async () => decodeSparse(new Uint8Array(await body)),
   };
 }
 

@@ -107,9 +107,16 @@ function selfTestVersion(candidate, manifest) {
   return answer.result.core_version;
 }
 
+let goldenCase = null;  // the self-test case, read once (started as soon as the manifest is known)
+
+function readGoldenCase(manifest) {
+  if (!goldenCase) goldenCase = fetchChecked(new URL(manifest.selftest, SITE), "the self-test case").then((r) => r.json());
+  return goldenCase;
+}
+
 async function selfTestGolden(candidate, manifest) {
   if (!manifest.selftest) return null;
-  const golden = await (await fetchChecked(new URL(manifest.selftest, SITE), "the self-test case")).json();
+  const golden = await readGoldenCase(manifest);
   const got = candidate(golden.request);
   if (got !== golden.response) {
     let i = 0;
@@ -236,8 +243,11 @@ function fetchOnce(path, nativeFetch) {
 // here is imported (the office-only ones, e.g. those needing multiprocessing, do not, and are not needed:
 // they fail the same way in a plain boot), so a restored boot imports nothing; then the garbage is collected.
 // Only strings pass between JavaScript and Python here, so the snapshot holds no JavaScript object.
+// The emulated file system is not in a snapshot either: the wheel's files that a restored boot may still
+// read (package data such as the demo records, the metadata, the code of modules not imported) are kept
+// in the snapshot as bytes (module _tamis_boot), to be written back after a restore (AFTER_RESTORE).
 const BEFORE_SNAPSHOT = `
-import gc, importlib, pkgutil, tamis
+import gc, importlib, os, pkgutil, sys, types, tamis
 _skipped = []
 for _info in sorted(pkgutil.walk_packages(tamis.__path__, "tamis.", onerror=_skipped.append), key=lambda m: m.name):
     if _info.name != "tamis.__main__":
@@ -245,35 +255,53 @@ for _info in sorted(pkgutil.walk_packages(tamis.__path__, "tamis.", onerror=_ski
             importlib.import_module(_info.name)
         except Exception:
             _skipped.append(_info.name)
-del _info, _skipped
+
+def _module_of(rel):
+    parts = rel.split("/")
+    if not parts[-1].endswith((".py", ".pyc")):
+        return None
+    if parts[-2:-1] == ["__pycache__"]:
+        parts = parts[:-2] + [parts[-1].split(".")[0]]
+    else:
+        parts[-1] = parts[-1].rsplit(".", 1)[0]
+    if parts[-1] == "__init__":
+        parts = parts[:-1]
+    return ".".join(parts)
+
+_site = os.path.dirname(os.path.dirname(tamis.__file__))
+_files = {}
+for _top in sorted(os.listdir(_site)):
+    if _top != "tamis" and not (_top.startswith("tamis-") and _top.endswith(".dist-info")):
+        continue
+    for _dir, _subdirs, _names in os.walk(os.path.join(_site, _top)):
+        for _name in _names:
+            _rel = os.path.relpath(os.path.join(_dir, _name), _site).replace(os.sep, "/")
+            if _rel.startswith("tamis/") and _module_of(_rel) in sys.modules:
+                continue
+            with open(os.path.join(_dir, _name), "rb") as _fh:
+                _files[_rel] = _fh.read()
+_boot = types.ModuleType("_tamis_boot")
+_boot.site = _site
+_boot.files = _files
+sys.modules["_tamis_boot"] = _boot
+del _info, _skipped, _module_of, _site, _files, _top, _dir, _subdirs, _names, _name, _rel, _fh, _boot
 gc.collect()
 `;
 
 // After a restore: randomness is reseeded (a snapshot freezes the random module's state, so every boot
-// would repeat one sequence), and the emulated file system, which is new, gets the wheel's files back,
-// except the bytecode and sources of the modules the snapshot already holds imported: package data (the
-// demo records) and any module not imported before the snapshot are found on disk as after a plain boot.
+// would repeat one sequence), and the emulated file system, which is new, gets back the wheel's files kept
+// in the snapshot (BEFORE_SNAPSHOT), so package data and any module not imported before the snapshot are
+// found on disk as after a plain boot.
 const AFTER_RESTORE = `
-import io, random, sys, zipfile
+import os, random, sys
 random.seed()
-def _tamis_restore_files(wheel, target):
-    kept = 0
-    with zipfile.ZipFile(io.BytesIO(wheel.to_bytes())) as archive:
-        for info in archive.infolist():
-            name = info.filename
-            if name.endswith((".py", ".pyc")) and name.startswith("tamis/"):
-                parts = name.split("/")
-                if parts[-2] == "__pycache__":
-                    parts = parts[:-2] + [parts[-1].split(".")[0]]
-                else:
-                    parts[-1] = parts[-1].rsplit(".", 1)[0]
-                if parts[-1] == "__init__":
-                    parts = parts[:-1]
-                if ".".join(parts) in sys.modules:
-                    continue
-            archive.extract(info, target)
-            kept += 1
-    return kept
+_boot = sys.modules.pop("_tamis_boot")
+for _rel, _data in _boot.files.items():
+    _path = os.path.join(_boot.site, *_rel.split("/"))
+    os.makedirs(os.path.dirname(_path), exist_ok=True)
+    with open(_path, "wb") as _fh:
+        _fh.write(_data)
+del _boot, _rel, _data, _path, _fh
 `;
 
 async function boot() {
@@ -310,6 +338,9 @@ async function boot() {
     },
   });
   status("runtime", "loading the Python runtime", 0.02);
+  // The stored snapshot (if any) is read from Cache Storage from now on, while the manifest and the
+  // runtime's scripts load; whether it can be used is decided once the manifest is read.
+  const snapshotAhead = ROLE === "main" && !SNAPSHOT_OFF ? snapshots.readAhead(SITE) : null;
   const [manifest, pyodideModule] = await Promise.race([aborted, Promise.all([
     loadManifest(),
     import(new URL("pyodide.mjs", PYODIDE_DIR).href).catch((err) => {
@@ -318,12 +349,13 @@ async function boot() {
     }),
   ])]);
   mark("manifest_ms");
+  if (manifest.selftest) readGoldenCase(manifest).catch(() => {});  // a failure is reported by the self-test
   filesByPath = new Map(manifest.files.map((f) => [f.path, f]));
   cacheName = `tamis-${manifest.version}`;
   const key = snapshots.snapshotKey(manifest);
   // The stored snapshot's headers are looked up now; its body is read while the runtime loads.
-  const lookedUp = ROLE === "main" && !SNAPSHOT_OFF && manifest.pyodide_build_id
-    ? snapshots.lookUp(SITE, key) : Promise.resolve({ found: false, reason: SNAPSHOT_OFF ? "disabled" : "unsupported" });
+  const lookedUp = snapshotAhead && manifest.pyodide_build_id
+    ? snapshots.lookUp(SITE, key, snapshotAhead) : Promise.resolve({ found: false, reason: SNAPSHOT_OFF ? "disabled" : "unsupported" });
   const boots = CONTROLLED ? [] : BOOT_FILES.filter((p) => filesByPath.has(p));
   for (const p of CONTROLLED ? [] : [...boots, manifest.wheel]) if (filesByPath.has(p)) routed.add(p);
   const bootBytes = boots.reduce((sum, p) => sum + filesByPath.get(p).size, 0) || 1;
@@ -383,8 +415,6 @@ async function boot() {
     fallbackDetail = `snapshot of runtime ${found.buildId}, this runtime is ${manifest.pyodide_build_id}`;
   } else if (found.found) {
     status("core", "restoring the saved Python state", 0.5);
-    const wheelAhead = fetchWheel(manifest);  // read (and checked) while the runtime starts
-    wheelAhead.catch(() => {});
     try {
       const bytes = found.body().then((snapshot) => {
         mark("snapshot_read_ms");
@@ -400,11 +430,6 @@ async function boot() {
       const namespace = py.globals.get("dict")();
       try {
         py.runPython(AFTER_RESTORE, { globals: namespace });
-        const { bytes: wheel } = await wheelAhead;
-        mark("wheel_read_ms");
-        const target = py.runPython("import os, tamis; os.path.dirname(os.path.dirname(tamis.__file__))");
-        const restoreFiles = namespace.get("_tamis_restore_files");
-        try { restoreFiles(wheel, target); } finally { restoreFiles.destroy(); }
       } finally {
         namespace.destroy();
       }
@@ -448,7 +473,8 @@ async function boot() {
     detail: `Pyodide ${py.version} ready${bootPath === "snapshot" ? " (from its saved state)" : ""}, ` +
       `tamis core ${coreVersion}` + (goldenName ? `, self-test ${goldenName} passed` : ""),
     timings, install: bootPath === "snapshot" ? "snapshot" : INSTALL_MODE, core_version: coreVersion,
-    build_version: manifest.version, boot: bootPath, snapshot_fallback: fallback, snapshot_fallback_detail: fallbackDetail,
+    build_version: manifest.version, worker_time_origin: performance.timeOrigin, worker_script_ms: Math.round(t0),
+    boot: bootPath, snapshot_fallback: fallback, snapshot_fallback_detail: fallbackDetail,
   });
   while (queue.length) {
     const msg = queue.shift();
