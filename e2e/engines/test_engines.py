@@ -152,7 +152,8 @@ def test_first_visit_typed_test_saved_and_offline_reload(engine, site):
     BOOT[(engine.name, "first visit")] = boot_marks(engine)
     cached = cache_report(engine, site.version)
     assert cached["missing"] == [] and cached["count"] == len(site.manifest["files"])
-    assert cached["names"] == [f"tamis-{site.version}"]
+    # the build caches: only this one (the Python snapshot has a cache of its own, "tamis.snapshot")
+    assert [n for n in cached["names"] if n.startswith("tamis-")] == [f"tamis-{site.version}"]
 
     # A test typed from its masses: the verdict and every check are CPython's.
     expected = cpython_evaluate(sample_test())
@@ -218,7 +219,7 @@ def test_update_waits_for_the_user_and_keeps_what_was_typed(engine, site):
     wait_app(engine)
     wait_ready_offline(engine)
     assert engine.run("return (await (await fetch('vendor/manifest.json')).json()).version;") == new
-    assert engine.run("return caches.keys();") == [f"tamis-{new}"]
+    assert [n for n in engine.run("return caches.keys();") if n.startswith("tamis-")] == [f"tamis-{new}"]
     # What was typed is still there (kept as a draft, shown with a point as decimal mark).
     assert typed_masses(engine) == [m.replace(",", ".") for _, m in SAMPLE_TYPED]
     assert_verdict(engine, cpython_evaluate(sample_test()))
