@@ -172,6 +172,12 @@ def test_first_visit_typed_test_saved_and_offline_reload(engine, site):
     engine.wait_for("#view [data-check]")
     assert_verdict(engine, expected)
 
+    # The Python memory snapshot (docs/webapp.md "Boot paths") is made in the background after the plain boot
+    # of the first visit; where the engine cannot make or keep one, the reload below boots plainly.
+    made = engine.wait("""const b = await import('/src/bridge.js'); let s = null; b.onSnapshot((x) => { s = x; });
+        return s && ['saved', 'failed', 'skipped'].includes(s.state) ? s : null;""", timeout=120,
+                       what="the snapshot saved or given up")
+
     # Offline, nothing answers but the service worker: reload.
     offline_switch = engine.go_offline()
     site.stop()
@@ -183,6 +189,17 @@ def test_first_visit_typed_test_saved_and_offline_reload(engine, site):
         assert engine.run("return navigator.onLine;") is False
     wait_ready_offline(engine)
     BOOT[(engine.name, "offline reload")] = boot_marks(engine)
+    ready = engine.run("return (await import('/src/bridge.js')).currentStatus();")
+    assert ready["ready"] and ready["boot"] in ("snapshot", "plain"), ready
+    # only a saved snapshot is used; one this engine cannot restore ends in a plain boot (e2e/test_boot_snapshot.py
+    # checks in chromium that a saved one is used)
+    if ready["boot"] == "snapshot":
+        assert made["state"] == "saved", (made, ready)
+    else:
+        assert ready["snapshot_fallback"] == ("refused" if made["state"] == "saved" else "missing"), (made, ready)
+    BOOT[(engine.name, "offline reload")].update(boot=ready["boot"], snapshot=made.get("state"),
+                                                  snapshot_reason=made.get("reason"),
+                                                  snapshot_fallback=ready.get("snapshot_fallback"))
     engine.wait_for("#view [data-check]")
     assert_verdict(engine, expected)
     stored = engine.run("return (await import('/src/storage/records.js')).getRecord(arguments[0]);", record_id)
