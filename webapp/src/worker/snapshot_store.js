@@ -19,6 +19,7 @@ export const SNAPSHOT_FORMAT = 1;
 export const SNAPSHOT_CACHE = "tamis.snapshot";
 const PAGE = 4096;
 const MAGIC = 0x31505354; // "TSP1" little-endian
+const PYODIDE_MAGIC = 0x706e7300; // the first word of Pyodide's own snapshot
 const KEY_HEADER = "x-tamis-snapshot-key";
 const BUILD_ID_HEADER = "x-tamis-snapshot-build-id";
 const RAW_HEADER = "x-tamis-snapshot-raw-bytes";
@@ -73,9 +74,10 @@ export function encodeSparse(snapshot) {
   return out;
 }
 
-/** The stored bytes -> Pyodide's snapshot. Throws on a malformed entry. */
+/** The stored bytes -> Pyodide's snapshot (a snapshot stored whole is answered as it is). Throws on a malformed entry. */
 export function decodeSparse(stored) {
   const view = new DataView(stored.buffer, stored.byteOffset, stored.byteLength);
+  if (stored.byteLength >= 48 && view.getUint32(0, true) === PYODIDE_MAGIC) return stored;
   if (stored.byteLength < 16 || view.getUint32(0, true) !== MAGIC) throw new Error("not a stored tamis snapshot");
   const raw = view.getUint32(4, true);
   const page = view.getUint32(8, true);
