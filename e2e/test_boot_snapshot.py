@@ -206,3 +206,24 @@ def test_storage_refusing_the_snapshot_leaves_a_working_app(page, site, context)
     assert ready["boot"] == "plain" and ready["snapshot_fallback"] == "missing", ready
     _assert_golden(page)
     assert page.console_errors == []
+
+
+def test_a_restore_that_does_not_finish_in_time_is_replaced_by_a_plain_boot(page, site, context):
+    # A damaged snapshot could loop instead of failing: the bridge replaces a worker whose restore has not
+    # reached ready within its limit by one that refuses the snapshot. The limit (15 s) is set to 1 ms here,
+    # so the worker is stopped in the middle of a good restore, as a hung one would be.
+    _, made = _first_visit(page, site)
+    assert made["state"] == "saved"
+    context.set_offline(True)
+    page.goto(site.page_url(query="snapshot_restore_limit_ms=1"))
+    ready = _ready(page)
+    assert ready["boot"] == "plain" and ready["snapshot_fallback"] == "refused", ready
+    assert "in time" in ready["snapshot_fallback_detail"]
+    statuses = page.evaluate("() => window.tamisTest.statuses")
+    stages = [s["stage"] for s in statuses]
+    restoring = next(i for i, s in enumerate(statuses) if s.get("restoring"))
+    assert "starting" in stages[restoring:], stages   # the first worker began its restore, then a new one started
+    _assert_golden(page)
+    remade = _snapshot_outcome(page)
+    assert remade["state"] == "saved", remade
+    assert page.console_errors == []

@@ -29,6 +29,13 @@ let inFlight = null;       // the job the worker is computing
 const latestByKey = new Map();
 const snapshotListeners = new Set();
 let snapshotState = null;
+// A snapshot boot that has not reached ready this long after its restore began is taken for hung (a damaged
+// snapshot that loops instead of failing): the worker is replaced by one that refuses the snapshot and boots
+// plainly (docs/webapp.md "Boot paths"). Requests wait in the bridge until ready, so none is lost.
+// ?snapshot_restore_limit_ms=N on the page URL sets another limit (the e2e test of this path).
+const RESTORE_LIMIT_MS = Number(new URLSearchParams(self.location.search).get("snapshot_restore_limit_ms")) || 15000;
+let restoreTimer = null;
+let restoredOnce = false;
 
 function setStatus(next) {
   status = { ...next };
@@ -53,9 +60,24 @@ function pump() {
 }
 
 function onMessage(event) {
+  if (event.target !== worker) return;  // a worker replaced after a hung restore
   const msg = event.data || {};
   if (msg.type === "status") {
     if (status.error) return;  // a failed boot stays failed
+    if (msg.restoring && !restoreTimer && !restoredOnce) {
+      restoreTimer = setTimeout(() => {
+        restoreTimer = null;
+        restoredOnce = true;
+        console.info(`tamis: the saved Python state did not reach ready in ${RESTORE_LIMIT_MS} ms; restarting plainly`);
+        worker.terminate();
+        worker = null;
+        start("discard");
+      }, RESTORE_LIMIT_MS);
+    }
+    if ((msg.ready || msg.error) && restoreTimer) {
+      clearTimeout(restoreTimer);
+      restoreTimer = null;
+    }
     if (msg.error) fail(msg.error);
     else setStatus(msg);
     pump();
@@ -78,12 +100,13 @@ function onMessage(event) {
   }
 }
 
-function start() {
+function start(snapshotMode = null) {
   if (worker) return;
   const pageInstall = new URLSearchParams(self.location.search).get("install");
   const url = new URL(WORKER_URL);
   if (pageInstall === "micropip" || pageInstall === "unpack") url.searchParams.set("install", pageInstall);
   if (new URLSearchParams(self.location.search).get("snapshot") === "off") url.searchParams.set("snapshot", "off");
+  else if (snapshotMode) url.searchParams.set("snapshot", snapshotMode);
   // A page a service worker controls: the worker's fetches go through it (its cache, and the browser's
   // compiled-code cache of the wasm runtime served from there), so the worker routes nothing itself.
   if (self.navigator && navigator.serviceWorker && navigator.serviceWorker.controller) url.searchParams.set("sw", "1");
@@ -97,6 +120,7 @@ function start() {
   worker.addEventListener("message", onMessage);
   worker.addEventListener("error", (event) => {
     event.preventDefault();
+    if (event.target !== worker) return;
     fail(`the Python worker script failed to load${event.message ? `: ${event.message}` : ""}; ` +
       "the app's files may be missing (rebuild with make build)");
   });

@@ -29,6 +29,9 @@ const CONTROLLED = new URL(import.meta.url).searchParams.get("sw") === "1";
 const ROLE = new URL(import.meta.url).searchParams.get("role") === "snapshot" ? "snapshot" : "main";
 // snapshot=off on the page URL (passed on by the bridge): always boot plainly (for comparisons).
 const SNAPSHOT_OFF = new URL(import.meta.url).searchParams.get("snapshot") === "off";
+// snapshot=discard (set by the bridge when a snapshot boot did not reach ready in time and it restarted this
+// worker): the stored snapshot is refused without trying it, and the boot is plain.
+const SNAPSHOT_DISCARD = new URL(import.meta.url).searchParams.get("snapshot") === "discard";
 
 const t0 = performance.now();
 const timings = {};
@@ -408,13 +411,23 @@ async function boot() {
   let coreVersion = null;
   let goldenName = null;
   let bootPath = "plain";
-  if (found.found && found.buildId !== manifest.pyodide_build_id) {
+  const refuse = async (detail) => {
+    fallback = "refused";
+    fallbackDetail = detail;
+    console.info(`tamis: the saved Python state was refused (${detail}); starting plainly`);
+    await snapshots.discard(SITE);
+    const state = await snapshots.readState(SITE);
+    await snapshots.writeState(SITE, { key, refused: (state.key === key ? state.refused || 0 : 0) + 1 });
+  };
+  if (found.found && SNAPSHOT_DISCARD) {
+    await refuse("the restore did not reach ready in time; the page restarted the worker");
+  } else if (found.found && found.buildId !== manifest.pyodide_build_id) {
     // made by another runtime build: Pyodide would only find out after instantiating the wasm
     await snapshots.discard(SITE);
     fallback = "stale";
     fallbackDetail = `snapshot of runtime ${found.buildId}, this runtime is ${manifest.pyodide_build_id}`;
   } else if (found.found) {
-    status("core", "restoring the saved Python state", 0.5);
+    status("core", "restoring the saved Python state", 0.5, { restoring: true });
     try {
       const bytes = found.body().then((snapshot) => {
         mark("snapshot_read_ms");
@@ -441,14 +454,9 @@ async function boot() {
       bootPath = "snapshot";
     } catch (err) {
       if (broken) throw err;  // a runtime file is missing: a plain boot would fail the same way
-      fallback = "refused";
-      fallbackDetail = String(err && err.message ? err.message : err).slice(0, 300);
-      console.info(`tamis: the saved Python state was refused (${fallbackDetail}); starting plainly`);
       py = null;
       candidate = null;
-      await snapshots.discard(SITE);
-      const state = await snapshots.readState(SITE);
-      await snapshots.writeState(SITE, { key, refused: (state.key === key ? state.refused || 0 : 0) + 1 });
+      await refuse(String(err && err.message ? err.message : err).slice(0, 300));
       for (const k of Object.keys(timings)) if (k !== "manifest_ms" && !k.endsWith("_fetched_ms")) delete timings[k];
     }
   }
