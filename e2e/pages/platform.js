@@ -18,7 +18,8 @@ bridge.onStatus((s) => {
   document.getElementById("py-status").textContent = s.error ? `failed: ${s.error}` : `${s.stage}: ${s.detail}`;
 });
 
-bridge.onSnapshot((s) => snapshots.push({ ...s, at_ms: performance.now() }));
+// (a bridge from before the snapshot boot, e.g. a benchmark's baseline build, has no onSnapshot)
+if (bridge.onSnapshot) bridge.onSnapshot((s) => snapshots.push({ ...s, at_ms: performance.now() }));
 
 const offline = startOffline({
   onState(s) {
