@@ -74,6 +74,7 @@ def ready_status(page) -> dict:
 #: page (the bridge and the service worker only).
 PATHS = {"snapshot": "install=unpack", "plain": "install=unpack&snapshot=off",
          "micropip": "install=micropip&snapshot=off", "app": ""}
+SETTLE_MS = 1500
 SNAPSHOT_DONE = "() => window.tamisTest.snapshots.some(s => ['saved', 'failed', 'skipped'].includes(s.state))"
 
 
@@ -125,6 +126,10 @@ def boot_figures(browser, runs: int, paths: dict[str, tuple[str, ...]], webapps:
                 figures[key].setdefault("install_ms", []).append(
                     timings["core_installed_ms"] - timings["python_started_ms"])
                 figures[key]["warm_timings"] = timings
+                # Let this page finish what follows its boot (the worker's warm-up imports, the offline check of
+                # every cached file) before the next context reloads, so one boot is not measured against
+                # another page's background work (2 CPUs).
+                page.wait_for_timeout(SETTLE_MS)
         if any("snapshot" in p for p in paths.values()):
             figures["device_storage"] = {key: page.evaluate(
                 "() => navigator.storage.estimate().then(e => e.usage)") for key, page in pages.items()}
