@@ -4,9 +4,15 @@
     .venv/bin/python bench/bench_webapp.py [--runs 5] [--batch 3] [--baseline REV] [--no-throttled]
 
 1. Navigation -> Python worker ready, warm cache and offline (service worker),
-   median / min / max over ``--runs`` reloads, for both ways of installing the
-   tamis wheel (``pyodide.unpackArchive`` and ``micropip.install`` from a
-   same-origin URL); plus one cold first visit of each (online, empty cache).
+   median / min / max over ``--runs`` reloads, for each boot path: ``snapshot``
+   (the default: restored from the memory snapshot the first visit made on the
+   device), ``plain`` (``snapshot=off``: CPython started, the wheel unpacked by
+   ``pyodide.unpackArchive``) and ``micropip`` (plain, the wheel installed by
+   ``micropip.install`` from a same-origin URL); plus one cold first visit of
+   each (online, empty cache), how many reloads really used the snapshot, how
+   long after navigation the page created the worker, and the bytes the snapshot
+   takes on the device. A ``--baseline`` build (no snapshot boot) is measured on
+   its plain paths, and each path of this checkout is printed beside them.
 2. Bytes precached: total and gzip -9 compressed, from the build manifest.
 3. The same batch of requests (every ``ok`` golden request of the evaluate,
    zones, design_band and gradation ops, ``--batch`` times) in the worker
@@ -49,38 +55,87 @@ BATCH_OPS = ("evaluate", "zones", "design_band", "gradation")
 
 
 def ready_ms(page) -> float:
+    """Navigation -> ready (the bridge's ready status on the test page; on the app page, the moment its boot line
+    says the calculator is ready, performance mark "tamis-calculator-ready" in src/main.js)."""
+    if page.app:
+        page.wait_for_function("() => performance.getEntriesByName('tamis-calculator-ready').length",
+                               timeout=helpers.BOOT_TIMEOUT_MS)
+        return page.evaluate("() => performance.getEntriesByName('tamis-calculator-ready')[0].startTime")
     helpers.wait_worker_ready(page)
     return page.evaluate("() => window.tamisTest.statuses.find(s => s.ready).at_ms")
 
 
-def boot_figures(browser, runs: int, modes: tuple[str, ...], webapps: dict[str, Path]) -> dict:
-    """First visit of each build and install mode (one context each), then offline reloads alternating
-    between all of them, so a machine loaded by other work slows each alike."""
+def ready_status(page) -> dict:
+    if page.app:
+        return page.evaluate("async () => (await import('/src/bridge.js')).currentStatus()")
+    return page.evaluate("() => window.tamisTest.statuses.find(s => s.ready)")
+
+
+#: The boot paths measured: the page query of each. "snapshot" is the default boot (from the memory snapshot
+#: the first visit made on the device); "plain" and "micropip" never use one (``snapshot=off``); "app" is the
+#: default boot of the app itself (index.html, its screens loading beside the boot), the others the e2e test
+#: page (the bridge and the service worker only).
+PATHS = {"snapshot": "install=unpack", "plain": "install=unpack&snapshot=off",
+         "micropip": "install=micropip&snapshot=off", "app": ""}
+SETTLE_MS = 1500
+SNAPSHOT_DONE = "() => window.tamisTest.snapshots.some(s => ['saved', 'failed', 'skipped'].includes(s.state))"
+
+
+def boot_figures(browser, runs: int, paths: dict[str, tuple[str, ...]], webapps: dict[str, Path]) -> dict:
+    """First visit of each build and boot path (one context each; for the snapshot path, until the snapshot is
+    saved), then offline reloads alternating between all of them, so a machine loaded by other work slows each
+    alike. ``paths``: build name -> the paths measured on it (a build before the snapshot boot has none)."""
     sites = {name: helpers.Site(webapp=w) for name, w in webapps.items()}
     figures = {}
     try:
         pages = {}
         for name, site in sites.items():
-            for mode in modes:
+            for path in paths[name]:
                 context = browser.new_context()
                 page = context.new_page()
-                page.goto(site.page_url(query=f"install={mode}"))
+                page.app = path == "app"
+                page.goto(site.url if page.app else site.page_url(query=PATHS[path]))
                 cold = ready_ms(page)
-                figures[(name, mode)] = {"cold_ms": cold, "warm_ms": [], "cold_timings": page.evaluate(
-                    "() => window.tamisTest.statuses.find(s => s.ready).timings")}
-                helpers.wait_precached(page)
+                figures[(name, path)] = {"cold_ms": cold, "warm_ms": [], "boots": [], "after_nav_ms": [],
+                                         "cold_timings": ready_status(page)["timings"]}
+                if page.app:
+                    page.wait_for_function("() => document.getElementById('offline-status').dataset.state === 'ready'",
+                                           timeout=120_000)
+                    # the app shows nothing of the snapshot: wait for its entry to be complete in Cache Storage
+                    page.wait_for_function("""() => caches.open('tamis.snapshot').then((c) => c.match(
+                        '/__tamis_snapshot__/python.bin')).then((r) => r ? r.arrayBuffer().then((b) => b.byteLength ==
+                        Number(r.headers.get('content-length'))) : false)""", timeout=120_000, polling=500)
+                    page.wait_for_timeout(1000)
+                else:
+                    helpers.wait_precached(page)
                 helpers.wait_controlled(page)
+                if path == "snapshot":
+                    page.wait_for_function(SNAPSHOT_DONE, timeout=120_000)
+                    figures[(name, path)]["made"] = page.evaluate(
+                        "() => window.tamisTest.snapshots.filter(s => s.state !== 'waiting' && s.state !== 'making').pop()")
                 context.set_offline(True)
-                pages[(name, mode)] = page
+                pages[(name, path)] = page
         for _ in range(runs):
             for key, page in pages.items():
                 response = page.reload()
                 assert response.from_service_worker
                 figures[key]["warm_ms"].append(ready_ms(page))
-                timings = page.evaluate("() => window.tamisTest.statuses.find(s => s.ready).timings")
+                ready = ready_status(page)
+                timings = ready["timings"]
+                figures[key]["boots"].append(ready.get("boot", "plain"))
+                if ready.get("worker_time_origin"):
+                    figures[key]["after_nav_ms"].append(
+                        ready["worker_time_origin"] - page.evaluate("() => performance.timeOrigin"))
                 figures[key].setdefault("install_ms", []).append(
                     timings["core_installed_ms"] - timings["python_started_ms"])
                 figures[key]["warm_timings"] = timings
+                # Let this page finish what follows its boot (the worker's warm-up imports, the offline check of
+                # every cached file) before the next context reloads, so one boot is not measured against
+                # another page's background work (2 CPUs).
+                page.wait_for_timeout(SETTLE_MS)
+        if any("snapshot" in p for p in paths.values()):
+            figures["device_storage"] = {key: page.evaluate(
+                "() => navigator.storage.estimate().then(e => e.usage)") for key, page in pages.items()}
         for page in pages.values():
             page.context.close()
         return figures
@@ -252,6 +307,39 @@ def fmt(values: list[float]) -> str:
             f"n={len(values)})")
 
 
+def print_boot_figures(figures: dict, paths: dict) -> None:
+    storage = figures.pop("device_storage", {})
+    for (name, path), fig in figures.items():
+        beside = ""
+        base = figures.get(("baseline", BASELINE_PATH[path]))
+        if base and name == "now":
+            beside = f"; baseline {BASELINE_PATH[path]}: {fmt(base['warm_ms'])}"
+        boots = fig["boots"]
+        where = "the app page" if path == "app" else f"test page, {PATHS[path]}"
+        print(f"{name}, boot path {path} ({where}): offline reload, warm cache, navigation -> ready: "
+              f"{fmt(fig['warm_ms'])} (target <= 500 ms){beside}")
+        print(f"  boots that used the snapshot: {boots.count('snapshot')} of {len(boots)}; first visit (online, "
+              f"empty cache, always plain) ready at {fig['cold_ms']:.0f} ms; install or restore step alone: "
+              f"{fmt(fig['install_ms'])}")
+        if fig["after_nav_ms"]:
+            print(f"  the page created the worker {fmt(fig['after_nav_ms'])} after navigation")
+        if "made" in fig:
+            made = fig["made"] or {}
+            if made.get("state") == "saved":
+                print(f"  snapshot on the device: {made['stored_bytes']:,} bytes stored (sparse; "
+                      f"{made['raw_bytes']:,} bytes raw), made in the background in {made['ms']} ms; "
+                      f"origin's storage in use: {storage.get((name, path), 0):,} bytes "
+                      f"(plain path's context: {storage.get((name, 'plain'), 0):,})")
+            else:
+                print(f"  no snapshot on the device: {made}")
+        print(f"  worker stage timings, first visit: {fig['cold_timings']}")
+        print(f"  worker stage timings, last offline reload: {fig['warm_timings']}")
+
+
+#: The baseline's figure each boot path is printed beside (the baseline has no snapshot boot).
+BASELINE_PATH = {"snapshot": "plain", "plain": "plain", "micropip": "micropip", "app": None}
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     parser.add_argument("--runs", type=int, default=5, help="offline reloads per install mode (default 5)")
@@ -277,14 +365,9 @@ def main(argv: list[str] | None = None) -> int:
             print(f"browser: {browser.version}")
             print(f"load average before: {os.getloadavg()[0]:.1f} on {os.cpu_count()} CPUs")
             t0 = time.perf_counter()
-            figures = boot_figures(browser, args.runs, ("unpack", "micropip"), webapps)
-            if True:
-                for (name, mode), fig in figures.items():
-                    print(f"{name}, install={mode}: first visit (online, empty cache) ready at {fig['cold_ms']:.0f} ms; "
-                          f"offline reload, warm cache: {fmt(fig['warm_ms'])} (target <= 500 ms); "
-                          f"install step alone: {fmt(fig['install_ms'])}")
-                    print(f"  worker stage timings, first visit: {fig['cold_timings']}")
-                    print(f"  worker stage timings, last offline reload: {fig['warm_timings']}")
+            paths = {name: tuple(PATHS) if name == "now" else ("plain", "micropip") for name in webapps}
+            figures = boot_figures(browser, args.runs, paths, webapps)
+            print_boot_figures(figures, paths)
             print(f"  [{time.perf_counter() - t0:.0f} s; load average after: {os.getloadavg()[0]:.1f}]")
             batch_figures(browser, webapps, args.batch)
             if not args.no_throttled:

@@ -19,7 +19,9 @@ pytestmark = pytest.mark.e2e
 
 @pytest.mark.parametrize("mode", ["unpack", "micropip"])
 def test_offline_from_the_precache_alone_every_op_answers(page, site, context, mode):
-    page.goto(site.page_url(query=f"install={mode}"))
+    # snapshot=off: the plain boot in this install mode, whether or not the background snapshot was saved before
+    # the reload (the snapshot boot from the cache alone: e2e/test_boot_snapshot.py)
+    page.goto(site.page_url(query=f"install={mode}&snapshot=off"))
     helpers.wait_worker_ready(page)
     helpers.wait_precached(page)
     helpers.wait_controlled(page)

@@ -27,6 +27,7 @@ import argparse
 import hashlib
 import json
 import os
+import re
 import shutil
 import struct
 import subprocess
@@ -358,7 +359,19 @@ def site_files() -> list[Path]:
     return files
 
 
-def build_manifest(core_version: str, pyodide_version: str, wheel_rel: str, has_selftest: bool) -> dict:
+def pyodide_build_id(pyodide_dir: Path) -> str:
+    """The runtime's BUILD_ID (a hash of pyodide.asm.mjs and pyodide.asm.wasm, written into pyodide.mjs): a memory
+    snapshot made by one build of the runtime cannot be loaded by another, so the worker compares a stored
+    snapshot's header with this before it tries to load it (docs/webapp.md "Boot paths")."""
+    found = set(re.findall(r'BUILD_ID:"([0-9a-f]{64})"', (pyodide_dir / "pyodide.mjs").read_text(encoding="utf-8")))
+    if len(found) != 1:
+        raise BuildError(f"node_modules/pyodide/pyodide.mjs: expected one BUILD_ID, found {len(found)}; "
+                         "the snapshot boot needs it (a new Pyodide release may spell it differently)")
+    return found.pop()
+
+
+def build_manifest(core_version: str, pyodide_version: str, wheel_rel: str, has_selftest: bool,
+                   build_id: str) -> dict:
     entries = [{"path": p.relative_to(WEBAPP).as_posix(), "sha256": sha256_file(p), "size": p.stat().st_size}
                for p in site_files()]
     digest = hashlib.sha256("".join(f"{e['path']}\0{e['sha256']}\n" for e in entries).encode()).hexdigest()
@@ -367,6 +380,7 @@ def build_manifest(core_version: str, pyodide_version: str, wheel_rel: str, has_
         "version": f"{core_version}+{digest[:12]}",
         "core_version": core_version,
         "pyodide_version": pyodide_version,
+        "pyodide_build_id": build_id,
         "wheel": wheel_rel,
         "selftest": "vendor/selftest.json" if has_selftest else None,
         "total_bytes": sum(e["size"] for e in entries),
@@ -416,7 +430,8 @@ def build() -> dict:
     ensure_icons()
     layout.written.update({VENDOR / "manifest.json", VENDOR / "build.js"})
     removed = layout.remove_stale()
-    manifest = build_manifest(core_version, pyodide_version, wheel_rel, selftest is not None)
+    manifest = build_manifest(core_version, pyodide_version, wheel_rel, selftest is not None,
+                              pyodide_build_id(pyodide_dir))
     text = json.dumps(manifest, indent=1)
     layout.put_bytes("manifest.json", (text + "\n").encode())
     # The service worker imports build.js, so a new build changes a byte the

@@ -6,6 +6,7 @@ import { startOffline } from "/src/offline.js";
 const statuses = [];
 const offlineStates = [];
 const violations = [];
+const snapshots = [];
 let applyUpdate = null;
 
 document.addEventListener("securitypolicyviolation", (e) => {
@@ -16,6 +17,9 @@ bridge.onStatus((s) => {
   statuses.push({ ...s, at_ms: performance.now() });
   document.getElementById("py-status").textContent = s.error ? `failed: ${s.error}` : `${s.stage}: ${s.detail}`;
 });
+
+// (a bridge from before the snapshot boot, e.g. a benchmark's baseline build, has no onSnapshot)
+if (bridge.onSnapshot) bridge.onSnapshot((s) => snapshots.push({ ...s, at_ms: performance.now() }));
 
 const offline = startOffline({
   onState(s) {
@@ -37,5 +41,6 @@ window.tamisTest = {
   statuses,
   offlineStates,
   violations,
+  snapshots,
   get updateOffered() { return applyUpdate !== null; },
 };

@@ -5,6 +5,9 @@
 //   callBatch(texts)         -> Promise<response strings>  (many requests in one message, answered in order)
 //   onStatus(cb)             -> unsubscribe function; cb({stage, detail, progress, ready, error, ...})
 //   whenReady()              -> Promise<ready status>; rejects if the worker cannot boot
+//   startWorker()            -> starts the worker now (src/boot.js, before the screens' modules load)
+//   onSnapshot(cb)           -> unsubscribe function; cb({state, reason, ...}) as the worker makes its memory
+//                               snapshot in the background (docs/webapp.md "Boot paths"); shown to nobody
 //
 // A newer call with the same key supersedes an older one: the older promise
 // resolves with {superseded: true}, and if it has not reached the worker yet it
@@ -24,6 +27,15 @@ const listeners = new Set();
 const waiting = [];        // jobs not yet sent to the worker
 let inFlight = null;       // the job the worker is computing
 const latestByKey = new Map();
+const snapshotListeners = new Set();
+let snapshotState = null;
+// A snapshot boot that has not reached ready this long after its restore began is taken for hung (a damaged
+// snapshot that loops instead of failing): the worker is replaced by one that refuses the snapshot and boots
+// plainly (docs/webapp.md "Boot paths"). Requests wait in the bridge until ready, so none is lost.
+// ?snapshot_restore_limit_ms=N on the page URL sets another limit (the e2e test of this path).
+const RESTORE_LIMIT_MS = Number(new URLSearchParams(self.location.search).get("snapshot_restore_limit_ms")) || 15000;
+let restoreTimer = null;
+let restoredOnce = false;
 
 function setStatus(next) {
   status = { ...next };
@@ -48,9 +60,24 @@ function pump() {
 }
 
 function onMessage(event) {
+  if (event.target !== worker) return;  // a worker replaced after a hung restore
   const msg = event.data || {};
   if (msg.type === "status") {
     if (status.error) return;  // a failed boot stays failed
+    if (msg.restoring && !restoreTimer && !restoredOnce) {
+      restoreTimer = setTimeout(() => {
+        restoreTimer = null;
+        restoredOnce = true;
+        console.info(`tamis: the saved Python state did not reach ready in ${RESTORE_LIMIT_MS} ms; restarting plainly`);
+        worker.terminate();
+        worker = null;
+        start("discard");
+      }, RESTORE_LIMIT_MS);
+    }
+    if ((msg.ready || msg.error) && restoreTimer) {
+      clearTimeout(restoreTimer);
+      restoreTimer = null;
+    }
     if (msg.error) fail(msg.error);
     else setStatus(msg);
     pump();
@@ -65,14 +92,21 @@ function onMessage(event) {
     pump();
   } else if (msg.type === "fatal") {
     fail(msg.error);
+  } else if (msg.type === "snapshot") {
+    snapshotState = { ...msg };
+    for (const cb of snapshotListeners) {
+      try { cb({ ...snapshotState }); } catch (err) { console.error(err); }
+    }
   }
 }
 
-function start() {
+function start(snapshotMode = null) {
   if (worker) return;
   const pageInstall = new URLSearchParams(self.location.search).get("install");
   const url = new URL(WORKER_URL);
   if (pageInstall === "micropip" || pageInstall === "unpack") url.searchParams.set("install", pageInstall);
+  if (new URLSearchParams(self.location.search).get("snapshot") === "off") url.searchParams.set("snapshot", "off");
+  else if (snapshotMode) url.searchParams.set("snapshot", snapshotMode);
   // A page a service worker controls: the worker's fetches go through it (its cache, and the browser's
   // compiled-code cache of the wasm runtime served from there), so the worker routes nothing itself.
   if (self.navigator && navigator.serviceWorker && navigator.serviceWorker.controller) url.searchParams.set("sw", "1");
@@ -86,10 +120,16 @@ function start() {
   worker.addEventListener("message", onMessage);
   worker.addEventListener("error", (event) => {
     event.preventDefault();
+    if (event.target !== worker) return;
     fail(`the Python worker script failed to load${event.message ? `: ${event.message}` : ""}; ` +
       "the app's files may be missing (rebuild with make build)");
   });
   worker.addEventListener("messageerror", () => fail("the Python worker sent a message that could not be read"));
+}
+
+/** Start the Python worker now (every other export starts it on first use too). */
+export function startWorker() {
+  start();
 }
 
 /** Send one request string; resolves with the response string (or {superseded: true}). */
@@ -150,6 +190,16 @@ export function whenReady() {
     };
     const off = onStatus((s) => queueMicrotask(() => check(s)));
   });
+}
+
+/** Subscribe to the background memory snapshot's progress; cb is called at once if there is news. */
+export function onSnapshot(cb) {
+  snapshotListeners.add(cb);
+  start();
+  if (snapshotState) {
+    try { cb({ ...snapshotState }); } catch (err) { console.error(err); }
+  }
+  return () => snapshotListeners.delete(cb);
 }
 
 /** The current status (a copy). */

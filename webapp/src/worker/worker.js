@@ -13,6 +13,7 @@
 
 import { prepareFetchGuard } from "./guard.js";
 import { sha256Hex } from "./digest.js";
+import * as snapshots from "./snapshot_store.js";
 import "../fetch_once.js";  // self.tamisFetchOnce: one download per file, shared with the service worker's precache
 
 const HERE = new URL(".", import.meta.url);
@@ -23,12 +24,21 @@ const INSTALL_MODE = new URL(import.meta.url).searchParams.get("install") === "m
 // Set by the bridge when a service worker controls the page: its cache answers every fetch, so the shared
 // downloads below (for a first visit, or a page it does not control) are not needed.
 const CONTROLLED = new URL(import.meta.url).searchParams.get("sw") === "1";
+// role=snapshot: the short-lived second worker that makes the memory snapshot (started by the main worker
+// after its plain boot, see makeSnapshotLater); the main worker answers the page.
+const ROLE = new URL(import.meta.url).searchParams.get("role") === "snapshot" ? "snapshot" : "main";
+// snapshot=off on the page URL (passed on by the bridge): always boot plainly (for comparisons).
+const SNAPSHOT_OFF = new URL(import.meta.url).searchParams.get("snapshot") === "off";
+// snapshot=discard (set by the bridge when a snapshot boot did not reach ready in time and it restarted this
+// worker): the stored snapshot is refused without trying it, and the boot is plain.
+const SNAPSHOT_DISCARD = new URL(import.meta.url).searchParams.get("snapshot") === "discard";
 
 const t0 = performance.now();
 const timings = {};
 let handle = null;      // tamis.api.handle as a callable proxy; its results are JS strings
 let broken = null;      // set once the runtime has failed: every later request gets the fatal error
 const queue = [];       // requests received before the runtime was ready
+let lastRequestAt = performance.now();  // the snapshot is made once requests pause (makeSnapshotLater)
 
 function post(msg) {
   self.postMessage(msg);
@@ -100,9 +110,16 @@ function selfTestVersion(candidate, manifest) {
   return answer.result.core_version;
 }
 
+let goldenCase = null;  // the self-test case, read once (started as soon as the manifest is known)
+
+function readGoldenCase(manifest) {
+  if (!goldenCase) goldenCase = fetchChecked(new URL(manifest.selftest, SITE), "the self-test case").then((r) => r.json());
+  return goldenCase;
+}
+
 async function selfTestGolden(candidate, manifest) {
   if (!manifest.selftest) return null;
-  const golden = await (await fetchChecked(new URL(manifest.selftest, SITE), "the self-test case")).json();
+  const golden = await readGoldenCase(manifest);
   const got = candidate(golden.request);
   if (got !== golden.response) {
     let i = 0;
@@ -181,6 +198,7 @@ self.addEventListener("message", (event) => {
   const msg = event.data;
   if (!msg || (msg.type !== "request" && msg.type !== "batch")) return;
   const item = { n: msg.n, json: msg.type === "batch" ? msg.jsons : msg.json, batch: msg.type === "batch" };
+  lastRequestAt = performance.now();
   if (handle || broken) answer(item.n, item.json, item.batch);
   else queue.push(item);
 });
@@ -224,6 +242,71 @@ function fetchOnce(path, nativeFetch) {
   }).then((response) => { if (response.ok) noteBytes(path, file.size); return response; });
 }
 
+// The Python code run before a memory snapshot is taken (role=snapshot): every tamis module that imports
+// here is imported (the office-only ones, e.g. those needing multiprocessing, do not, and are not needed:
+// they fail the same way in a plain boot), so a restored boot imports nothing; then the garbage is collected.
+// Only strings pass between JavaScript and Python here, so the snapshot holds no JavaScript object.
+// The emulated file system is not in a snapshot either: the wheel's files that a restored boot may still
+// read (package data such as the demo records, the metadata, the code of modules not imported) are kept
+// in the snapshot as bytes (module _tamis_boot), to be written back after a restore (AFTER_RESTORE).
+const BEFORE_SNAPSHOT = `
+import gc, importlib, os, pkgutil, sys, types, tamis
+_skipped = []
+for _info in sorted(pkgutil.walk_packages(tamis.__path__, "tamis.", onerror=_skipped.append), key=lambda m: m.name):
+    if _info.name != "tamis.__main__":
+        try:
+            importlib.import_module(_info.name)
+        except Exception:
+            _skipped.append(_info.name)
+
+def _module_of(rel):
+    parts = rel.split("/")
+    if not parts[-1].endswith((".py", ".pyc")):
+        return None
+    if parts[-2:-1] == ["__pycache__"]:
+        parts = parts[:-2] + [parts[-1].split(".")[0]]
+    else:
+        parts[-1] = parts[-1].rsplit(".", 1)[0]
+    if parts[-1] == "__init__":
+        parts = parts[:-1]
+    return ".".join(parts)
+
+_site = os.path.dirname(os.path.dirname(tamis.__file__))
+_files = {}
+for _top in sorted(os.listdir(_site)):
+    if _top != "tamis" and not (_top.startswith("tamis-") and _top.endswith(".dist-info")):
+        continue
+    for _dir, _subdirs, _names in os.walk(os.path.join(_site, _top)):
+        for _name in _names:
+            _rel = os.path.relpath(os.path.join(_dir, _name), _site).replace(os.sep, "/")
+            if _rel.startswith("tamis/") and _module_of(_rel) in sys.modules:
+                continue
+            with open(os.path.join(_dir, _name), "rb") as _fh:
+                _files[_rel] = _fh.read()
+_boot = types.ModuleType("_tamis_boot")
+_boot.site = _site
+_boot.files = _files
+sys.modules["_tamis_boot"] = _boot
+del _info, _skipped, _module_of, _site, _files, _top, _dir, _subdirs, _names, _name, _rel, _fh, _boot
+gc.collect()
+`;
+
+// After a restore: randomness is reseeded (a snapshot freezes the random module's state, so every boot
+// would repeat one sequence), and the emulated file system, which is new, gets back the wheel's files kept
+// in the snapshot (BEFORE_SNAPSHOT), so package data and any module not imported before the snapshot are
+// found on disk as after a plain boot.
+const AFTER_RESTORE = `
+import os, random, sys
+random.seed()
+_boot = sys.modules.pop("_tamis_boot")
+for _rel, _data in _boot.files.items():
+    _path = os.path.join(_boot.site, *_rel.split("/"))
+    os.makedirs(os.path.dirname(_path), exist_ok=True)
+    with open(_path, "wb") as _fh:
+        _fh.write(_data)
+del _boot, _rel, _data, _path, _fh
+`;
+
 async function boot() {
   // loadPyodide fetches the wasm runtime and the stdlib zip in parallel; once
   // both have arrived, CPython starts and imports its modules from the zip.
@@ -258,6 +341,9 @@ async function boot() {
     },
   });
   status("runtime", "loading the Python runtime", 0.02);
+  // The stored snapshot (if any) is read from Cache Storage from now on, while the manifest and the
+  // runtime's scripts load; whether it can be used is decided once the manifest is read.
+  const snapshotAhead = ROLE === "main" && !SNAPSHOT_OFF ? snapshots.readAhead(SITE) : null;
   const [manifest, pyodideModule] = await Promise.race([aborted, Promise.all([
     loadManifest(),
     import(new URL("pyodide.mjs", PYODIDE_DIR).href).catch((err) => {
@@ -265,8 +351,14 @@ async function boot() {
         "rebuild the app (make build)");
     }),
   ])]);
+  mark("manifest_ms");
+  if (manifest.selftest) readGoldenCase(manifest).catch(() => {});  // a failure is reported by the self-test
   filesByPath = new Map(manifest.files.map((f) => [f.path, f]));
   cacheName = `tamis-${manifest.version}`;
+  const key = snapshots.snapshotKey(manifest);
+  // The stored snapshot's headers are looked up now; its body is read while the runtime loads.
+  const lookedUp = snapshotAhead && manifest.pyodide_build_id
+    ? snapshots.lookUp(SITE, key, snapshotAhead) : Promise.resolve({ found: false, reason: SNAPSHOT_OFF ? "disabled" : "unsupported" });
   const boots = CONTROLLED ? [] : BOOT_FILES.filter((p) => filesByPath.has(p));
   for (const p of CONTROLLED ? [] : [...boots, manifest.wheel]) if (filesByPath.has(p)) routed.add(p);
   const bootBytes = boots.reduce((sum, p) => sum + filesByPath.get(p).size, 0) || 1;
@@ -296,28 +388,101 @@ async function boot() {
     const response = await Promise.race([aborted, asmMjs]);
     if (!response.ok) throw new Error(`vendor/pyodide/pyodide.asm.mjs could not be loaded (HTTP ${response.status}); rebuild the app (make build)`);
   }
-  const py = await Promise.race([aborted, pyodideModule.loadPyodide({
+  const startPython = (extra = {}) => Promise.race([aborted, pyodideModule.loadPyodide({
     indexURL: PYODIDE_DIR.href,
     lockFileURL: new URL("pyodide-lock.json", PYODIDE_DIR).href,
     packageBaseUrl: PYODIDE_DIR.href,
-    stdout: () => {},
-    stderr: (line) => console.warn("python:", line),
+    ...(ROLE === "snapshot" ? {} : {  // the snapshot must hold no JavaScript function of this worker
+      stdout: () => {},
+      stderr: (line) => console.warn("python:", line),
+    }),
+    ...extra,
   })]);
-  mark("python_started_ms");
-  status("core", `installing the tamis core (${INSTALL_MODE})`, 0.7);
-  await Promise.race([aborted, installCore(py, manifest)]);
-  const candidate = py.pyimport("tamis.api").handle;
-  mark("core_installed_ms");
-  status("selftest", "checking the core", 0.9);
-  const coreVersion = selfTestVersion(candidate, manifest);
-  const goldenName = await selfTestGolden(candidate, manifest);
+
+  if (ROLE === "snapshot") return makeSnapshot(manifest, key, startPython);
+
+  // ---- the snapshot boot, when this device holds a usable snapshot of this build ----
+  const found = await lookedUp;
+  mark("snapshot_looked_up_ms");
+  let fallback = found.found ? null : found.reason;
+  let fallbackDetail = found.found ? null : found.detail || null;
+  let py = null;
+  let candidate = null;
+  let coreVersion = null;
+  let goldenName = null;
+  let bootPath = "plain";
+  const refuse = async (detail) => {
+    fallback = "refused";
+    fallbackDetail = detail;
+    console.info(`tamis: the saved Python state was refused (${detail}); starting plainly`);
+    await snapshots.discard(SITE);
+    const state = await snapshots.readState(SITE);
+    await snapshots.writeState(SITE, { key, refused: (state.key === key ? state.refused || 0 : 0) + 1 });
+  };
+  if (found.found && SNAPSHOT_DISCARD) {
+    await refuse("the restore did not reach ready in time; the page restarted the worker");
+  } else if (found.found && found.buildId !== manifest.pyodide_build_id) {
+    // made by another runtime build: Pyodide would only find out after instantiating the wasm
+    await snapshots.discard(SITE);
+    fallback = "stale";
+    fallbackDetail = `snapshot of runtime ${found.buildId}, this runtime is ${manifest.pyodide_build_id}`;
+  } else if (found.found) {
+    status("core", "restoring the saved Python state", 0.5, { restoring: true });
+    try {
+      const bytes = found.body().then((snapshot) => {
+        mark("snapshot_read_ms");
+        if (snapshots.headerBuildId(snapshot) !== manifest.pyodide_build_id) {
+          throw new Error("the snapshot's header names another runtime build");
+        }
+        return snapshot;
+      });
+      bytes.catch(() => {});
+      py = await startPython({ _loadSnapshot: bytes });
+      py._api.config._loadSnapshot = null;  // else the whole snapshot stays referenced
+      mark("python_started_ms");
+      const namespace = py.globals.get("dict")();
+      try {
+        py.runPython(AFTER_RESTORE, { globals: namespace });
+      } finally {
+        namespace.destroy();
+      }
+      candidate = py.pyimport("tamis.api").handle;
+      mark("core_installed_ms");
+      status("selftest", "checking the core", 0.9);
+      coreVersion = selfTestVersion(candidate, manifest);
+      goldenName = await selfTestGolden(candidate, manifest);
+      bootPath = "snapshot";
+    } catch (err) {
+      if (broken) throw err;  // a runtime file is missing: a plain boot would fail the same way
+      py = null;
+      candidate = null;
+      await refuse(String(err && err.message ? err.message : err).slice(0, 300));
+      for (const k of Object.keys(timings)) if (k !== "manifest_ms" && !k.endsWith("_fetched_ms")) delete timings[k];
+    }
+  }
+
+  // ---- the plain boot: start CPython, install the wheel ----
+  if (!py) {
+    py = await startPython();
+    mark("python_started_ms");
+    status("core", `installing the tamis core (${INSTALL_MODE})`, 0.7);
+    await Promise.race([aborted, installCore(py, manifest)]);
+    candidate = py.pyimport("tamis.api").handle;
+    mark("core_installed_ms");
+    status("selftest", "checking the core", 0.9);
+    coreVersion = selfTestVersion(candidate, manifest);
+    goldenName = await selfTestGolden(candidate, manifest);
+  }
   handle = candidate;  // requests are answered only once the self-test passed
   mark("selftest_ms");
   timings.total_ms = timings.selftest_ms;
   post({
     type: "status", stage: "ready", progress: 1, ready: true, error: null,
-    detail: `Pyodide ${py.version} ready, tamis core ${coreVersion}` + (goldenName ? `, self-test ${goldenName} passed` : ""),
-    timings, install: INSTALL_MODE, core_version: coreVersion, build_version: manifest.version,
+    detail: `Pyodide ${py.version} ready${bootPath === "snapshot" ? " (from its saved state)" : ""}, ` +
+      `tamis core ${coreVersion}` + (goldenName ? `, self-test ${goldenName} passed` : ""),
+    timings, install: bootPath === "snapshot" ? "snapshot" : INSTALL_MODE, core_version: coreVersion,
+    build_version: manifest.version, worker_time_origin: performance.timeOrigin, worker_script_ms: Math.round(t0),
+    boot: bootPath, snapshot_fallback: fallback, snapshot_fallback_detail: fallbackDetail,
   });
   while (queue.length) {
     const msg = queue.shift();
@@ -329,11 +494,105 @@ async function boot() {
     } catch (err) {
       console.warn(`tamis: warming up the core failed: ${err && err.message ? err.message : err}`);
     }
+    if (bootPath === "plain" && !SNAPSHOT_OFF && manifest.pyodide_build_id) makeSnapshotLater(key);
   }, 0);
+}
+
+// ---- making the snapshot (after a plain boot), in a second, short-lived worker ----------------------
+// Messages to the page: {type: "snapshot", state: "waiting"|"making"|"saved"|"failed"|"skipped", reason?,
+// detail?, stored_bytes?, raw_bytes?, ms?}. Nothing of it is shown to the user: a snapshot that cannot be
+// made or kept only means the next boot is plain again.
+const IDLE_BEFORE_MAKING_MS = 1000;  // no request for this long before the second worker starts
+
+function tellSnapshot(state, extra = {}) {
+  post({ type: "snapshot", state, ...extra });
+}
+
+async function makeSnapshotLater(key) {
+  if (typeof Worker !== "function") { tellSnapshot("skipped", { reason: "no nested workers here" }); return; }
+  const state = await snapshots.readState(SITE);
+  if (state.key === key && state.refused >= 2) {
+    tellSnapshot("skipped", { reason: "refused twice on this device for this build" });
+    return;
+  }
+  tellSnapshot("waiting");
+  while (performance.now() - lastRequestAt < IDLE_BEFORE_MAKING_MS) {
+    await new Promise((resolve) => setTimeout(resolve, IDLE_BEFORE_MAKING_MS - (performance.now() - lastRequestAt) + 10));
+  }
+  const run = async () => {
+    const again = await snapshots.lookUp(SITE, key);  // another tab may have made it meanwhile
+    if (again.found) { tellSnapshot("saved", { reason: "made by another page", stored_bytes: again.storedBytes }); return; }
+    tellSnapshot("making");
+    const url = new URL(import.meta.url);
+    url.searchParams.set("role", "snapshot");
+    url.searchParams.delete("sw");  // whether a service worker controls it or not, it reads this build's cache
+    const maker = new Worker(url, { type: "module", name: "tamis-snapshot" });
+    const outcome = await new Promise((resolve) => {
+      maker.addEventListener("message", (event) => {
+        const m = event.data || {};
+        if (m.type === "snapshot") resolve(m);
+      });
+      maker.addEventListener("error", (event) => {
+        event.preventDefault();
+        resolve({ type: "snapshot", state: "failed", reason: "worker", detail: event.message || "the snapshot worker failed" });
+      });
+    });
+    maker.terminate();
+    post(outcome);
+  };
+  try {
+    const locks = self.navigator && navigator.locks;
+    if (locks) {
+      await locks.request("tamis-snapshot-make", { ifAvailable: true }, (lock) =>
+        lock ? run() : tellSnapshot("skipped", { reason: "another page is making it" }));
+    } else {
+      await run();
+    }
+  } catch (err) {
+    tellSnapshot("failed", { reason: "worker", detail: String(err && err.message ? err.message : err) });
+  }
+}
+
+// role=snapshot: boots with _makeSnapshot, installs the wheel, imports every module, runs the same
+// self-test (strings only), then stores makeMemorySnapshot() under `key`.
+async function makeSnapshot(manifest, key, startPython) {
+  const t = performance.now();
+  let reason = "boot";
+  try {
+    const py = await startPython({ _makeSnapshot: true });
+    const { bytes: wheel } = await fetchWheel(manifest);
+    py.unpackArchive(wheel, "wheel");
+    reason = "import";
+    py.runPython(BEFORE_SNAPSHOT);
+    reason = "selftest";
+    const candidate = py.pyimport("tamis.api").handle;
+    try {
+      selfTestVersion(candidate, manifest);
+      await selfTestGolden(candidate, manifest);
+    } finally {
+      candidate.destroy();
+    }
+    py.runPython("import gc; gc.collect()");
+    reason = "snapshot";
+    const snapshot = py.makeMemorySnapshot();
+    if (snapshots.headerBuildId(snapshot) !== manifest.pyodide_build_id) {
+      throw new Error("the snapshot's header names another runtime build than the manifest");
+    }
+    reason = "storage";
+    const stored = await snapshots.store(SITE, key, snapshot).catch((err) => {
+      if (err && err.name === "QuotaExceededError") reason = "quota";
+      throw err;
+    });
+    tellSnapshot("saved", { stored_bytes: stored, raw_bytes: snapshot.byteLength, ms: Math.round(performance.now() - t) });
+  } catch (err) {
+    tellSnapshot("failed", { reason, detail: String(err && err.message ? err.message : err).trim().split("\n").pop().slice(0, 300),
+      ms: Math.round(performance.now() - t) });
+  }
 }
 
 boot().catch((err) => {
   broken = String(err && err.message ? err.message : err);
+  if (ROLE === "snapshot") { tellSnapshot("failed", { reason: "boot", detail: broken }); return; }
   post({ type: "status", stage: "failed", detail: broken, progress: 0, ready: false, error: broken });
   post({ type: "fatal", error: broken });
   while (queue.length) answer(queue.shift().n, null);
