@@ -74,14 +74,8 @@ def test_number_fast_path_still_refuses_what_it_must():
 
 def _kezdi_worst_reading_every_candidate(curve, lo, hi):
     """The Kezdi scan as it was before the ranking by logarithm: every candidate read by size_at."""
-    cands = {lo, hi}
-    for _, p in curve.points:
-        for ps in ((p - 15.0) / 0.85, p / 0.85):
-            for x in (ps - 1e-7, ps, ps + 1e-7):
-                if lo <= x <= hi:
-                    cands.add(x)
     worst = None
-    for ps in sorted(cands):
+    for ps in sorted(st.kezdi_candidates(curve, lo, hi)):
         dc, df = size_at(curve, ps + 0.15 * (100.0 - ps)), size_at(curve, 0.85 * ps)
         if dc is None or df is None or df <= 0:
             continue

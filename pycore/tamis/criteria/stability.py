@@ -72,6 +72,18 @@ def _three_way(check_id: str, failed: bool, complete: bool, fail_msg: str, incom
 _KEZDI_LN_MARGIN = 1e-9
 
 
+def kezdi_candidates(curve: Curve, lo: float, hi: float) -> set[float]:
+    """The splits Ps in [lo, hi] where the Kezdi ratio can be largest: the ends, and each split where
+    Ps + 0.15 (100 - Ps) or 0.85 Ps meets a measured percentage, with 1e-7 either side (flat steps)."""
+    cands = {lo, hi}
+    for _, p in curve.points:
+        for ps in ((p - 15.0) / 0.85, p / 0.85):
+            for s in (ps - 1e-7, ps, ps + 1e-7):
+                if lo <= s <= hi:
+                    cands.add(s)
+    return cands
+
+
 def _kezdi_worst(curve: Curve, lo: float, hi: float):
     """(largest D'15c / d'85f, split Ps) over splits Ps in [lo, hi], or None.
 
@@ -79,12 +91,7 @@ def _kezdi_worst(curve: Curve, lo: float, hi: float):
     measured percentage, so the maximum is read at those splits (approached from both sides where the
     curve has flat steps) and at the ends: about 6 candidates per point, each read by bisection
     (:func:`tamis.lab.curve.size_at`), O(n log n) in all."""
-    cands = {lo, hi}
-    for _, p in curve.points:
-        for ps in ((p - 15.0) / 0.85, p / 0.85):
-            for s in (ps - 1e-7, ps, ps + 1e-7):
-                if lo <= s <= hi:
-                    cands.add(s)
+    cands = kezdi_candidates(curve, lo, hi)
     # The ratio is compared first through its logarithm (no exponential per candidate): a candidate whose
     # ln(D'15c / d'85f) lies more than _KEZDI_LN_MARGIN below the largest cannot hold the largest ratio, since
     # both are within a few units in the last place of the exact values. The few left are read as before
