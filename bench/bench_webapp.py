@@ -21,9 +21,9 @@
    a ratio, measured side by side in one run; beside it the first pass of
    each, the batch in one bridge call, and the core alone in Node Pyodide
    (``bench/bench_pyodide_core.mjs``).
-4. A first visit on a throttled link (5 Mbit/s, 100 ms latency, Playwright's
-   CDP ``Network.emulateNetworkConditions`` on the page, which its Python worker
-   shares): the time to a ready calculator and to "ready offline", how many
+4. A first visit on a throttled link (5 Mbit/s, 100 ms per response, one link
+   shared by every response of the server, ``serve.SlowLink``, so the page, its
+   Python worker and the service worker's precache all wait on it): the time to a ready calculator and to "ready offline", how many
    times the server sent each big runtime file (200 responses), and how many
    distinct progress figures the boot status showed before ready.
 
@@ -150,15 +150,13 @@ LINK = {"mbit_s": 5.0, "latency_ms": 100.0}
 
 def throttled_first_visit(browser, webapp: Path) -> dict:
     """First visit (empty cache) on the emulated slow link: ready, ready offline, downloads of the big files."""
-    site = helpers.Site(webapp=webapp)
+    # The server sends every response through one shared slow link (serve.SlowLink): the page, its Python
+    # worker and the service worker's precache all wait on it. (Chromium's CDP network emulation of the page
+    # covered the page and its worker but not the service worker, whose precache then ran at full speed.)
+    site = helpers.Site(webapp=webapp, link=helpers.serve.SlowLink(LINK["mbit_s"] * 1e6 / 8, LINK["latency_ms"] / 1000))
     try:
         context = browser.new_context()
         page = context.new_page()
-        cdp = context.new_cdp_session(page)
-        cdp.send("Network.enable")
-        rate = LINK["mbit_s"] * 1e6 / 8
-        cdp.send("Network.emulateNetworkConditions", {"offline": False, "latency": LINK["latency_ms"],
-                                                      "downloadThroughput": rate, "uploadThroughput": rate})
         t0 = time.perf_counter()
         page.goto(site.page_url())
         helpers.wait_worker_ready(page, timeout_ms=600_000)
@@ -372,7 +370,7 @@ def main(argv: list[str] | None = None) -> int:
             batch_figures(browser, webapps, args.batch)
             if not args.no_throttled:
                 print(f"first visit on a throttled link ({LINK['mbit_s']:g} Mbit/s, {LINK['latency_ms']:g} ms, "
-                      "CDP emulation of the page and its worker):")
+                      "the server's link, shared by the page, its worker and the service worker):")
                 for name, webapp in webapps.items():
                     f = throttled_first_visit(browser, webapp)
                     sent = ", ".join(f"{p.rsplit('/', 1)[-1]} x{n}" for p, n in f["sent"].items())

@@ -62,11 +62,12 @@ def _sha256(path: Path) -> str:
 class Site:
     """The built app served on 127.0.0.1, plus the e2e test pages."""
 
-    def __init__(self, with_test_pages: bool = True, webapp: Path = WEBAPP):
-        """``webapp``: the built site to serve (another build's, e.g. a baseline's for a benchmark)."""
+    def __init__(self, with_test_pages: bool = True, webapp: Path = WEBAPP, link=None):
+        """``webapp``: the built site to serve (another build's, e.g. a baseline's for a benchmark);
+        ``link``: a ``serve.SlowLink`` every response goes through (benchmarks of a slow link)."""
         self.base_manifest = read_manifest(webapp)
         mounts = {TEST_PREFIX: TEST_PAGES} if with_test_pages else {}
-        self.server = serve.StaticServer(webapp, "127.0.0.1", 0, mounts=mounts).start()
+        self.server = serve.StaticServer(webapp, "127.0.0.1", 0, mounts=mounts, link=link).start()
         self.with_test_pages = with_test_pages
         self.version = self.base_manifest["version"]
         self._serve_manifest(self.version)

@@ -18,6 +18,8 @@ Also a small library for the e2e tests and benchmarks::
     server.url, server.requests             # request log: (method, path)
     server.statuses                         # response log: (path, status)
     server.stop()
+
+    StaticServer(port=0, link=SlowLink(5e6 / 8, 0.1))   # every response through one slow link (benchmarks)
 """
 
 from __future__ import annotations
@@ -27,6 +29,7 @@ import http.server
 import posixpath
 import sys
 import threading
+import time
 import urllib.parse
 from pathlib import Path
 
@@ -68,10 +71,40 @@ MIME = {
 NO_CACHE = {"/sw.js", "/vendor/build.js", "/vendor/manifest.json"}
 
 
+class SlowLink:
+    """One slow link shared by every response of a server (benchmarks): ``latency_s`` before each response
+    (a round trip), then the bodies of all responses under way share ``bytes_per_s``, sent in 16 KiB pieces
+    in the order they are ready. It stands for the phone's link as a whole, so the page, its workers and the
+    service worker's precache all wait on it (a browser's own network emulation covers some of them only)."""
+
+    PIECE = 16 * 1024
+
+    def __init__(self, bytes_per_s: float, latency_s: float):
+        self.bytes_per_s = float(bytes_per_s)
+        self.latency_s = float(latency_s)
+        self._lock = threading.Lock()
+        self._free_at = 0.0   # when the link has sent everything handed to it so far (time.monotonic)
+
+    def wait_latency(self) -> None:
+        time.sleep(self.latency_s)
+
+    def send(self, out, data: bytes) -> None:
+        view = memoryview(data)
+        for i in range(0, len(view), self.PIECE):
+            piece = view[i:i + self.PIECE]
+            with self._lock:
+                start = max(time.monotonic(), self._free_at)
+                self._free_at = start + len(piece) / self.bytes_per_s
+                done = self._free_at
+            time.sleep(max(0.0, done - time.monotonic()))
+            out.write(piece)
+
+
 def make_handler(root: Path, mounts: dict[str, Path], overrides: dict[str, tuple],
-                 requests: list, quiet: bool, statuses: list | None = None):
+                 requests: list, quiet: bool, statuses: list | None = None, link: SlowLink | None = None):
     """A request handler class bound to one server's folders, overrides and log
-    (``statuses``: (path, HTTP status) of each response, when given)."""
+    (``statuses``: (path, HTTP status) of each response, when given; ``link``: every response sent
+    through that :class:`SlowLink`)."""
 
     class Handler(http.server.SimpleHTTPRequestHandler):
         extensions_map = {**http.server.SimpleHTTPRequestHandler.extensions_map, **MIME}
@@ -92,6 +125,8 @@ def make_handler(root: Path, mounts: dict[str, Path], overrides: dict[str, tuple
             return super().translate_path(path)
 
         def send_response(self, code, message=None):
+            if link is not None:
+                link.wait_latency()
             if statuses is not None and getattr(self, "path", None) is not None:
                 statuses.append((self._path_only(), code))
             super().send_response(code, message)
@@ -108,9 +143,17 @@ def make_handler(root: Path, mounts: dict[str, Path], overrides: dict[str, tuple
                 self.send_header("Content-Type", ctype)
                 self.send_header("Content-Length", str(len(body)))
                 self.end_headers()
-                self.wfile.write(body)
+                if link is not None:
+                    link.send(self.wfile, body)
+                else:
+                    self.wfile.write(body)
                 return
             super().do_GET()
+
+        def copyfile(self, source, outputfile):
+            if link is None:
+                return super().copyfile(source, outputfile)
+            link.send(outputfile, source.read())
 
         def do_HEAD(self):
             requests.append((self.command, self.path))
@@ -142,14 +185,15 @@ class StaticServer:
     """
 
     def __init__(self, root: Path = WEBAPP, host: str = "127.0.0.1", port: int = 0,
-                 mounts: dict[str, Path] | None = None, quiet: bool = True):
+                 mounts: dict[str, Path] | None = None, quiet: bool = True, link: SlowLink | None = None):
         self.root = Path(root)
         self.host = host
         self.requests: list[tuple[str, str]] = []
         #: (path, status) of each response: a 200 is a download, a 304 a confirmation of the HTTP cache
         self.statuses: list[tuple[str, int]] = []
         self.overrides: dict[str, tuple] = {}
-        handler = make_handler(self.root, dict(mounts or {}), self.overrides, self.requests, quiet, self.statuses)
+        handler = make_handler(self.root, dict(mounts or {}), self.overrides, self.requests, quiet, self.statuses,
+                               link)
         self.httpd = http.server.ThreadingHTTPServer((host, port), handler)
         self.httpd.daemon_threads = True
         self.port = self.httpd.server_address[1]
