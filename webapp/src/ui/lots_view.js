@@ -37,8 +37,9 @@ const inLot = (r) => r.kind === "lot" || (r.kind === "test" && Boolean(r.meta?.l
  * (only what the op reads is sent, so a device with thousands of tests in no
  * lot is not slowed). The tests in no lot are counted here, as the op would.
  */
-export async function summarise(fields = {}, { trends = true } = {}) {
-  const all = await listRecords({ includeDeleted: true });
+export async function summarise(fields = {}, { trends = true, all = null } = {}) {
+  // `all`: the device's records with the deleted ones, when the caller has already read them
+  all = all || await listRecords({ includeDeleted: true });
   // retests are sent too: a retest replaces its original in the counts even when it names no lot
   const records = all.filter((r) => inLot(r) || (r.kind === "test" && r.meta?.retest_of) || (trends && (r.kind === "band" || r.kind === "base")));
   const resp = await ask("lot_summary", { records, as_of: todayUtc(), ...(trends ? {} : { trends: false }), ...fields });
@@ -74,10 +75,12 @@ function ruleText(rule) {
  * The Records screen's warning: lots where testing is due or overdue (lot_summary
  * without trends: only counting). Fills `box` and resolves with the due list.
  */
-export async function dueWarning(box) {
-  const all = await listRecords({ includeDeleted: true });
+/** The "Testing due" card; `all`: the records (deleted ones too) the Records screen has already read, so
+ * they are not read and deserialised a second time beside the list being drawn. */
+export async function dueWarning(box, all = null) {
+  all = all || await listRecords({ includeDeleted: true });
   if (!all.some(inLot)) { box.hidden = true; return []; } // no lot on the device: nothing is asked of the core
-  const { resp } = await summarise({}, { trends: false });
+  const { resp } = await summarise({}, { trends: false, all });
   if (!resp.ok) { fill(box, h("p", { class: "core-error", text: `Lots could not be counted: ${errorText(resp)}` })); box.hidden = false; return []; }
   const due = resp.result.due;
   if (!due.length) { box.hidden = true; return []; }

@@ -170,7 +170,7 @@ export async function recordsScreen(app, view) {
   let left = false;
   app.leaving?.push(() => { left = true; seen?.disconnect(); clearTimeout(searchTimer); });
   draw();
-  dueWarning(dueBox).catch((err) => console.error(err));
+  dueWarning(dueBox, all).catch((err) => console.error(err));
 
   const onProgress = (map, done, total, ids) => {
     verdicts = map;
