@@ -37,11 +37,16 @@ const RESTORE_LIMIT_MS = Number(new URLSearchParams(self.location.search).get("s
 let restoreTimer = null;
 let restoredOnce = false;
 
+/** Calls each listener of `set` with `value`; a listener that throws is logged, the others still run. */
+function notify(set, value) {
+  for (const cb of set) {
+    try { cb(value); } catch (err) { console.error(err); }
+  }
+}
+
 function setStatus(next) {
   status = { ...next };
-  for (const cb of listeners) {
-    try { cb(status); } catch (err) { console.error(err); }
-  }
+  notify(listeners, status);
 }
 
 function fail(message) {
@@ -94,9 +99,7 @@ function onMessage(event) {
     fail(msg.error);
   } else if (msg.type === "snapshot") {
     snapshotState = { ...msg };
-    for (const cb of snapshotListeners) {
-      try { cb({ ...snapshotState }); } catch (err) { console.error(err); }
-    }
+    for (const cb of snapshotListeners) notify([cb], { ...snapshotState });
   }
 }
 
@@ -177,7 +180,7 @@ export async function call(op, fields = {}, { key } = {}) {
 export function onStatus(cb) {
   listeners.add(cb);
   start();
-  try { cb(status); } catch (err) { console.error(err); }
+  notify([cb], status);
   return () => listeners.delete(cb);
 }
 
@@ -196,9 +199,7 @@ export function whenReady() {
 export function onSnapshot(cb) {
   snapshotListeners.add(cb);
   start();
-  if (snapshotState) {
-    try { cb({ ...snapshotState }); } catch (err) { console.error(err); }
-  }
+  if (snapshotState) notify([cb], { ...snapshotState });
   return () => snapshotListeners.delete(cb);
 }
 
